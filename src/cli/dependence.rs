@@ -1,0 +1,104 @@
+//! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n.
+
+use crate::data::fingerprint::sha256_file;
+use crate::data::{read_csv, LoadOptions};
+use crate::error::{Error, Result};
+use crate::search::SearchData;
+use clap::Args;
+use std::path::PathBuf;
+
+/// Arguments of `dependence`.
+#[derive(Debug, Args)]
+pub struct DependenceArgs {
+    /// The CSV file.
+    pub data: PathBuf,
+    /// The response column Y.
+    #[arg(long)]
+    pub response: String,
+    /// The columns Z whose information about Y is measured (comma-separated).
+    #[arg(long, required = true, value_name = "COLS")]
+    pub on: Vec<String>,
+    /// The conditioning columns X (comma-separated; none for the unconditional coefficient).
+    #[arg(long, value_name = "COLS")]
+    pub given: Vec<String>,
+    /// Seed of the nearest-neighbour tie-breaks.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Predictor scaling: rank, standardize or none.
+    #[arg(long, default_value = "rank")]
+    pub scaling: String,
+    /// Print JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `dependence`.
+pub fn run(args: DependenceArgs) -> Result<()> {
+    let scaling = super::analyze::parse_scaling(&args.scaling)?;
+    let options = LoadOptions::default();
+    let raw = read_csv(&args.data, &options)?;
+    let response = raw.require_column(&args.response, "response")?;
+    let on = super::split_names(&args.on);
+    let given = super::split_names(&args.given);
+    let mut used = vec![response];
+    for (names, role) in [(&on, "--on"), (&given, "--given")] {
+        for name in names {
+            let j = raw.require_column(name, role)?;
+            if used.contains(&j) {
+                return Err(Error::input(format!("column '{name}' is named twice; each column may appear once")));
+            }
+            used.push(j);
+        }
+    }
+    let (sha, size) = sha256_file(&args.data)?;
+    let (table, report) = raw.prepare(&used, response, Vec::new(), size, sha, &options)?;
+    if let Some(c) = report.constant_columns.first() {
+        return Err(Error::input(format!(
+            "{}, column '{c}': the column is constant on the rows used, so it carries no information",
+            report.file
+        )));
+    }
+    let data = SearchData::new(&table, scaling, args.seed, 0);
+    let idx = |name: &String| table.index_of(name).expect("prepared table keeps every used column");
+    let y = idx(&args.response);
+    let z: Vec<usize> = on.iter().map(idx).collect();
+    let x: Vec<usize> = given.iter().map(idx).collect();
+    let xz: Vec<usize> = x.iter().chain(&z).copied().collect();
+    let ratio = crate::measure::conditional_dependence(
+        data.raw(y),
+        &data.space(&z),
+        &data.space(&x),
+        &data.neighbour_key(y, &x),
+        &data.neighbour_key(y, &xz),
+    );
+    if args.json {
+        let value = serde_json::json!({
+            "response": args.response, "on": on, "given": given, "rows_used": report.rows_used,
+            "t_n": ratio.value(), "numerator": ratio.numerator, "denominator": ratio.denominator,
+            "response_is_function_of_given": ratio.denominator == 0,
+            "seed": args.seed, "scaling": scaling.name(),
+        });
+        println!("{}", serde_json::to_string_pretty(&value).expect("plain JSON"));
+    } else {
+        let given_text = if given.is_empty() { String::new() } else { format!(" | {}", given.join(", ")) };
+        match ratio.value() {
+            Some(t) => println!(
+                "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
+                args.response,
+                on.join(", "),
+                ratio.numerator,
+                ratio.denominator,
+                report.rows_used
+            ),
+            None => println!(
+                "T_n({}, {}{given_text}) is undefined: '{}' is a function of the conditioning set on \
+                 these data (denominator 0, n = {})",
+                args.response,
+                on.join(", "),
+                args.response,
+                report.rows_used
+            ),
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,77 @@
+//! Command-line layer: argument definitions and one function per subcommand. No statistics here.
+
+pub mod analyze;
+pub mod demo;
+pub mod dependence;
+
+use crate::analysis::Progress;
+use clap::{Parser, Subcommand};
+
+/// forebear: which measured variables directly drive an outcome, how stable that is, and a dossier
+/// a reviewer can re-run.
+#[derive(Debug, Parser)]
+#[command(name = "forebear", version, about, long_about = None)]
+pub struct Cli {
+    /// The subcommand.
+    #[command(subcommand)]
+    pub command: Command,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<usize>,
+    /// No progress messages on stderr.
+    #[arg(long, global = true)]
+    pub quiet: bool,
+}
+
+/// Subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Search the direct causes (parents) of a target column and write the dossier.
+    Analyze(analyze::AnalyzeArgs),
+    /// Print the conditional dependence coefficient T_n(response, on | given).
+    Dependence(dependence::DependenceArgs),
+    /// Write the built-in demo data and analyse it.
+    Demo(demo::DemoArgs),
+}
+
+/// Progress on stderr, unless `--quiet`.
+pub struct Stderr {
+    /// Suppress messages.
+    pub quiet: bool,
+}
+
+impl Progress for Stderr {
+    fn say(&self, message: &str) {
+        if !self.quiet {
+            eprintln!("forebear: {message}");
+        }
+    }
+}
+
+/// Parses comma-separated names, dropping empty entries and surrounding spaces.
+pub fn split_names(list: &[String]) -> Vec<String> {
+    list.iter()
+        .flat_map(|s| s.split(','))
+        .map(|s| s.trim().to_string())
+        .filter(|s| !s.is_empty())
+        .collect()
+}
+
+/// Runs the parsed command line.
+pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
+    if let Some(threads) = cli.threads {
+        if threads == 0 {
+            return Err(crate::error::Error::input("--threads must be at least 1"));
+        }
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build_global()
+            .map_err(|e| crate::error::Error::internal(format!("cannot start {threads} threads: {e}")))?;
+    }
+    let progress = Stderr { quiet: cli.quiet };
+    match cli.command {
+        Command::Analyze(args) => analyze::run(args, argv, &progress),
+        Command::Dependence(args) => dependence::run(args),
+        Command::Demo(args) => demo::run(args, &progress),
+    }
+}

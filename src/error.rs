@@ -1,0 +1,41 @@
+//! The error type shared by every command, and its mapping to exit codes.
+
+use thiserror::Error;
+
+/// Everything that can stop a command. Each message is one sentence for the user.
+#[derive(Debug, Error)]
+pub enum Error {
+    /// Bad usage or bad input (exit code 2): the user can fix it.
+    #[error("{0}")]
+    Input(String),
+    /// Verification found a difference or a batch found drift (exit code 1).
+    #[error("{0}")]
+    Mismatch(String),
+    /// A failure that is not the user's fault (exit code 3).
+    #[error("internal error: {0}")]
+    Internal(String),
+}
+
+impl Error {
+    /// Shorthand for an input error.
+    pub fn input(message: impl Into<String>) -> Self {
+        Error::Input(message.into())
+    }
+
+    /// Shorthand for an internal error.
+    pub fn internal(message: impl Into<String>) -> Self {
+        Error::Internal(message.into())
+    }
+
+    /// The process exit code of DESIGN.md's command-line contract.
+    pub fn exit_code(&self) -> i32 {
+        match self {
+            Error::Mismatch(_) => 1,
+            Error::Input(_) => 2,
+            Error::Internal(_) => 3,
+        }
+    }
+}
+
+/// Result alias used across the crate.
+pub type Result<T> = std::result::Result<T, Error>;

@@ -1,0 +1,111 @@
+//! The result model: one serde structure of everything found, read by every renderer.
+
+use crate::data::DataReport;
+use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
+use crate::search::parents::Diagnostics;
+use crate::study::Study;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// Version of the `result.json` layout.
+pub const SCHEMA: &str = "forebear.result/1";
+
+/// Tool identity.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct ToolInfo {
+    /// Program name.
+    pub name: String,
+    /// Crate version.
+    pub version: String,
+}
+
+impl ToolInfo {
+    /// This build.
+    pub fn current() -> Self {
+        ToolInfo { name: "forebear".into(), version: env!("CARGO_PKG_VERSION").into() }
+    }
+}
+
+/// Facts about the run that do not belong to the findings and are excluded from the digest.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct RunInfo {
+    /// Start time, UTC, RFC 3339.
+    pub started_utc: String,
+    /// Wall-clock seconds.
+    pub duration_seconds: f64,
+    /// Worker threads.
+    pub threads: usize,
+    /// The data path as given.
+    pub data_path: String,
+    /// The command line that produced this result.
+    pub command_line: Vec<String>,
+}
+
+/// Everything found for one target.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Finding {
+    /// Layout version.
+    pub schema: String,
+    /// Tool identity.
+    pub tool: ToolInfo,
+    /// Data provenance and what was dropped.
+    pub data: DataReport,
+    /// Validated settings.
+    pub settings: Study,
+    /// The target column.
+    pub target: String,
+    /// MB(target) in selection order.
+    pub markov_boundary: Vec<String>,
+    /// Every step of the target's selection.
+    pub trace: Vec<Step>,
+    /// Why the target's selection stopped.
+    pub stop: StopReason,
+    /// The selection of every member's own boundary.
+    pub boundaries: BTreeMap<String, Selection>,
+    /// Mutual-membership edges.
+    pub edges: Vec<[String; 2]>,
+    /// Components with their tests.
+    pub components: Vec<Component>,
+    /// The conclusion.
+    pub outcome: Outcome,
+    /// Candidate parent sets (see `outcome`).
+    pub parent_sets: Vec<Vec<String>>,
+    /// The conclusion in plain words.
+    pub explanation: String,
+    /// What the data show against the assumptions.
+    pub diagnostics: Diagnostics,
+    /// Resampling stability; `null` without resampling.
+    pub stability: Option<serde_json::Value>,
+    /// Run metadata (excluded from the digest).
+    pub run: RunInfo,
+    /// SHA-256 of the canonical JSON of the findings (see `manifest::digest`).
+    pub digest: String,
+}
+
+impl Finding {
+    /// Assembles a finding and computes its digest.
+    pub fn new(data: DataReport, settings: Study, search: ParentSearch, run: RunInfo) -> Finding {
+        let mut finding = Finding {
+            schema: SCHEMA.into(),
+            tool: ToolInfo::current(),
+            data,
+            settings,
+            target: search.target,
+            markov_boundary: search.markov_boundary.selected,
+            trace: search.markov_boundary.steps,
+            stop: search.markov_boundary.stop,
+            boundaries: search.boundaries,
+            edges: search.edges,
+            components: search.components,
+            outcome: search.outcome,
+            parent_sets: search.parent_sets,
+            explanation: search.explanation,
+            diagnostics: search.diagnostics,
+            stability: None,
+            run,
+            digest: String::new(),
+        };
+        finding.digest = crate::manifest::digest(&finding);
+        finding
+    }
+}

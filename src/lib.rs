@@ -1,0 +1,19 @@
+//! forebear: nonparametric local causal search with a dossier a reviewer can re-run.
+//!
+//! Data flow (DESIGN.md): `data` reads and validates a CSV; `study` validates settings; `search`
+//! runs forward selection and parent recovery on the coefficients of `measure`; the result is one
+//! `finding::Finding`, rendered by `report` and digested by `manifest`.
+
+pub mod analysis;
+pub mod cli;
+pub mod data;
+pub mod demo;
+pub mod error;
+pub mod finding;
+pub mod manifest;
+pub mod measure;
+pub mod report;
+pub mod rng;
+pub mod search;
+pub mod study;
+pub mod timefmt;

@@ -1,0 +1,139 @@
+//! The conditional dependence coefficient T_n of Azadkia and Chatterjee (Ann. Statist. 2021,
+//! "A simple measure of conditional dependence"), computed exactly in integers.
+//!
+//! With R_i = #{j : Y_j ≤ Y_i}, L_i = #{j : Y_j ≥ Y_i}, N(i) the nearest neighbour of X_i and M(i)
+//! the nearest neighbour of (X_i, Z_i):
+//! - X non-empty: T_n = Σ(min(R_i, R_M(i)) − min(R_i, R_N(i))) / Σ(R_i − min(R_i, R_N(i)));
+//! - X empty:     T_n = Σ(n·min(R_i, R_M(i)) − L_i²) / Σ L_i(n − L_i).
+
+use super::neighbors::nearest_neighbours;
+use super::ranks::{at_least_counts, at_most_counts};
+use crate::rng::Key;
+use serde::Serialize;
+
+/// The ranks of the response that every T_n of one search shares.
+#[derive(Clone, Debug)]
+pub struct TargetRanks {
+    at_most: Vec<u32>,
+    at_least: Vec<u32>,
+}
+
+impl TargetRanks {
+    /// R and L of a response column.
+    pub fn new(y: &[f64]) -> Self {
+        TargetRanks { at_most: at_most_counts(y), at_least: at_least_counts(y) }
+    }
+
+    /// Number of rows.
+    pub fn n(&self) -> usize {
+        self.at_most.len()
+    }
+
+    /// The denominator of T_n: Σ L_i(n − L_i) with X empty, Σ(R_i − min(R_i, R_N(i))) otherwise.
+    /// It depends on the conditioning set only, so one value serves every candidate of a step.
+    pub fn denominator(&self, conditioning: Option<&[u32]>) -> i128 {
+        let n = self.n() as i128;
+        match conditioning {
+            None => self.at_least.iter().map(|&l| l as i128 * (n - l as i128)).sum(),
+            Some(nn) => self
+                .at_most
+                .iter()
+                .zip(nn)
+                .map(|(&r, &j)| (r - r.min(self.at_most[j as usize])) as i128)
+                .sum(),
+        }
+    }
+
+    /// The numerator of T_n given the joint neighbours M and, for non-empty X, the neighbours N.
+    pub fn numerator(&self, conditioning: Option<&[u32]>, joint: &[u32]) -> i128 {
+        let r = &self.at_most;
+        let n = self.n() as i128;
+        match conditioning {
+            None => r
+                .iter()
+                .zip(&self.at_least)
+                .zip(joint)
+                .map(|((&ri, &li), &m)| n * ri.min(r[m as usize]) as i128 - (li as i128) * (li as i128))
+                .sum(),
+            Some(nn) => r
+                .iter()
+                .zip(joint)
+                .zip(nn)
+                .map(|((&ri, &m), &j)| ri.min(r[m as usize]) as i128 - ri.min(r[j as usize]) as i128)
+                .sum(),
+        }
+    }
+}
+
+/// T_n as an exact ratio of integer sums.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub struct Ratio {
+    /// Σ of the numerator terms.
+    pub numerator: i128,
+    /// Σ of the denominator terms; zero when the response is a function of the conditioning set.
+    pub denominator: i128,
+}
+
+impl Ratio {
+    /// The value, or `None` when the denominator is zero: the response is (empirically) a function
+    /// of the conditioning set and T_n is undefined.
+    pub fn value(&self) -> Option<f64> {
+        (self.denominator != 0).then(|| self.numerator as f64 / self.denominator as f64)
+    }
+}
+
+/// T_n(Y, Z | X) for response `y`, columns `z` and conditioning columns `x` (possibly none).
+/// `key_x` and `key_xz` key the tie-breaks of the neighbour searches in X and in (X, Z).
+pub fn conditional_dependence(
+    y: &[f64],
+    z: &[&[f64]],
+    x: &[&[f64]],
+    key_x: &Key,
+    key_xz: &Key,
+) -> Ratio {
+    let ranks = TargetRanks::new(y);
+    let conditioning = (!x.is_empty()).then(|| nearest_neighbours(x, key_x));
+    let joint_columns: Vec<&[f64]> = x.iter().chain(z).copied().collect();
+    let joint = nearest_neighbours(&joint_columns, key_xz);
+    Ratio {
+        numerator: ranks.numerator(conditioning.as_deref(), &joint),
+        denominator: ranks.denominator(conditioning.as_deref()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn unconditional_denominator_is_the_sum_of_l_times_n_minus_l() {
+        // For untied y of length n, Σ_{k=1}^{n} k(n−k) = n(n²−1)/6 (elementary sum, common practice).
+        let y: Vec<f64> = (0..10).map(|v| v as f64).collect();
+        let ranks = TargetRanks::new(&y);
+        assert_eq!(ranks.denominator(None), 10 * 99 / 6);
+    }
+
+    #[test]
+    fn perfectly_monotone_pair_gives_t_close_to_one() {
+        // Y = Z exactly: each row's neighbour in Z is adjacent in rank, so T_n = 1 − O(1/n)
+        // (Azadkia and Chatterjee 2021, Theorem 2.1: T = 1 when Y is a function of Z).
+        let z: Vec<f64> = (0..200).map(|v| v as f64).collect();
+        let key = Key::new("t", 0).finish();
+        let t = conditional_dependence(&z, &[&z], &[], &key, &key).value().unwrap();
+        assert!(t > 0.97, "T_n = {t}");
+    }
+
+    #[test]
+    fn response_that_is_a_function_of_x_has_zero_denominator() {
+        let x: Vec<f64> = (0..50).map(|v| v as f64).collect();
+        let y: Vec<f64> = x.iter().map(|v| (v / 10.0).floor()).collect();
+        let z: Vec<f64> = x.iter().map(|v| (v * 7.0) % 13.0).collect();
+        let key = Key::new("t", 0).finish();
+        // With duplicated x rows, N(i) shares the y value of i, so every term R_i − min(R_i, R_N(i))
+        // is zero and T_n is undefined.
+        let x_dup: Vec<f64> = x.iter().map(|v| (v / 2.0).floor()).collect();
+        let ratio = conditional_dependence(&y, &[&z], &[&x_dup], &key, &key);
+        assert_eq!(ratio.denominator, 0);
+        assert_eq!(ratio.value(), None);
+    }
+}

@@ -1,0 +1,129 @@
+//! Forward stepwise selection with the natural stopping rule (Azadkia and Chatterjee 2021, FOCI):
+//! from S = ∅, add the candidate maximising T_n(Y, X_j | S); stop as soon as the best value is ≤ 0.
+//! Within a step every candidate's T_n shares one denominator, so the choice and the stop are
+//! decided on exact integer numerators.
+
+use super::SearchData;
+use crate::measure::neighbors::nearest_neighbours;
+use crate::measure::TargetRanks;
+use rayon::prelude::*;
+use serde::Serialize;
+
+/// One candidate's value at one step.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Score {
+    /// Candidate column.
+    pub column: String,
+    /// T_n(Y, candidate | conditioning set).
+    pub t_n: f64,
+    /// Exact numerator of T_n (the step's denominator is shared).
+    pub numerator: i128,
+}
+
+/// One step of the selection, with every remaining candidate's value.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Step {
+    /// 1-based step number.
+    pub step: usize,
+    /// The conditioning set S in selection order.
+    pub conditioning: Vec<String>,
+    /// Exact denominator of T_n at this step.
+    pub denominator: i128,
+    /// Every remaining candidate, best first (ties in candidate order).
+    pub candidates: Vec<Score>,
+    /// The candidate added, or `None` at the step that stopped.
+    pub chosen: Option<String>,
+    /// Best value minus runner-up value (absent with a single candidate).
+    pub margin: Option<f64>,
+}
+
+/// Why a selection ended.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum StopReason {
+    /// The natural stopping rule: the best T_n at the last step was ≤ 0.
+    NoPositiveGain {
+        /// The best value at the last step.
+        best_t_n: f64,
+    },
+    /// The response is empirically a function of the selected set: the denominator of T_n is zero,
+    /// so no candidate can add information.
+    ResponseIsFunctionOfSelected,
+    /// Every candidate was selected.
+    CandidatesExhausted,
+    /// There were no candidates at all.
+    NoCandidates,
+}
+
+/// The outcome of one forward selection.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Selection {
+    /// The response column.
+    pub response: String,
+    /// Selected columns in selection order: the estimated Markov boundary.
+    pub selected: Vec<String>,
+    /// Every step, including the one that stopped.
+    pub steps: Vec<Step>,
+    /// Why the selection ended.
+    pub stop: StopReason,
+}
+
+/// Runs forward selection for `response` over `candidates` (column positions).
+pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) -> Selection {
+    let ranks = TargetRanks::new(data.raw(response));
+    let mut selected: Vec<usize> = Vec::new();
+    let mut remaining: Vec<usize> = candidates.iter().copied().filter(|&j| j != response).collect();
+    let mut steps = Vec::new();
+    let name = |j: usize| data.name(j).to_string();
+    let stop = loop {
+        if remaining.is_empty() {
+            break if selected.is_empty() { StopReason::NoCandidates } else { StopReason::CandidatesExhausted };
+        }
+        let conditioning = (!selected.is_empty()).then(|| {
+            let key = data.neighbour_key(response, &selected);
+            nearest_neighbours(&data.space(&selected), &key)
+        });
+        let denominator = ranks.denominator(conditioning.as_deref());
+        if denominator == 0 {
+            break StopReason::ResponseIsFunctionOfSelected;
+        }
+        let mut scored: Vec<(usize, i128)> = remaining
+            .par_iter()
+            .map(|&j| {
+                let mut space = selected.clone();
+                space.push(j);
+                let key = data.neighbour_key(response, &space);
+                let joint = nearest_neighbours(&data.space(&space), &key);
+                (j, ranks.numerator(conditioning.as_deref(), &joint))
+            })
+            .collect();
+        // Best first; equal numerators keep candidate order (stable sort).
+        scored.sort_by(|a, b| b.1.cmp(&a.1));
+        let value = |num: i128| num as f64 / denominator as f64;
+        let (best, best_num) = scored[0];
+        let margin = scored.get(1).map(|&(_, second)| value(best_num) - value(second));
+        let gains = best_num > 0;
+        steps.push(Step {
+            step: steps.len() + 1,
+            conditioning: selected.iter().map(|&j| name(j)).collect(),
+            denominator,
+            candidates: scored
+                .iter()
+                .map(|&(j, num)| Score { column: name(j), t_n: value(num), numerator: num })
+                .collect(),
+            chosen: gains.then(|| name(best)),
+            margin,
+        });
+        if !gains {
+            break StopReason::NoPositiveGain { best_t_n: value(best_num) };
+        }
+        selected.push(best);
+        remaining.retain(|&j| j != best);
+    };
+    Selection {
+        response: name(response),
+        selected: selected.iter().map(|&j| name(j)).collect(),
+        steps,
+        stop,
+    }
+}

@@ -1,0 +1,78 @@
+//! The local parent search: forward selection with the natural stopping rule (FOCI, Azadkia and
+//! Chatterjee 2021) and parent recovery from mutual Markov-boundary membership (Azadkia, Taeb and
+//! Bühlmann, arXiv:2111.14969).
+
+pub mod forward;
+pub mod parents;
+
+pub use forward::{forward_select, Selection, Step, StopReason};
+pub use parents::{local_parents, Component, Outcome, PairTest, ParentSearch};
+
+use crate::data::Table;
+use crate::measure::Scaling;
+use crate::rng::Key;
+
+/// The columns one search works on: raw values (for response ranks and ξ_n) and scaled values
+/// (for nearest neighbours), by column position.
+pub struct SearchData<'a> {
+    table: &'a Table,
+    scaled: Vec<Vec<f64>>,
+    /// Study seed and replicate number: the coordinates of every keyed draw.
+    pub seed: u64,
+    /// Replicate number; 0 is the full data.
+    pub replicate: u64,
+}
+
+impl<'a> SearchData<'a> {
+    /// Scales every column of `table` once.
+    pub fn new(table: &'a Table, scaling: Scaling, seed: u64, replicate: u64) -> Self {
+        let scaled = (0..table.n_cols()).map(|j| scaling.apply(table.column(j))).collect();
+        SearchData { table, scaled, seed, replicate }
+    }
+
+    /// Column names.
+    pub fn names(&self) -> &[String] {
+        self.table.names()
+    }
+
+    /// Name of column `j`.
+    pub fn name(&self, j: usize) -> &str {
+        &self.table.names()[j]
+    }
+
+    /// Raw values of column `j`.
+    pub fn raw(&self, j: usize) -> &[f64] {
+        self.table.column(j)
+    }
+
+    /// Scaled values of the columns of a space.
+    pub fn space(&self, columns: &[usize]) -> Vec<&[f64]> {
+        columns.iter().map(|&j| self.scaled[j].as_slice()).collect()
+    }
+
+    /// Number of rows.
+    pub fn n_rows(&self) -> usize {
+        self.table.n_rows()
+    }
+
+    /// The key of the nearest-neighbour tie-breaks for `response` in the space of `columns`
+    /// (DESIGN.md: study seed, replicate, target, conditioning set and candidate; the set is
+    /// sorted, so the key does not depend on the order in which columns were selected).
+    pub fn neighbour_key(&self, response: usize, columns: &[usize]) -> Key {
+        let names: Vec<&str> = columns.iter().map(|&j| self.name(j)).collect();
+        Key::new("nearest-neighbour", self.seed)
+            .number(self.replicate)
+            .text(self.name(response))
+            .set(&names)
+            .finish()
+    }
+
+    /// The key of the tie-breaks in x of ξ_n(x, y).
+    pub fn xi_key(&self, x: usize, y: usize) -> Key {
+        Key::new("xi-tie-break", self.seed)
+            .number(self.replicate)
+            .text(self.name(x))
+            .text(self.name(y))
+            .finish()
+    }
+}

@@ -1,0 +1,384 @@
+//! Local parent recovery (Azadkia, Taeb and Bühlmann, "A fast non-parametric approach for local
+//! causal structure learning", arXiv:2111.14969): estimate MB(Y); estimate MB(X_i) for every member
+//! over all other columns (Y included); join i—j when each is in the other's boundary; a connected
+//! component of two or more pairwise marginally independent members is the parent set (a
+//! v-structure at Y). None passing: the parents are not identifiable. More than one: the assumptions
+//! fail and nothing is claimed.
+
+use super::forward::{forward_select, Selection, StopReason};
+use super::SearchData;
+use crate::measure::xi::{holm_adjust, xi_test, XiTest};
+use rayon::prelude::*;
+use serde::Serialize;
+use std::collections::{BTreeMap, BTreeSet};
+
+/// A selection margin below this is reported as a near-tie (our convention, not from a source).
+pub const NEAR_TIE_MARGIN: f64 = 0.01;
+
+/// Pairwise marginal independence of two members, tested with ξ_n in both directions.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct PairTest {
+    /// First member.
+    pub a: String,
+    /// Second member.
+    pub b: String,
+    /// ξ_n(a, b): how far b is a function of a. `None` when b is constant.
+    pub a_to_b: Option<XiTest>,
+    /// ξ_n(b, a).
+    pub b_to_a: Option<XiTest>,
+    /// Holm-adjusted p-value of `a_to_b` within the component.
+    pub a_to_b_holm: f64,
+    /// Holm-adjusted p-value of `b_to_a` within the component.
+    pub b_to_a_holm: f64,
+    /// Neither direction rejects independence at level α after adjustment.
+    pub independent: bool,
+}
+
+/// One connected component of the mutual-membership graph.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Component {
+    /// Members in their order of selection into MB(target).
+    pub members: Vec<String>,
+    /// Whether every pair of members is joined.
+    pub is_clique: bool,
+    /// Pairwise tests (members in selection order).
+    pub tests: Vec<PairTest>,
+    /// All pairs independent at level α.
+    pub pairwise_independent: bool,
+    /// Two or more members, pairwise independent: a candidate parent set.
+    pub passes: bool,
+}
+
+/// What the search concludes about the target's parents.
+#[derive(Clone, Copy, Debug, Serialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum Outcome {
+    /// Exactly one component passed: its members are the parents.
+    Identified,
+    /// No component passed: the parents cannot be told apart from children.
+    NotIdentifiable,
+    /// More than one component passed: the assumptions are violated; nothing is claimed.
+    Conflict,
+    /// The target's Markov boundary is empty.
+    EmptyBoundary,
+}
+
+impl Outcome {
+    /// The name used in `result.json`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Outcome::Identified => "identified",
+            Outcome::NotIdentifiable => "not_identifiable",
+            Outcome::Conflict => "conflict",
+            Outcome::EmptyBoundary => "empty_boundary",
+        }
+    }
+}
+
+/// A membership that holds in one direction only.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct OneWayMembership {
+    /// The column whose boundary contains `member`.
+    pub boundary_of: String,
+    /// The column in that boundary.
+    pub member: String,
+}
+
+/// A selection step whose winner beat the runner-up by less than `NEAR_TIE_MARGIN`.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct NearTie {
+    /// The response of the selection.
+    pub response: String,
+    /// Step number.
+    pub step: usize,
+    /// The chosen column.
+    pub chosen: String,
+    /// The runner-up.
+    pub runner_up: String,
+    /// The margin.
+    pub margin: f64,
+}
+
+/// What the data show against the assumptions.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Diagnostics {
+    /// Members of MB(target) whose own boundary lacks the target (should not happen under the
+    /// assumptions).
+    pub target_missing_from_member_boundary: Vec<String>,
+    /// Memberships between members that hold in one direction only.
+    pub one_way_memberships: Vec<OneWayMembership>,
+    /// Components (by index) that are not cliques.
+    pub non_clique_components: Vec<usize>,
+    /// Near-ties in any selection of this search.
+    pub near_ties: Vec<NearTie>,
+    /// The best T_n at the step where the target's selection stopped.
+    pub last_step_best_t_n: Option<f64>,
+    /// Responses that turned out to be functions of their selected sets.
+    pub functional_responses: Vec<String>,
+    /// The near-tie margin in force.
+    pub near_tie_margin: f64,
+}
+
+/// Everything the local parent search found for one target.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct ParentSearch {
+    /// The target column.
+    pub target: String,
+    /// The selection for the target: MB(target) and its trace.
+    pub markov_boundary: Selection,
+    /// The selection of every member of MB(target).
+    pub boundaries: BTreeMap<String, Selection>,
+    /// Mutual-membership edges between members (each pair once, in selection order).
+    pub edges: Vec<[String; 2]>,
+    /// Connected components of the mutual-membership graph.
+    pub components: Vec<Component>,
+    /// The conclusion.
+    pub outcome: Outcome,
+    /// Identified: the one parent set. Not identifiable: the singleton candidates.
+    pub parent_sets: Vec<Vec<String>>,
+    /// One paragraph in plain words.
+    pub explanation: String,
+    /// Diagnostics.
+    pub diagnostics: Diagnostics,
+}
+
+/// Runs the local parent search for `target` over `candidates` (column positions); every member's
+/// own boundary is searched over all columns of `data` except itself.
+pub fn local_parents(data: &SearchData, target: usize, candidates: &[usize], alpha: f64) -> ParentSearch {
+    let mb = forward_select(data, target, candidates);
+    let members: Vec<usize> = mb.selected.iter().map(|n| position(data, n)).collect();
+    let everything: Vec<usize> = (0..data.names().len()).collect();
+    let member_selections: Vec<Selection> =
+        members.par_iter().map(|&m| forward_select(data, m, &everything)).collect();
+    let boundary_sets: Vec<BTreeSet<&str>> =
+        member_selections.iter().map(|s| s.selected.iter().map(String::as_str).collect()).collect();
+
+    let k = members.len();
+    let mut adjacent = vec![vec![false; k]; k];
+    let mut edges = Vec::new();
+    let mut one_way = Vec::new();
+    for a in 0..k {
+        for b in (a + 1)..k {
+            let a_has_b = boundary_sets[a].contains(data.name(members[b]));
+            let b_has_a = boundary_sets[b].contains(data.name(members[a]));
+            if a_has_b && b_has_a {
+                adjacent[a][b] = true;
+                adjacent[b][a] = true;
+                edges.push([data.name(members[a]).to_string(), data.name(members[b]).to_string()]);
+            } else if a_has_b || b_has_a {
+                let (owner, member) = if a_has_b { (a, b) } else { (b, a) };
+                one_way.push(OneWayMembership {
+                    boundary_of: data.name(members[owner]).to_string(),
+                    member: data.name(members[member]).to_string(),
+                });
+            }
+        }
+    }
+    let components: Vec<Component> = connected_components(&adjacent)
+        .into_iter()
+        .map(|group| {
+            let columns: Vec<usize> = group.iter().map(|&g| members[g]).collect();
+            let is_clique = group.iter().all(|&a| group.iter().all(|&b| a == b || adjacent[a][b]));
+            test_component(data, &columns, is_clique, alpha)
+        })
+        .collect();
+
+    let passing: Vec<&Component> = components.iter().filter(|c| c.passes).collect();
+    let outcome = if k == 0 {
+        Outcome::EmptyBoundary
+    } else {
+        match passing.len() {
+            0 => Outcome::NotIdentifiable,
+            1 => Outcome::Identified,
+            _ => Outcome::Conflict,
+        }
+    };
+    let parent_sets: Vec<Vec<String>> = match outcome {
+        Outcome::Identified => vec![passing[0].members.clone()],
+        Outcome::NotIdentifiable => components
+            .iter()
+            .filter(|c| c.members.len() == 1)
+            .map(|c| c.members.clone())
+            .collect(),
+        _ => Vec::new(),
+    };
+    let target_name = data.name(target).to_string();
+    let explanation = explain(&target_name, outcome, &parent_sets, &components);
+    let diagnostics = diagnose(&target_name, &mb, &member_selections, one_way, &components);
+    ParentSearch {
+        target: target_name,
+        boundaries: member_selections.into_iter().map(|s| (s.response.clone(), s)).collect(),
+        markov_boundary: mb,
+        edges,
+        components,
+        outcome,
+        parent_sets,
+        explanation,
+        diagnostics,
+    }
+}
+
+fn position(data: &SearchData, name: &str) -> usize {
+    data.names().iter().position(|n| n == name).expect("selected names come from the data")
+}
+
+/// Components of an undirected graph, each listed in ascending vertex order; components ordered by
+/// their smallest vertex (vertices are in selection order, so this is deterministic and readable).
+fn connected_components(adjacent: &[Vec<bool>]) -> Vec<Vec<usize>> {
+    let k = adjacent.len();
+    let mut seen = vec![false; k];
+    let mut out = Vec::new();
+    for start in 0..k {
+        if seen[start] {
+            continue;
+        }
+        let mut group = vec![start];
+        seen[start] = true;
+        let mut frontier = vec![start];
+        while let Some(v) = frontier.pop() {
+            for w in 0..k {
+                if adjacent[v][w] && !seen[w] {
+                    seen[w] = true;
+                    group.push(w);
+                    frontier.push(w);
+                }
+            }
+        }
+        group.sort_unstable();
+        out.push(group);
+    }
+    out
+}
+
+fn test_component(data: &SearchData, columns: &[usize], is_clique: bool, alpha: f64) -> Component {
+    let mut raw_tests = Vec::new();
+    for (i, &a) in columns.iter().enumerate() {
+        for &b in &columns[i + 1..] {
+            let ab = xi_test(data.raw(a), data.raw(b), &data.xi_key(a, b));
+            let ba = xi_test(data.raw(b), data.raw(a), &data.xi_key(b, a));
+            raw_tests.push((a, b, ab, ba));
+        }
+    }
+    // An undefined direction (constant column) gives no evidence of dependence: p = 1.
+    let p: Vec<f64> = raw_tests
+        .iter()
+        .flat_map(|(_, _, ab, ba)| [ab.map_or(1.0, |t| t.p_value), ba.map_or(1.0, |t| t.p_value)])
+        .collect();
+    let adjusted = holm_adjust(&p);
+    let tests: Vec<PairTest> = raw_tests
+        .into_iter()
+        .enumerate()
+        .map(|(t, (a, b, ab, ba))| {
+            let (hab, hba) = (adjusted[2 * t], adjusted[2 * t + 1]);
+            PairTest {
+                a: data.name(a).to_string(),
+                b: data.name(b).to_string(),
+                a_to_b: ab,
+                b_to_a: ba,
+                a_to_b_holm: hab,
+                b_to_a_holm: hba,
+                independent: hab > alpha && hba > alpha,
+            }
+        })
+        .collect();
+    let pairwise_independent = tests.iter().all(|t| t.independent);
+    Component {
+        members: columns.iter().map(|&j| data.name(j).to_string()).collect(),
+        is_clique,
+        passes: columns.len() >= 2 && pairwise_independent,
+        pairwise_independent,
+        tests,
+    }
+}
+
+fn quoted(names: &[String]) -> String {
+    names.iter().map(|n| format!("'{n}'")).collect::<Vec<_>>().join(", ")
+}
+
+fn explain(target: &str, outcome: Outcome, parent_sets: &[Vec<String>], components: &[Component]) -> String {
+    match outcome {
+        Outcome::Identified => format!(
+            "The parents of '{target}' are identified as {}: these columns are each directly \
+             associated with '{target}', independent of each other, and jointly informative about \
+             it, a pattern (a v-structure) that only direct causes of '{target}' produce under the \
+             stated assumptions.",
+            quoted(&parent_sets[0])
+        ),
+        Outcome::NotIdentifiable => {
+            let singles: Vec<String> = parent_sets.iter().map(|s| s[0].clone()).collect();
+            if singles.is_empty() {
+                format!(
+                    "The parents of '{target}' are not identifiable from these data: no group of \
+                     its Markov-boundary members is pairwise independent, so causes cannot be told \
+                     apart from effects; no single column stands alone either."
+                )
+            } else {
+                format!(
+                    "The parents of '{target}' are not identifiable from these data. The candidates \
+                     {} are each directly associated with '{target}', but with at most one direct \
+                     cause the data look the same whether it points into '{target}' or out of it \
+                     (Markov equivalence). At most one of them is a parent, and possibly none; an \
+                     experiment or knowledge of time order would settle it.",
+                    quoted(&singles)
+                )
+            }
+        }
+        Outcome::Conflict => format!(
+            "The assumptions are in conflict: {} separate groups of columns each look like a parent \
+             set of '{target}', which cannot happen under a tree-shaped neighbourhood with no \
+             unmeasured common causes. Nothing is claimed about the parents of '{target}'.",
+            components.iter().filter(|c| c.passes).count()
+        ),
+        Outcome::EmptyBoundary => format!(
+            "No column carries information about '{target}' beyond chance: its estimated Markov \
+             boundary is empty, so no parent is claimed."
+        ),
+    }
+}
+
+fn diagnose(
+    target: &str,
+    mb: &Selection,
+    member_selections: &[Selection],
+    one_way_memberships: Vec<OneWayMembership>,
+    components: &[Component],
+) -> Diagnostics {
+    let target_missing_from_member_boundary = member_selections
+        .iter()
+        .filter(|s| !s.selected.iter().any(|n| n == target))
+        .map(|s| s.response.clone())
+        .collect();
+    let mut near_ties = Vec::new();
+    let mut functional_responses = Vec::new();
+    for selection in std::iter::once(mb).chain(member_selections) {
+        for step in &selection.steps {
+            if let (Some(chosen), Some(margin)) = (&step.chosen, step.margin) {
+                if margin < NEAR_TIE_MARGIN {
+                    near_ties.push(NearTie {
+                        response: selection.response.clone(),
+                        step: step.step,
+                        chosen: chosen.clone(),
+                        runner_up: step.candidates[1].column.clone(),
+                        margin,
+                    });
+                }
+            }
+        }
+        if selection.stop == StopReason::ResponseIsFunctionOfSelected {
+            functional_responses.push(selection.response.clone());
+        }
+    }
+    let last_step_best_t_n = match &mb.stop {
+        StopReason::NoPositiveGain { best_t_n } => Some(*best_t_n),
+        _ => None,
+    };
+    Diagnostics {
+        target_missing_from_member_boundary,
+        one_way_memberships,
+        non_clique_components: components.iter().enumerate().filter(|(_, c)| !c.is_clique).map(|(i, _)| i).collect(),
+        near_ties,
+        last_step_best_t_n,
+        functional_responses,
+        near_tie_margin: NEAR_TIE_MARGIN,
+    }
+}
