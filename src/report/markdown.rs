@@ -59,7 +59,10 @@ pub fn reproduce_command(finding: &Finding) -> String {
 }
 
 fn shell_quote(text: &str) -> String {
-    if text.chars().all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c)) {
+    if text
+        .chars()
+        .all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c))
+    {
         text.to_string()
     } else {
         format!("'{}'", text.replace('\'', r"'\''"))

@@ -20,10 +20,20 @@ pub fn renderers() -> Vec<Box<dyn Renderer>> {
     vec![Box::new(json::Json), Box::new(markdown::Markdown)]
 }
 
+/// Names a forebear output folder may hold besides the files being written now: what this and
+/// earlier layouts of the dossier write (DESIGN.md), so that re-running replaces them all.
+const DOSSIER_NAMES: [&str; 5] = [
+    "result.json",
+    "dossier.md",
+    "dossier.html",
+    "manifest.json",
+    "figures",
+];
+
 /// Writes every rendered file into `dir` as one step: the files are rendered first, written into a
 /// staging directory beside `dir`, and the staging directory is renamed into place. A failure at
-/// any point leaves no partial output. An existing `dir` is replaced only if it holds a previous
-/// forebear result (a `result.json`) or is empty.
+/// any point leaves no partial output. An existing `dir` is replaced only if it is empty or holds
+/// a previous forebear result and nothing else (see [`check_output_folder`]).
 pub fn write_dossier(finding: &Finding, dir: &Path) -> Result<()> {
     let rendered: Vec<(&'static str, String)> = renderers()
         .iter()
@@ -34,15 +44,19 @@ pub fn write_dossier(finding: &Finding, dir: &Path) -> Result<()> {
 
 /// Writes `files` (name, contents) into `dir` as one step, as described at [`write_dossier`].
 pub fn write_files_atomically(dir: &Path, files: &[(&str, String)]) -> Result<()> {
-    check_replaceable(dir)?;
-    let parent = dir.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    std::fs::create_dir_all(parent)
-        .map_err(|e| Error::input(format!("cannot create output folder '{}': {e}", parent.display())))?;
+    let extra: Vec<&str> = files.iter().map(|(name, _)| *name).collect();
+    check_replaceable(dir, &extra)?;
+    let parent = parent_of(dir);
+    std::fs::create_dir_all(parent).map_err(|e| {
+        Error::input(format!(
+            "cannot create output folder '{}': {e}",
+            parent.display()
+        ))
+    })?;
     let staging = sibling(dir, "partial");
     let result = (|| {
-        std::fs::create_dir(&staging).map_err(|e| {
-            Error::input(format!("cannot write into '{}': {e}", parent.display()))
-        })?;
+        std::fs::create_dir(&staging)
+            .map_err(|e| Error::input(format!("cannot write into '{}': {e}", parent.display())))?;
         for (name, text) in files {
             std::fs::write(staging.join(name), text)
                 .map_err(|e| Error::internal(format!("cannot write '{name}': {e}")))?;
@@ -55,7 +69,21 @@ pub fn write_files_atomically(dir: &Path, files: &[(&str, String)]) -> Result<()
     result
 }
 
-fn check_replaceable(dir: &Path) -> Result<()> {
+/// Checks, before any work is done, that `dir` can receive a dossier: it does not exist, or it is
+/// an empty folder, or a folder holding only a previous forebear result. Anything else would be
+/// deleted by the replacement, so it is refused.
+pub fn check_output_folder(dir: &Path) -> Result<()> {
+    let ours: Vec<&str> = renderers().iter().map(|r| r.file_name()).collect();
+    check_replaceable(dir, &ours)
+}
+
+fn check_replaceable(dir: &Path, also_ours: &[&str]) -> Result<()> {
+    if dir.file_name().is_none() {
+        return Err(Error::input(format!(
+            "the output folder '{}' has no name of its own; give --out a new folder such as 'results'",
+            dir.display()
+        )));
+    }
     if !dir.exists() {
         return Ok(());
     }
@@ -65,32 +93,81 @@ fn check_replaceable(dir: &Path) -> Result<()> {
             dir.display()
         )));
     }
-    let empty = std::fs::read_dir(dir).map(|mut d| d.next().is_none()).unwrap_or(false);
-    if empty || dir.join("result.json").exists() {
-        Ok(())
-    } else {
+    let entries: Vec<String> = std::fs::read_dir(dir)
+        .and_then(|d| {
+            d.map(|e| e.map(|e| e.file_name().to_string_lossy().into_owned()))
+                .collect()
+        })
+        .map_err(|e| {
+            Error::input(format!(
+                "cannot read the output folder '{}': {e}",
+                dir.display()
+            ))
+        })?;
+    if entries.is_empty() {
+        return Ok(());
+    }
+    let foreign = entries.iter().find(|name| {
+        !DOSSIER_NAMES.contains(&name.as_str()) && !also_ours.contains(&name.as_str())
+    });
+    let refuse = |why: String| {
         Err(Error::input(format!(
-            "the output folder '{}' already holds files that forebear did not write; choose another \
-             --out or empty it",
+            "the output folder '{}' {why}, which replacing the folder would delete; choose another --out \
+             or empty it",
             dir.display()
         )))
+    };
+    if let Some(name) = foreign {
+        return refuse(format!("holds '{name}', a file forebear did not write"));
     }
+    if !holds_forebear_result(&dir.join("result.json")) {
+        return refuse("holds files but no result.json written by forebear".to_string());
+    }
+    Ok(())
+}
+
+/// Whether `path` is a `result.json` that forebear wrote (its `schema` names a forebear layout).
+fn holds_forebear_result(path: &Path) -> bool {
+    let Ok(text) = std::fs::read_to_string(path) else {
+        return false;
+    };
+    serde_json::from_str::<serde_json::Value>(&text)
+        .ok()
+        .and_then(|v| {
+            v.get("schema")
+                .and_then(|s| s.as_str())
+                .map(|s| s.starts_with("forebear.result/"))
+        })
+        .unwrap_or(false)
+}
+
+fn parent_of(dir: &Path) -> &Path {
+    dir.parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."))
 }
 
 fn sibling(dir: &Path, tag: &str) -> PathBuf {
-    let name = dir.file_name().map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
+    let name = dir
+        .file_name()
+        .map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
     dir.with_file_name(format!(".{name}.{tag}-{}", std::process::id()))
 }
 
 fn swap_into_place(staging: &Path, dir: &Path) -> Result<()> {
-    let io = |e: std::io::Error| Error::internal(format!("cannot move output into '{}': {e}", dir.display()));
-    if dir.exists() {
-        let old = sibling(dir, "old");
-        std::fs::rename(dir, &old).map_err(io)?;
-        std::fs::rename(staging, dir).map_err(io)?;
-        let _ = std::fs::remove_dir_all(&old);
-    } else {
-        std::fs::rename(staging, dir).map_err(io)?;
+    let io = |e: std::io::Error| {
+        Error::internal(format!("cannot move output into '{}': {e}", dir.display()))
+    };
+    if !dir.exists() {
+        return std::fs::rename(staging, dir).map_err(io);
     }
+    let old = sibling(dir, "old");
+    std::fs::rename(dir, &old).map_err(io)?;
+    if let Err(e) = std::fs::rename(staging, dir) {
+        // Put the previous result back rather than leave neither.
+        let _ = std::fs::rename(&old, dir);
+        return Err(io(e));
+    }
+    let _ = std::fs::remove_dir_all(&old);
     Ok(())
 }

@@ -103,7 +103,7 @@ pub struct NearTie {
 #[derive(Clone, Debug, Serialize, PartialEq)]
 pub struct Diagnostics {
     /// Members of MB(target) whose own boundary lacks the target (should not happen under the
-    /// assumptions).
+    /// assumptions); they take no part in the mutual-membership graph.
     pub target_missing_from_member_boundary: Vec<String>,
     /// Memberships between members that hold in one direction only.
     pub one_way_memberships: Vec<OneWayMembership>,
@@ -144,28 +144,38 @@ pub struct ParentSearch {
 
 /// Runs the local parent search for `target` over `candidates` (column positions); every member's
 /// own boundary is searched over all columns of `data` except itself.
-pub fn local_parents(data: &SearchData, target: usize, candidates: &[usize], alpha: f64) -> ParentSearch {
+pub fn local_parents(
+    data: &SearchData,
+    target: usize,
+    candidates: &[usize],
+    alpha: f64,
+) -> ParentSearch {
     let mb = forward_select(data, target, candidates);
     let members: Vec<usize> = mb.selected.iter().map(|n| position(data, n)).collect();
     let everything: Vec<usize> = (0..data.names().len()).collect();
-    let member_selections: Vec<Selection> =
-        members.par_iter().map(|&m| forward_select(data, m, &everything)).collect();
-    let boundary_sets: Vec<BTreeSet<&str>> =
-        member_selections.iter().map(|s| s.selected.iter().map(String::as_str).collect()).collect();
+    let member_selections: Vec<Selection> = members
+        .par_iter()
+        .map(|&m| forward_select(data, m, &everything))
+        .collect();
+    let boundary_sets: Vec<BTreeSet<&str>> = member_selections
+        .iter()
+        .map(|s| s.selected.iter().map(String::as_str).collect())
+        .collect();
 
-    let k = members.len();
-    let mut adjacent = vec![vec![false; k]; k];
-    let mut edges = Vec::new();
+    // A member counts only if membership is mutual with the target as well: under the assumptions
+    // Y ∈ MB(X) iff X ∈ MB(Y), so a member whose own boundary lacks Y is treated as a chance
+    // selection (reported in the diagnostics) and takes no part in the graph. This can only remove
+    // claims, never add one.
+    let target_name = data.name(target).to_string();
+    let confirmed: Vec<usize> = (0..members.len())
+        .filter(|&a| boundary_sets[a].contains(target_name.as_str()))
+        .collect();
     let mut one_way = Vec::new();
-    for a in 0..k {
-        for b in (a + 1)..k {
+    for a in 0..members.len() {
+        for b in (a + 1)..members.len() {
             let a_has_b = boundary_sets[a].contains(data.name(members[b]));
             let b_has_a = boundary_sets[b].contains(data.name(members[a]));
-            if a_has_b && b_has_a {
-                adjacent[a][b] = true;
-                adjacent[b][a] = true;
-                edges.push([data.name(members[a]).to_string(), data.name(members[b]).to_string()]);
-            } else if a_has_b || b_has_a {
+            if a_has_b != b_has_a {
                 let (owner, member) = if a_has_b { (a, b) } else { (b, a) };
                 one_way.push(OneWayMembership {
                     boundary_of: data.name(members[owner]).to_string(),
@@ -174,17 +184,37 @@ pub fn local_parents(data: &SearchData, target: usize, candidates: &[usize], alp
             }
         }
     }
+    let k = confirmed.len();
+    let mut adjacent = vec![vec![false; k]; k];
+    let mut edges = Vec::new();
+    for a in 0..k {
+        for b in (a + 1)..k {
+            let (ma, mb_) = (confirmed[a], confirmed[b]);
+            if boundary_sets[ma].contains(data.name(members[mb_]))
+                && boundary_sets[mb_].contains(data.name(members[ma]))
+            {
+                adjacent[a][b] = true;
+                adjacent[b][a] = true;
+                edges.push([
+                    data.name(members[ma]).to_string(),
+                    data.name(members[mb_]).to_string(),
+                ]);
+            }
+        }
+    }
     let components: Vec<Component> = connected_components(&adjacent)
         .into_iter()
         .map(|group| {
-            let columns: Vec<usize> = group.iter().map(|&g| members[g]).collect();
-            let is_clique = group.iter().all(|&a| group.iter().all(|&b| a == b || adjacent[a][b]));
+            let columns: Vec<usize> = group.iter().map(|&g| members[confirmed[g]]).collect();
+            let is_clique = group
+                .iter()
+                .all(|&a| group.iter().all(|&b| a == b || adjacent[a][b]));
             test_component(data, &columns, is_clique, alpha)
         })
         .collect();
 
     let passing: Vec<&Component> = components.iter().filter(|c| c.passes).collect();
-    let outcome = if k == 0 {
+    let outcome = if members.is_empty() {
         Outcome::EmptyBoundary
     } else {
         match passing.len() {
@@ -202,12 +232,20 @@ pub fn local_parents(data: &SearchData, target: usize, candidates: &[usize], alp
             .collect(),
         _ => Vec::new(),
     };
-    let target_name = data.name(target).to_string();
-    let explanation = explain(&target_name, outcome, &parent_sets, &components);
     let diagnostics = diagnose(&target_name, &mb, &member_selections, one_way, &components);
+    let explanation = explain(
+        &target_name,
+        outcome,
+        &parent_sets,
+        &components,
+        &diagnostics.target_missing_from_member_boundary,
+    );
     ParentSearch {
         target: target_name,
-        boundaries: member_selections.into_iter().map(|s| (s.response.clone(), s)).collect(),
+        boundaries: member_selections
+            .into_iter()
+            .map(|s| (s.response.clone(), s))
+            .collect(),
         markov_boundary: mb,
         edges,
         components,
@@ -219,7 +257,10 @@ pub fn local_parents(data: &SearchData, target: usize, candidates: &[usize], alp
 }
 
 fn position(data: &SearchData, name: &str) -> usize {
-    data.names().iter().position(|n| n == name).expect("selected names come from the data")
+    data.names()
+        .iter()
+        .position(|n| n == name)
+        .expect("selected names come from the data")
 }
 
 /// Components of an undirected graph, each listed in ascending vertex order; components ordered by
@@ -292,10 +333,20 @@ fn test_component(data: &SearchData, columns: &[usize], is_clique: bool, alpha: 
 }
 
 fn quoted(names: &[String]) -> String {
-    names.iter().map(|n| format!("'{n}'")).collect::<Vec<_>>().join(", ")
+    names
+        .iter()
+        .map(|n| format!("'{n}'"))
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
-fn explain(target: &str, outcome: Outcome, parent_sets: &[Vec<String>], components: &[Component]) -> String {
+fn explain(
+    target: &str,
+    outcome: Outcome,
+    parent_sets: &[Vec<String>],
+    components: &[Component],
+    unconfirmed: &[String],
+) -> String {
     match outcome {
         Outcome::Identified => format!(
             "The parents of '{target}' are identified as {}: these columns are each directly \
@@ -306,19 +357,31 @@ fn explain(target: &str, outcome: Outcome, parent_sets: &[Vec<String>], componen
         ),
         Outcome::NotIdentifiable => {
             let singles: Vec<String> = parent_sets.iter().map(|s| s[0].clone()).collect();
-            if singles.is_empty() {
+            if components.is_empty() {
+                format!(
+                    "No parent of '{target}' is claimed: the columns selected into its Markov \
+                     boundary ({}) do not select '{target}' back into their own boundaries, which \
+                     points to chance selections rather than direct links.",
+                    quoted(unconfirmed)
+                )
+            } else if singles.is_empty() {
                 format!(
                     "The parents of '{target}' are not identifiable from these data: no group of \
                      its Markov-boundary members is pairwise independent, so causes cannot be told \
                      apart from effects; no single column stands alone either."
                 )
             } else {
+                let (which, verb, count) = if singles.len() == 1 {
+                    ("The candidate", "is", "It may be a parent or a child")
+                } else {
+                    ("The candidates", "are each", "At most one of them is a parent, and possibly none")
+                };
                 format!(
-                    "The parents of '{target}' are not identifiable from these data. The candidates \
-                     {} are each directly associated with '{target}', but with at most one direct \
-                     cause the data look the same whether it points into '{target}' or out of it \
-                     (Markov equivalence). At most one of them is a parent, and possibly none; an \
-                     experiment or knowledge of time order would settle it.",
+                    "The parents of '{target}' are not identifiable from these data. {which} {} \
+                     {verb} directly associated with '{target}', but with at most one direct cause \
+                     the data look the same whether the dependence points into '{target}' or out of \
+                     it (Markov equivalence). {count}; an experiment or knowledge of time order \
+                     would settle it.",
                     quoted(&singles)
                 )
             }
@@ -375,7 +438,12 @@ fn diagnose(
     Diagnostics {
         target_missing_from_member_boundary,
         one_way_memberships,
-        non_clique_components: components.iter().enumerate().filter(|(_, c)| !c.is_clique).map(|(i, _)| i).collect(),
+        non_clique_components: components
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| !c.is_clique)
+            .map(|(i, _)| i)
+            .collect(),
         near_ties,
         last_step_best_t_n,
         functional_responses,
