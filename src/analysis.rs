@@ -36,7 +36,14 @@ pub fn analyze_file(
     let raw = read_csv(path, options)?;
     let (study, used, target) = Study::new(input, &raw)?;
     let (sha256, size_bytes) = sha256_file(path)?;
-    let (table, report) = raw.prepare(&used, target, study.excluded.clone(), size_bytes, sha256, options)?;
+    let (table, report) = raw.prepare(
+        &used,
+        target,
+        study.excluded.clone(),
+        size_bytes,
+        sha256,
+        options,
+    )?;
     let study = study.without_constant(&report.constant_columns);
     progress.say(&format!(
         "read {} rows ({} used) and {} columns from {}",
@@ -46,11 +53,19 @@ pub fn analyze_file(
         report.file
     ));
     for column in &report.constant_columns {
-        progress.say(&format!("column '{column}' is constant on the rows used and is left out"));
+        progress.say(&format!(
+            "column '{column}' is constant on the rows used and is left out"
+        ));
     }
     let data = SearchData::new(&table, study.scaling, study.seed, 0);
-    let target_index = table.index_of(&study.target).expect("target survives preparation");
-    let candidates: Vec<usize> = study.candidates.iter().filter_map(|c| table.index_of(c)).collect();
+    let target_index = table
+        .index_of(&study.target)
+        .expect("target survives preparation");
+    let candidates: Vec<usize> = study
+        .candidates
+        .iter()
+        .filter_map(|c| table.index_of(c))
+        .collect();
     progress.say(&format!(
         "searching the Markov boundary of '{}' over {} candidates, then each member's",
         study.target,
@@ -75,7 +90,9 @@ pub fn analyze_file(
         command_line,
     };
     let report = crate::data::DataReport {
-        file: path.file_name().map_or_else(|| report.file.clone(), |f| f.to_string_lossy().into_owned()),
+        file: path
+            .file_name()
+            .map_or_else(|| report.file.clone(), |f| f.to_string_lossy().into_owned()),
         ..report
     };
     Ok(Finding::new(report, study, search, run))

@@ -56,11 +56,19 @@ pub fn generate_demo_csv() -> String {
         let pore = (8.0 + 6.0 * (binder - 1.5).sqrt()) * (0.12 * normal(e1, e2)).exp();
         let firing = 34.0 + 16.0 * ((kiln - 1220.0) / 18.0).tanh();
         let strength = firing * (1.9 - 0.06 * pore) * (0.10 * normal(e3, e4)).exp();
-        let laplace_noise = if laplace < 0.5 { (2.0 * laplace).ln() } else { -(2.0 * (1.0 - laplace)).ln() };
+        let laplace_noise = if laplace < 0.5 {
+            (2.0 * laplace).ln()
+        } else {
+            -(2.0 * (1.0 - laplace)).ln()
+        };
         let echo = 2.2 * strength.sqrt() / (0.3 + gap) + 0.25 * laplace_noise;
         let moisture = 18.0 + 0.08 * humidity + 0.5 * standard_normal(&mut rng);
         // A few humidity readings are missing (sensor dropouts), to show how rows are dropped.
-        let humidity_text = if row % 250 == 17 { "NA".to_string() } else { format!("{humidity:.1}") };
+        let humidity_text = if row % 250 == 17 {
+            "NA".to_string()
+        } else {
+            format!("{humidity:.1}")
+        };
         out.push_str(&format!(
             "{kiln:.1},{binder:.3},{pore:.2},{strength:.2},{gap:.3},{echo:.3},{humidity_text},{moisture:.2},{speed:.2}\n"
         ));
@@ -74,6 +82,10 @@ mod tests {
 
     #[test]
     fn committed_demo_data_is_what_the_seeded_generator_writes() {
-        assert_eq!(generate_demo_csv(), DEMO_CSV, "run `forebear demo --regenerate` and commit");
+        assert_eq!(
+            generate_demo_csv(),
+            DEMO_CSV,
+            "run `forebear demo --regenerate` and commit"
+        );
     }
 }

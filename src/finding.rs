@@ -1,8 +1,8 @@
 //! The result model: one serde structure of everything found, read by every renderer.
 
 use crate::data::DataReport;
-use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
 use crate::search::parents::Diagnostics;
+use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
 use crate::study::Study;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -22,7 +22,10 @@ pub struct ToolInfo {
 impl ToolInfo {
     /// This build.
     pub fn current() -> Self {
-        ToolInfo { name: "forebear".into(), version: env!("CARGO_PKG_VERSION").into() }
+        ToolInfo {
+            name: "forebear".into(),
+            version: env!("CARGO_PKG_VERSION").into(),
+        }
     }
 }
 

@@ -30,7 +30,11 @@ pub fn digest<T: Serialize>(finding: &T) -> String {
 
 fn remove_pointer(tree: &mut serde_json::Value, pointer: &str) {
     let (parent, key) = pointer.rsplit_once('/').expect("pointers start with '/'");
-    let holder = if parent.is_empty() { Some(tree) } else { tree.pointer_mut(parent) };
+    let holder = if parent.is_empty() {
+        Some(tree)
+    } else {
+        tree.pointer_mut(parent)
+    };
     if let Some(serde_json::Value::Object(map)) = holder {
         map.remove(key);
     }
@@ -44,7 +48,10 @@ mod tests {
     #[test]
     fn canonical_json_sorts_keys_at_every_depth() {
         let value = json!({"b": 1, "a": {"d": [1, 2], "c": null}});
-        assert_eq!(canonical_json(&value), r#"{"a":{"c":null,"d":[1,2]},"b":1}"#);
+        assert_eq!(
+            canonical_json(&value),
+            r#"{"a":{"c":null,"d":[1,2]},"b":1}"#
+        );
     }
 
     #[test]

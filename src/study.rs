@@ -69,7 +69,9 @@ impl Study {
                 input.replicates
             )));
         }
-        let used: Vec<usize> = (0..raw.names.len()).filter(|j| !excluded_positions.contains(j)).collect();
+        let used: Vec<usize> = (0..raw.names.len())
+            .filter(|j| !excluded_positions.contains(j))
+            .collect();
         if used.len() < 2 {
             return Err(Error::input(format!(
                 "{}: no candidate columns remain besides the target '{}'",
@@ -78,8 +80,15 @@ impl Study {
         }
         let study = Study {
             target: input.target.clone(),
-            candidates: used.iter().filter(|&&j| j != target).map(|&j| raw.names[j].clone()).collect(),
-            excluded: excluded_positions.iter().map(|&j| raw.names[j].clone()).collect(),
+            candidates: used
+                .iter()
+                .filter(|&&j| j != target)
+                .map(|&j| raw.names[j].clone())
+                .collect(),
+            excluded: excluded_positions
+                .iter()
+                .map(|&j| raw.names[j].clone())
+                .collect(),
             seed: input.seed,
             scaling: input.scaling,
             alpha: input.alpha,

@@ -4,7 +4,9 @@ use std::time::{SystemTime, UNIX_EPOCH};
 
 /// The current time as `YYYY-MM-DDTHH:MM:SSZ`.
 pub fn now_rfc3339() -> String {
-    let secs = SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.as_secs());
+    let secs = SystemTime::now()
+        .duration_since(UNIX_EPOCH)
+        .map_or(0, |d| d.as_secs());
     format_unix(secs)
 }
 
@@ -13,7 +15,12 @@ pub fn format_unix(secs: u64) -> String {
     let days = (secs / 86_400) as i64;
     let rem = secs % 86_400;
     let (y, m, d) = civil_from_days(days);
-    format!("{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z", rem / 3600, (rem % 3600) / 60, rem % 60)
+    format!(
+        "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z",
+        rem / 3600,
+        (rem % 3600) / 60,
+        rem % 60
+    )
 }
 
 /// Days since 1970-01-01 to a proleptic Gregorian date (Hinnant's `civil_from_days` algorithm).

@@ -14,9 +14,9 @@ pub fn sha256_file(path: &Path) -> Result<(String, u64)> {
     let mut buffer = vec![0u8; 1 << 16];
     let mut size = 0u64;
     loop {
-        let read = file
-            .read(&mut buffer)
-            .map_err(|e| Error::input(format!("cannot read data file '{}': {e}", path.display())))?;
+        let read = file.read(&mut buffer).map_err(|e| {
+            Error::input(format!("cannot read data file '{}': {e}", path.display()))
+        })?;
         if read == 0 {
             break;
         }
@@ -43,7 +43,10 @@ mod tests {
         let path = dir.join("abc.txt");
         std::fs::write(&path, b"abc").unwrap();
         let (digest, size) = sha256_file(&path).unwrap();
-        assert_eq!(digest, "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad");
+        assert_eq!(
+            digest,
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
         assert_eq!(size, 3);
         std::fs::remove_dir_all(&dir).unwrap();
     }

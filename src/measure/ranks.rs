@@ -9,7 +9,10 @@ fn order(values: &[f64]) -> Vec<usize> {
 }
 
 /// Runs of equal values in sorted order, as (start, end) half-open ranges into `order`.
-fn tie_runs<'a>(values: &'a [f64], order: &'a [usize]) -> impl Iterator<Item = (usize, usize)> + 'a {
+fn tie_runs<'a>(
+    values: &'a [f64],
+    order: &'a [usize],
+) -> impl Iterator<Item = (usize, usize)> + 'a {
     let mut start = 0;
     std::iter::from_fn(move || {
         if start >= order.len() {
@@ -85,7 +88,9 @@ mod tests {
     fn counts_match_brute_force_on_random_ties() {
         let key = crate::rng::Key::new("ranks-test", 1).finish();
         let mut rng = key.stream(0);
-        let y: Vec<f64> = (0..300).map(|_| crate::rng::uniform_below(&mut rng, 17) as f64).collect();
+        let y: Vec<f64> = (0..300)
+            .map(|_| crate::rng::uniform_below(&mut rng, 17) as f64)
+            .collect();
         let r = at_most_counts(&y);
         let l = at_least_counts(&y);
         let mid = doubled_mid_ranks(&y);

@@ -23,13 +23,22 @@ pub struct XiTest {
 /// Returns `None` when y is constant (the statistic is undefined).
 pub fn xi_test(x: &[f64], y: &[f64], key: &Key) -> Option<XiTest> {
     let n = x.len();
-    let tie_break: Vec<u64> = (0..n).map(|i| rand_core::Rng::next_u64(&mut key.stream(i as u64))).collect();
+    let tie_break: Vec<u64> = (0..n)
+        .map(|i| rand_core::Rng::next_u64(&mut key.stream(i as u64)))
+        .collect();
     let mut order: Vec<usize> = (0..n).collect();
-    order.sort_by(|&a, &b| x[a].total_cmp(&x[b]).then(tie_break[a].cmp(&tie_break[b])).then(a.cmp(&b)));
+    order.sort_by(|&a, &b| {
+        x[a].total_cmp(&x[b])
+            .then(tie_break[a].cmp(&tie_break[b]))
+            .then(a.cmp(&b))
+    });
     let r_all = at_most_counts(y);
     let l_all = at_least_counts(y);
     let r: Vec<u32> = order.iter().map(|&i| r_all[i]).collect();
-    let jumps: i128 = r.windows(2).map(|w| (w[1] as i128 - w[0] as i128).abs()).sum();
+    let jumps: i128 = r
+        .windows(2)
+        .map(|w| (w[1] as i128 - w[0] as i128).abs())
+        .sum();
     let n_i = n as i128;
     let spread: i128 = l_all.iter().map(|&l| l as i128 * (n_i - l as i128)).sum();
     if spread == 0 {
@@ -97,7 +106,9 @@ mod tests {
         // sorted by x: rows 0,2,5,1,4,3 → y = 3,6,4,1,5,2 → r = 3,6,4,1,5,2
         let jumps = 3 + 2 + 3 + 4 + 3;
         let expected = 1.0 - 3.0 * jumps as f64 / 35.0;
-        let got = xi_test(&x, &y, &Key::new("xi", 0).finish()).unwrap().statistic;
+        let got = xi_test(&x, &y, &Key::new("xi", 0).finish())
+            .unwrap()
+            .statistic;
         assert!((got - expected).abs() < 1e-12, "{got} vs {expected}");
     }
 

@@ -26,8 +26,15 @@ pub struct SearchData<'a> {
 impl<'a> SearchData<'a> {
     /// Scales every column of `table` once.
     pub fn new(table: &'a Table, scaling: Scaling, seed: u64, replicate: u64) -> Self {
-        let scaled = (0..table.n_cols()).map(|j| scaling.apply(table.column(j))).collect();
-        SearchData { table, scaled, seed, replicate }
+        let scaled = (0..table.n_cols())
+            .map(|j| scaling.apply(table.column(j)))
+            .collect();
+        SearchData {
+            table,
+            scaled,
+            seed,
+            replicate,
+        }
     }
 
     /// Column names.
