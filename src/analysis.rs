@@ -1,13 +1,19 @@
-//! The analyze pipeline as a library call: read, validate, search, assemble the finding.
-//! The command-line layer only parses arguments and writes what this returns.
+//! The analyze pipeline as library calls: read, validate, search the full data, run replicates,
+//! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
 use crate::data::fingerprint::sha256_file;
-use crate::data::{read_csv, LoadOptions};
-use crate::error::Result;
+use crate::data::{read_csv, DataReport, LoadOptions, Table};
+use crate::error::{Error, Result};
 use crate::finding::{Finding, RunInfo};
-use crate::search::{local_parents, SearchData};
+use crate::resample::stability::{aggregate, run_replicate};
+use crate::resample::{ReplicateRecord, Stability};
+use crate::search::{local_parents, ParentSearch, SearchData};
 use crate::study::{Study, StudyInput};
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+use std::ops::Range;
 use std::path::Path;
+use std::sync::atomic::{AtomicU32, Ordering};
 use std::time::Instant;
 
 /// Where progress messages go.
@@ -23,14 +29,27 @@ impl Progress for Silent {
     fn say(&self, _message: &str) {}
 }
 
-/// Runs the local parent search on a CSV file. Nothing is written.
-pub fn analyze_file(
+/// A validated study on its validated table, ready to search.
+pub struct Prepared {
+    /// The table of used columns and rows.
+    pub table: Table,
+    /// What happened between the file and the table.
+    pub report: DataReport,
+    /// Validated settings.
+    pub study: Study,
+    /// The data path as given.
+    pub data_path: String,
+    started: Instant,
+    started_utc: String,
+}
+
+/// Reads and validates the data and settings. Nothing is written.
+pub fn prepare(
     path: &Path,
     input: &StudyInput,
     options: &LoadOptions,
-    command_line: Vec<String>,
     progress: &dyn Progress,
-) -> Result<Finding> {
+) -> Result<Prepared> {
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
     let raw = read_csv(path, options)?;
@@ -57,43 +76,265 @@ pub fn analyze_file(
             "column '{column}' is constant on the rows used and is left out"
         ));
     }
-    let data = SearchData::new(&table, study.scaling, study.seed, 0);
-    let target_index = table
-        .index_of(&study.target)
-        .expect("target survives preparation");
-    let candidates: Vec<usize> = study
-        .candidates
-        .iter()
-        .filter_map(|c| table.index_of(c))
-        .collect();
-    progress.say(&format!(
-        "searching the Markov boundary of '{}' over {} candidates, then each member's",
-        study.target,
-        candidates.len()
-    ));
-    let search = local_parents(&data, target_index, &candidates, study.alpha);
-    progress.say(&format!(
-        "'{}': {} (Markov boundary: {})",
-        search.target,
-        search.outcome.name(),
-        if search.markov_boundary.selected.is_empty() {
-            "empty".to_string()
-        } else {
-            search.markov_boundary.selected.join(", ")
-        }
-    ));
-    let run = RunInfo {
-        started_utc,
-        duration_seconds: (started.elapsed().as_secs_f64() * 1000.0).round() / 1000.0,
-        threads: rayon::current_num_threads(),
-        data_path: path.display().to_string(),
-        command_line,
-    };
-    let report = crate::data::DataReport {
+    let report = DataReport {
         file: path
             .file_name()
             .map_or_else(|| report.file.clone(), |f| f.to_string_lossy().into_owned()),
         ..report
     };
-    Ok(Finding::new(report, study, search, run))
+    Ok(Prepared {
+        table,
+        report,
+        study,
+        data_path: path.display().to_string(),
+        started,
+        started_utc,
+    })
+}
+
+impl Prepared {
+    /// The local parent search on the full data (replicate 0 of the keyed draws).
+    pub fn full_search(&self, progress: &dyn Progress) -> ParentSearch {
+        let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
+        let target = self
+            .table
+            .index_of(&self.study.target)
+            .expect("target survives preparation");
+        let candidates: Vec<usize> = self
+            .study
+            .candidates
+            .iter()
+            .filter_map(|c| self.table.index_of(c))
+            .collect();
+        progress.say(&format!(
+            "searching the Markov boundary of '{}' over {} candidates, then each member's",
+            self.study.target,
+            candidates.len()
+        ));
+        let search = local_parents(&data, target, &candidates, self.study.alpha);
+        progress.say(&format!(
+            "'{}' on the full data: {} (Markov boundary: {})",
+            search.target,
+            search.outcome.name(),
+            if search.markov_boundary.selected.is_empty() {
+                "empty".to_string()
+            } else {
+                search.markov_boundary.selected.join(", ")
+            }
+        ));
+        search
+    }
+
+    /// Runs replicates `range` of the plan in parallel; records come back in index order.
+    pub fn replicates(
+        &self,
+        range: Range<u32>,
+        full: &ParentSearch,
+        progress: &dyn Progress,
+    ) -> Vec<ReplicateRecord> {
+        let plan = &self.study.resampling;
+        if range.is_empty() {
+            return Vec::new();
+        }
+        progress.say(&format!(
+            "running replicates {}..{} of {} ({})",
+            range.start,
+            range.end,
+            plan.count,
+            plan.kind.name()
+        ));
+        let done = AtomicU32::new(0);
+        let total = range.len() as u32;
+        let step = (total / 10).max(1);
+        range
+            .into_par_iter()
+            .map(|k| {
+                let record =
+                    run_replicate(&self.table, &self.study, k, &full.markov_boundary.steps);
+                let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
+                if finished.is_multiple_of(step) || finished == total {
+                    progress.say(&format!("replicates done: {finished}/{total}"));
+                }
+                record
+            })
+            .collect()
+    }
+
+    /// The run metadata of this invocation.
+    pub fn run_info(&self, command_line: Vec<String>) -> RunInfo {
+        RunInfo {
+            started_utc: self.started_utc.clone(),
+            duration_seconds: (self.started.elapsed().as_secs_f64() * 1000.0).round() / 1000.0,
+            threads: rayon::current_num_threads(),
+            data_path: self.data_path.clone(),
+            command_line,
+        }
+    }
+}
+
+/// Aggregates replicate records for a full-data finding and attaches them (recomputing the digest).
+pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Finding {
+    let plan = &finding.settings.resampling;
+    finding.stability = (plan.count > 0).then(|| -> Stability {
+        aggregate(
+            plan,
+            finding.settings.stability_threshold,
+            &finding.settings.candidates,
+            &finding.trace,
+            finding.outcome,
+            &finding.parent_sets,
+            records,
+        )
+    });
+    finding.digest = crate::manifest::digest(&finding);
+    finding
+}
+
+/// Runs the whole analysis of a CSV file: full-data search, every replicate, stability.
+pub fn analyze_file(
+    path: &Path,
+    input: &StudyInput,
+    options: &LoadOptions,
+    command_line: Vec<String>,
+    progress: &dyn Progress,
+) -> Result<Finding> {
+    let prepared = prepare(path, input, options, progress)?;
+    let full = prepared.full_search(progress);
+    let records = prepared.replicates(0..prepared.study.resampling.count, &full, progress);
+    let finding = Finding::new(
+        prepared.report.clone(),
+        prepared.study.clone(),
+        full,
+        prepared.run_info(command_line),
+    );
+    Ok(attach_stability(finding, &records))
+}
+
+/// Version of the partial-result layout.
+pub const PARTIAL_SCHEMA: &str = "forebear.partial/1";
+
+/// Some replicates of a study, computed by one shard, with the full-data finding they belong to.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct Partial {
+    /// Layout version.
+    pub schema: String,
+    /// The full-data finding, without stability.
+    pub finding: Finding,
+    /// The half-open replicate range [start, end) this part holds.
+    pub range: [u32; 2],
+    /// The replicate records, in index order.
+    pub records: Vec<ReplicateRecord>,
+}
+
+/// Computes replicates `range` of a study into a partial result.
+pub fn analyze_part(
+    path: &Path,
+    input: &StudyInput,
+    options: &LoadOptions,
+    range: Range<u32>,
+    command_line: Vec<String>,
+    progress: &dyn Progress,
+) -> Result<Partial> {
+    let prepared = prepare(path, input, options, progress)?;
+    let count = prepared.study.resampling.count;
+    if range.start >= range.end || range.end > count {
+        return Err(Error::input(format!(
+            "--replicate-range {}..{} is outside the plan: replicates are numbered 0..{count} \
+             (a half-open range, start below end)",
+            range.start, range.end
+        )));
+    }
+    let full = prepared.full_search(progress);
+    let records = prepared.replicates(range.clone(), &full, progress);
+    let finding = Finding::new(
+        prepared.report.clone(),
+        prepared.study.clone(),
+        full,
+        prepared.run_info(command_line),
+    );
+    Ok(Partial {
+        schema: PARTIAL_SCHEMA.into(),
+        finding,
+        range: [range.start, range.end],
+        records,
+    })
+}
+
+/// Combines partial results of one study into the finding a single run would have produced.
+/// Parts must share the full-data finding (same data, settings, seed, tool) and cover the plan's
+/// replicates exactly once.
+pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> Result<Finding> {
+    let (first_name, first) = parts
+        .first()
+        .ok_or_else(|| Error::input("merge needs at least one part"))?;
+    for (name, part) in &parts {
+        if part.schema != PARTIAL_SCHEMA {
+            return Err(Error::input(format!(
+                "{name}: not a forebear partial result (schema '{}', expected '{PARTIAL_SCHEMA}')",
+                part.schema
+            )));
+        }
+        if part.finding.digest != first.finding.digest {
+            return Err(Error::input(format!(
+                "{name} belongs to another study than {first_name}: {}; parts must come from the same \
+                 data, settings and seed",
+                describe_difference(&first.finding, &part.finding)
+            )));
+        }
+    }
+    let count = first.finding.settings.resampling.count;
+    let mut covered = vec![None::<&str>; count as usize];
+    let mut records = Vec::new();
+    for (name, part) in &parts {
+        for r in &part.records {
+            let slot = covered.get_mut(r.replicate as usize).ok_or_else(|| {
+                Error::input(format!(
+                    "{name}: replicate {} is outside the plan of {count}",
+                    r.replicate
+                ))
+            })?;
+            if let Some(other) = slot {
+                return Err(Error::input(format!(
+                    "replicate {} appears in both {other} and {name}; each replicate must be merged once",
+                    r.replicate
+                )));
+            }
+            *slot = Some(name);
+            records.push(r.clone());
+        }
+    }
+    if let Some(missing) = covered.iter().position(Option::is_none) {
+        return Err(Error::input(format!(
+            "the parts do not cover replicate {missing} of 0..{count}; add the part that holds it"
+        )));
+    }
+    let mut finding = first.finding.clone();
+    finding.run = RunInfo {
+        started_utc: crate::timefmt::now_rfc3339(),
+        duration_seconds: 0.0,
+        threads: rayon::current_num_threads(),
+        data_path: first.finding.run.data_path.clone(),
+        command_line,
+    };
+    Ok(attach_stability(finding, &records))
+}
+
+fn describe_difference(a: &Finding, b: &Finding) -> String {
+    if a.data.sha256 != b.data.sha256 {
+        "the data files differ".into()
+    } else if a.settings.seed != b.settings.seed {
+        format!(
+            "the seeds differ ({} and {})",
+            a.settings.seed, b.settings.seed
+        )
+    } else if a.settings != b.settings {
+        "the settings differ".into()
+    } else if a.tool != b.tool {
+        format!(
+            "they were made by different tool versions ({} and {})",
+            a.tool.version, b.tool.version
+        )
+    } else {
+        "their full-data results differ".into()
+    }
 }

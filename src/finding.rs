@@ -1,17 +1,18 @@
 //! The result model: one serde structure of everything found, read by every renderer.
 
 use crate::data::DataReport;
+use crate::resample::Stability;
 use crate::search::parents::Diagnostics;
 use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
 use crate::study::Study;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// Version of the `result.json` layout.
 pub const SCHEMA: &str = "forebear.result/1";
 
 /// Tool identity.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct ToolInfo {
     /// Program name.
     pub name: String,
@@ -30,7 +31,7 @@ impl ToolInfo {
 }
 
 /// Facts about the run that do not belong to the findings and are excluded from the digest.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct RunInfo {
     /// Start time, UTC, RFC 3339.
     pub started_utc: String,
@@ -45,7 +46,7 @@ pub struct RunInfo {
 }
 
 /// Everything found for one target.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Finding {
     /// Layout version.
     pub schema: String,
@@ -78,7 +79,7 @@ pub struct Finding {
     /// What the data show against the assumptions.
     pub diagnostics: Diagnostics,
     /// Resampling stability; `null` without resampling.
-    pub stability: Option<serde_json::Value>,
+    pub stability: Option<Stability>,
     /// Run metadata (excluded from the digest).
     pub run: RunInfo,
     /// SHA-256 of the canonical JSON of the findings (see `manifest::digest`).

@@ -13,6 +13,7 @@ pub mod finding;
 pub mod manifest;
 pub mod measure;
 pub mod report;
+pub mod resample;
 pub mod rng;
 pub mod search;
 pub mod study;

@@ -3,10 +3,45 @@
 use clap::Parser;
 
 fn main() {
-    let argv: Vec<String> = std::env::args().collect();
+    // A panic is a bug, not bad input: report it in one line and exit 3 as DESIGN.md promises,
+    // instead of Rust's default message and exit code 101.
+    std::panic::set_hook(Box::new(|info| {
+        let message = info
+            .payload()
+            .downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| info.payload().downcast_ref::<String>().cloned())
+            .unwrap_or_else(|| "unknown panic".to_string());
+        let place = info
+            .location()
+            .map(|l| format!(" at {}:{}", l.file(), l.line()))
+            .unwrap_or_default();
+        eprintln!(
+            "forebear: error: internal error: {}{place}; this is a bug, please report it",
+            one_line(&message)
+        );
+    }));
+    // Arguments that are not valid Unicode are kept (lossily) for the record rather than panicking.
+    let argv: Vec<String> = std::env::args_os()
+        .map(|a| a.to_string_lossy().into_owned())
+        .collect();
     let cli = forebear::cli::Cli::parse();
-    if let Err(error) = forebear::cli::run(cli, argv) {
-        eprintln!("forebear: error: {error}");
-        std::process::exit(error.exit_code());
+    let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, argv));
+    match outcome {
+        Ok(Ok(())) => {}
+        Ok(Err(error)) => {
+            eprintln!("forebear: error: {}", one_line(&error.to_string()));
+            std::process::exit(error.exit_code());
+        }
+        Err(_) => std::process::exit(3),
     }
+}
+
+/// The contract is one line per error; a stray line break inside a message must not break it.
+fn one_line(text: &str) -> String {
+    text.lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .collect::<Vec<_>>()
+        .join(" ")
 }

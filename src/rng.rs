@@ -13,7 +13,8 @@ use sha2::{Digest, Sha256};
 pub struct Key([u8; 32]);
 
 impl Key {
-    /// Starts a key from a purpose label and the study seed.
+    /// Starts a key from a purpose label and the study seed; finish it with [`KeyBuilder::finish`].
+    #[allow(clippy::new_ret_no_self)] // a key is always built from parts; the builder is the point
     pub fn new(purpose: &str, seed: u64) -> KeyBuilder {
         let mut hasher = Sha256::new();
         hasher.update(b"forebear-key-v1");

@@ -4,7 +4,8 @@
 use crate::data::load::RawTable;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
-use serde::Serialize;
+use crate::resample::{PlanKind, ResamplePlan};
+use serde::{Deserialize, Serialize};
 
 /// Settings as the user gave them (flags now, a TOML file later).
 #[derive(Clone, Debug)]
@@ -21,10 +22,34 @@ pub struct StudyInput {
     pub alpha: f64,
     /// Number of resampling replicates (0: none).
     pub replicates: u32,
+    /// How replicates draw their rows.
+    pub resample: PlanKind,
+    /// Share of rows per replicate (`subsample` only).
+    pub fraction: Option<f64>,
+    /// π_thr: the frequency at which a finding counts as stable.
+    pub stability_threshold: f64,
+}
+
+impl StudyInput {
+    /// The command line's defaults for one target: seed 1, rank scaling, α = 0.05, 100
+    /// complementary-pairs replicates, π_thr = 0.6.
+    pub fn for_target(target: &str) -> StudyInput {
+        StudyInput {
+            target: target.to_string(),
+            exclude: Vec::new(),
+            seed: 1,
+            scaling: Scaling::Rank,
+            alpha: 0.05,
+            replicates: 100,
+            resample: PlanKind::ComplementaryPairs,
+            fraction: None,
+            stability_threshold: 0.6,
+        }
+    }
 }
 
 /// The validated settings, in the canonical form that is hashed and recorded.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Study {
     /// Target column.
     pub target: String,
@@ -38,8 +63,10 @@ pub struct Study {
     pub scaling: Scaling,
     /// Level of the pairwise independence tests.
     pub alpha: f64,
-    /// Resampling replicates.
-    pub replicates: u32,
+    /// The resampling plan (count 0: no resampling).
+    pub resampling: ResamplePlan,
+    /// π_thr for the `stable` flags.
+    pub stability_threshold: f64,
 }
 
 impl Study {
@@ -63,12 +90,15 @@ impl Study {
                 input.alpha
             )));
         }
-        if input.replicates > 0 {
+        if !(input.stability_threshold > 0.5 && input.stability_threshold <= 1.0) {
             return Err(Error::input(format!(
-                "--replicates {}: resampling is not available in this version yet; use --replicates 0",
-                input.replicates
+                "--stability-threshold {} is outside (0.5, 1]: the error bound of Meinshausen and \
+                 Bühlmann (2010) needs a threshold above one half",
+                input.stability_threshold
             )));
         }
+        let resampling =
+            ResamplePlan::new(input.resample, input.replicates, input.fraction, input.seed)?;
         let used: Vec<usize> = (0..raw.names.len())
             .filter(|j| !excluded_positions.contains(j))
             .collect();
@@ -92,7 +122,8 @@ impl Study {
             seed: input.seed,
             scaling: input.scaling,
             alpha: input.alpha,
-            replicates: input.replicates,
+            resampling,
+            stability_threshold: input.stability_threshold,
         };
         Ok((study, used, target))
     }

@@ -73,7 +73,12 @@ fn assert_same_digest_on_threads(data: &Path, target: &str, dir: &Path) {
         .enumerate()
         .map(|(k, threads)| {
             let out = dir.join(format!("out-{target}-{k}"));
-            let value = analyze(data, target, &out, &["--threads", threads]);
+            let value = analyze(
+                data,
+                target,
+                &out,
+                &["--threads", threads, "--replicates", "20"],
+            );
             assert_eq!(
                 value["run"]["threads"].as_u64().unwrap().to_string(),
                 *threads
@@ -108,8 +113,18 @@ fn heavily_tied_discrete_data_digest_is_identical_on_any_thread_count() {
 fn another_seed_changes_tie_breaks_but_the_digest_records_it() {
     let dir = scratch("seed");
     let data = discrete_csv(&dir);
-    let a = analyze(&data, "crush_strength", &dir.join("a"), &["--seed", "1"]);
-    let b = analyze(&data, "crush_strength", &dir.join("b"), &["--seed", "2"]);
+    let a = analyze(
+        &data,
+        "crush_strength",
+        &dir.join("a"),
+        &["--seed", "1", "--replicates", "0"],
+    );
+    let b = analyze(
+        &data,
+        "crush_strength",
+        &dir.join("b"),
+        &["--seed", "2", "--replicates", "0"],
+    );
     assert_eq!(a["settings"]["seed"], 1);
     assert_eq!(b["settings"]["seed"], 2);
     assert_ne!(a["digest"], b["digest"]);
@@ -124,8 +139,18 @@ fn digest_does_not_depend_on_the_file_name_or_path() {
     std::fs::create_dir_all(&moved).unwrap();
     let renamed = moved.join("other-name.csv");
     std::fs::copy(&data, &renamed).unwrap();
-    let a = analyze(&data, "pore_density", &dir.join("a"), &[]);
-    let b = analyze(&renamed, "pore_density", &dir.join("b"), &[]);
+    let a = analyze(
+        &data,
+        "pore_density",
+        &dir.join("a"),
+        &["--replicates", "4"],
+    );
+    let b = analyze(
+        &renamed,
+        "pore_density",
+        &dir.join("b"),
+        &["--replicates", "4"],
+    );
     assert_eq!(a["digest"], b["digest"]);
     assert_eq!(b["data"]["file"], "other-name.csv");
     std::fs::remove_dir_all(&dir).unwrap();

@@ -4,6 +4,7 @@ use crate::analysis::{analyze_file, Progress};
 use crate::data::LoadOptions;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
+use crate::resample::PlanKind;
 use crate::study::StudyInput;
 use clap::Args;
 use std::path::{Path, PathBuf};
@@ -26,16 +27,34 @@ pub struct AnalyzeArgs {
     #[arg(long, default_value = "rank")]
     pub scaling: String,
     /// Level of the pairwise independence tests.
-    #[arg(long, default_value_t = 0.05)]
+    #[arg(long, default_value_t = 0.05, allow_negative_numbers = true)]
     pub alpha: f64,
-    /// Resampling replicates (0 disables resampling).
-    #[arg(long, default_value_t = 0)]
+    /// Resampling replicates (0 disables resampling; even for complementary pairs).
+    #[arg(long, default_value_t = 100)]
     pub replicates: u32,
+    /// Resampling plan: complementary-pairs, subsample or bootstrap.
+    #[arg(long, default_value = "complementary-pairs")]
+    pub resample: String,
+    /// Share of rows per replicate, for --resample subsample (default 0.5).
+    #[arg(long)]
+    pub fraction: Option<f64>,
+    /// Frequency at which a finding counts as stable, in (0.5, 1].
+    #[arg(long, default_value_t = 0.6)]
+    pub stability_threshold: f64,
+    /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`.
+    #[arg(long, value_name = "A..B")]
+    pub replicate_range: Option<String>,
     /// Columns to leave out entirely (comma-separated).
     #[arg(long, value_name = "COLS")]
     pub exclude: Vec<String>,
-    /// Cell texts that mean "missing" (comma-separated; an empty entry stands for empty cells).
-    #[arg(long, value_name = "TOKENS", default_value = ",NA,NaN,null", allow_hyphen_values = true)]
+    /// Cell texts that mean "missing" (comma-separated; replaces the default list; an empty entry,
+    /// as in ",NA", stands for empty cells). Rows missing a value in a used column are dropped.
+    #[arg(
+        long,
+        value_name = "TOKENS",
+        default_value = ",NA,NaN,null",
+        allow_hyphen_values = true
+    )]
     pub missing_tokens: String,
 }
 
@@ -49,26 +68,73 @@ impl AnalyzeArgs {
             scaling: parse_scaling(&self.scaling)?,
             alpha: self.alpha,
             replicates: self.replicates,
+            resample: PlanKind::parse(&self.resample).ok_or_else(|| {
+                Error::input(format!(
+                    "--resample '{}' is not known; use complementary-pairs, subsample or bootstrap",
+                    self.resample
+                ))
+            })?,
+            fraction: self.fraction,
+            stability_threshold: self.stability_threshold,
         })
     }
 
     /// Reader options.
     pub fn load_options(&self) -> LoadOptions {
-        LoadOptions { missing_tokens: self.missing_tokens.split(',').map(|t| t.trim().to_string()).collect() }
+        LoadOptions::from_token_list(&self.missing_tokens)
     }
 }
 
 /// Parses `--scaling`.
 pub fn parse_scaling(name: &str) -> Result<Scaling> {
     Scaling::parse(name).ok_or_else(|| {
-        Error::input(format!("--scaling '{name}' is not known; use rank, standardize or none"))
+        Error::input(format!(
+            "--scaling '{name}' is not known; use rank, standardize or none"
+        ))
     })
+}
+
+/// Parses `--replicate-range A..B`.
+pub fn parse_range(text: &str) -> Result<std::ops::Range<u32>> {
+    let bad = || {
+        Error::input(format!(
+            "--replicate-range '{text}' is not a range; write A..B with whole numbers A < B, e.g. 0..25"
+        ))
+    };
+    let (a, b) = text.split_once("..").ok_or_else(bad)?;
+    let a: u32 = a.trim().parse().map_err(|_| bad())?;
+    let b: u32 = b.trim().parse().map_err(|_| bad())?;
+    Ok(a..b)
 }
 
 /// Runs `analyze`.
 pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
     let input = args.study_input()?;
-    analyze_into(&args.data, &input, &args.load_options(), &args.out, argv, progress)
+    if let Some(range) = &args.replicate_range {
+        let range = parse_range(range)?;
+        crate::report::check_output_folder(&args.out)?;
+        let part = crate::analysis::analyze_part(
+            &args.data,
+            &input,
+            &args.load_options(),
+            range,
+            argv,
+            progress,
+        )?;
+        let text = serde_json::to_string(&part)
+            .map_err(|e| Error::internal(format!("partial result: {e}")))?;
+        crate::report::write_files_atomically(&args.out, &[("partial.json", text + "\n")])?;
+        println!("{}", args.out.join("partial.json").display());
+        return Ok(());
+    }
+    analyze_into(
+        &args.data,
+        &input,
+        &args.load_options(),
+        &args.out,
+        argv,
+        progress,
+    )
 }
 
 /// Analyses one file into one output folder and reports where it went.
@@ -80,9 +146,20 @@ pub fn analyze_into(
     argv: Vec<String>,
     progress: &dyn Progress,
 ) -> Result<()> {
+    // Refuse an unusable output folder before the work, not after it.
+    crate::report::check_output_folder(out)?;
     let finding = analyze_file(data, input, options, argv, progress)?;
     crate::report::write_dossier(&finding, out)?;
-    progress.say(&format!("wrote {}/result.json and {}/dossier.md", out.display(), out.display()));
-    println!("{}: {} — {}", finding.target, finding.outcome.name(), out.join("dossier.md").display());
+    progress.say(&format!(
+        "wrote {}/result.json and {}/dossier.md",
+        out.display(),
+        out.display()
+    ));
+    println!(
+        "{}: {} — {}",
+        finding.target,
+        finding.outcome.name(),
+        out.join("dossier.md").display()
+    );
     Ok(())
 }

@@ -4,7 +4,6 @@ use crate::analysis::Progress;
 use crate::data::LoadOptions;
 use crate::demo::{generate_demo_csv, DEMO_CSV, DEMO_FILE, DEMO_TARGETS};
 use crate::error::{Error, Result};
-use crate::measure::Scaling;
 use crate::study::StudyInput;
 use clap::Args;
 use std::path::PathBuf;
@@ -30,17 +29,14 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
     std::fs::create_dir_all(&data_dir)
         .map_err(|e| Error::input(format!("cannot create '{}': {e}", data_dir.display())))?;
     let data = data_dir.join(DEMO_FILE);
-    std::fs::write(&data, DEMO_CSV).map_err(|e| Error::input(format!("cannot write '{}': {e}", data.display())))?;
-    progress.say(&format!("demo data: {} (an invented filter-disc firing line)", data.display()));
+    std::fs::write(&data, DEMO_CSV)
+        .map_err(|e| Error::input(format!("cannot write '{}': {e}", data.display())))?;
+    progress.say(&format!(
+        "demo data: {} (an invented filter-disc firing line)",
+        data.display()
+    ));
     for target in DEMO_TARGETS {
-        let input = StudyInput {
-            target: target.to_string(),
-            exclude: Vec::new(),
-            seed: 1,
-            scaling: Scaling::Rank,
-            alpha: 0.05,
-            replicates: 0,
-        };
+        let input = StudyInput::for_target(target);
         let argv = vec![
             "forebear".into(),
             "analyze".into(),
@@ -50,8 +46,18 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             "--out".into(),
             args.out.join(target).display().to_string(),
         ];
-        super::analyze::analyze_into(&data, &input, &LoadOptions::default(), &args.out.join(target), argv, progress)?;
+        super::analyze::analyze_into(
+            &data,
+            &input,
+            &LoadOptions::default(),
+            &args.out.join(target),
+            argv,
+            progress,
+        )?;
     }
-    println!("demo output is in {}/ (one folder per target; open dossier.md)", args.out.display());
+    println!(
+        "demo output is in {}/ (one folder per target; open dossier.md)",
+        args.out.display()
+    );
     Ok(())
 }

@@ -27,6 +27,14 @@ pub struct DependenceArgs {
     /// Predictor scaling: rank, standardize or none.
     #[arg(long, default_value = "rank")]
     pub scaling: String,
+    /// Cell texts that mean "missing" (comma-separated, as for `analyze`).
+    #[arg(
+        long,
+        value_name = "TOKENS",
+        default_value = ",NA,NaN,null",
+        allow_hyphen_values = true
+    )]
+    pub missing_tokens: String,
     /// Print JSON instead of text.
     #[arg(long)]
     pub json: bool,
@@ -35,17 +43,25 @@ pub struct DependenceArgs {
 /// Runs `dependence`.
 pub fn run(args: DependenceArgs) -> Result<()> {
     let scaling = super::analyze::parse_scaling(&args.scaling)?;
-    let options = LoadOptions::default();
+    let options = LoadOptions::from_token_list(&args.missing_tokens);
     let raw = read_csv(&args.data, &options)?;
     let response = raw.require_column(&args.response, "response")?;
     let on = super::split_names(&args.on);
     let given = super::split_names(&args.given);
+    if on.is_empty() {
+        return Err(Error::input(
+            "--on names no column; give at least one, as in --on x1,x2",
+        ));
+    }
     let mut used = vec![response];
     for (names, role) in [(&on, "--on"), (&given, "--given")] {
         for name in names {
             let j = raw.require_column(name, role)?;
             if used.contains(&j) {
-                return Err(Error::input(format!("column '{name}' is named twice; each column may appear once")));
+                return Err(Error::input(format!(
+                    "column '{name}' is named twice among --response, --on and --given; each column may \
+                     appear once"
+                )));
             }
             used.push(j);
         }
@@ -54,12 +70,17 @@ pub fn run(args: DependenceArgs) -> Result<()> {
     let (table, report) = raw.prepare(&used, response, Vec::new(), size, sha, &options)?;
     if let Some(c) = report.constant_columns.first() {
         return Err(Error::input(format!(
-            "{}, column '{c}': the column is constant on the rows used, so it carries no information",
+            "{}, column '{c}': the column is constant on the rows used, so it carries no information; \
+             leave it out",
             report.file
         )));
     }
     let data = SearchData::new(&table, scaling, args.seed, 0);
-    let idx = |name: &String| table.index_of(name).expect("prepared table keeps every used column");
+    let idx = |name: &String| {
+        table
+            .index_of(name)
+            .expect("prepared table keeps every used column")
+    };
     let y = idx(&args.response);
     let z: Vec<usize> = on.iter().map(idx).collect();
     let x: Vec<usize> = given.iter().map(idx).collect();
@@ -78,9 +99,16 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             "response_is_function_of_given": ratio.denominator == 0,
             "seed": args.seed, "scaling": scaling.name(),
         });
-        println!("{}", serde_json::to_string_pretty(&value).expect("plain JSON"));
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&value).expect("plain JSON")
+        );
     } else {
-        let given_text = if given.is_empty() { String::new() } else { format!(" | {}", given.join(", ")) };
+        let given_text = if given.is_empty() {
+            String::new()
+        } else {
+            format!(" | {}", given.join(", "))
+        };
         match ratio.value() {
             Some(t) => println!(
                 "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",

@@ -3,6 +3,7 @@
 pub mod analyze;
 pub mod demo;
 pub mod dependence;
+pub mod merge;
 
 use crate::analysis::Progress;
 use clap::{Parser, Subcommand};
@@ -32,6 +33,8 @@ pub enum Command {
     Dependence(dependence::DependenceArgs),
     /// Write the built-in demo data and analyse it.
     Demo(demo::DemoArgs),
+    /// Combine partial results (from `analyze --replicate-range`) into one dossier.
+    Merge(merge::MergeArgs),
 }
 
 /// Progress on stderr, unless `--quiet`.
@@ -66,12 +69,15 @@ pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
         rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build_global()
-            .map_err(|e| crate::error::Error::internal(format!("cannot start {threads} threads: {e}")))?;
+            .map_err(|e| {
+                crate::error::Error::internal(format!("cannot start {threads} threads: {e}"))
+            })?;
     }
     let progress = Stderr { quiet: cli.quiet };
     match cli.command {
         Command::Analyze(args) => analyze::run(args, argv, &progress),
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, &progress),
+        Command::Merge(args) => merge::run(args, argv, &progress),
     }
 }

@@ -1,7 +1,7 @@
 //! The validated table: named, finite, non-constant numeric columns with no missing values.
 
 use ndarray::{Array2, ShapeBuilder};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// Named numeric columns, stored column-major so that each column is one contiguous slice.
@@ -64,7 +64,7 @@ impl Table {
 }
 
 /// What happened between the file and the validated table, for the dossier.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct DataReport {
     /// File name as given.
     pub file: String,

@@ -21,7 +21,10 @@ pub struct TargetRanks {
 impl TargetRanks {
     /// R and L of a response column.
     pub fn new(y: &[f64]) -> Self {
-        TargetRanks { at_most: at_most_counts(y), at_least: at_least_counts(y) }
+        TargetRanks {
+            at_most: at_most_counts(y),
+            at_least: at_least_counts(y),
+        }
     }
 
     /// Number of rows.
@@ -34,7 +37,11 @@ impl TargetRanks {
     pub fn denominator(&self, conditioning: Option<&[u32]>) -> i128 {
         let n = self.n() as i128;
         match conditioning {
-            None => self.at_least.iter().map(|&l| l as i128 * (n - l as i128)).sum(),
+            None => self
+                .at_least
+                .iter()
+                .map(|&l| l as i128 * (n - l as i128))
+                .sum(),
             Some(nn) => self
                 .at_most
                 .iter()
@@ -53,13 +60,17 @@ impl TargetRanks {
                 .iter()
                 .zip(&self.at_least)
                 .zip(joint)
-                .map(|((&ri, &li), &m)| n * ri.min(r[m as usize]) as i128 - (li as i128) * (li as i128))
+                .map(|((&ri, &li), &m)| {
+                    n * ri.min(r[m as usize]) as i128 - (li as i128) * (li as i128)
+                })
                 .sum(),
             Some(nn) => r
                 .iter()
                 .zip(joint)
                 .zip(nn)
-                .map(|((&ri, &m), &j)| ri.min(r[m as usize]) as i128 - ri.min(r[j as usize]) as i128)
+                .map(|((&ri, &m), &j)| {
+                    ri.min(r[m as usize]) as i128 - ri.min(r[j as usize]) as i128
+                })
                 .sum(),
         }
     }
@@ -119,7 +130,9 @@ mod tests {
         // (Azadkia and Chatterjee 2021, Theorem 2.1: T = 1 when Y is a function of Z).
         let z: Vec<f64> = (0..200).map(|v| v as f64).collect();
         let key = Key::new("t", 0).finish();
-        let t = conditional_dependence(&z, &[&z], &[], &key, &key).value().unwrap();
+        let t = conditional_dependence(&z, &[&z], &[], &key, &key)
+            .value()
+            .unwrap();
         assert!(t > 0.97, "T_n = {t}");
     }
 

@@ -60,7 +60,12 @@ impl Distinct {
             rows[u].push(row);
             point_of_row[row as usize] = u as u32;
         }
-        Distinct { dim, coords, rows, point_of_row }
+        Distinct {
+            dim,
+            coords,
+            rows,
+            point_of_row,
+        }
     }
 
     fn len(&self) -> usize {
@@ -72,7 +77,11 @@ impl Distinct {
     }
 
     fn distance(&self, u: usize, v: usize) -> f64 {
-        self.point(u).iter().zip(self.point(v)).map(|(a, b)| (a - b) * (a - b)).sum()
+        self.point(u)
+            .iter()
+            .zip(self.point(v))
+            .map(|(a, b)| (a - b) * (a - b))
+            .sum()
     }
 }
 
@@ -87,8 +96,8 @@ fn normalise_zero(v: f64) -> f64 {
 
 /// The rows tied for nearest neighbour of one row.
 enum Tied<'a> {
-    /// The other rows at the same point (distance zero).
-    Duplicates { rows: &'a [u32], me: u32 },
+    /// The rows at the same point (distance zero) whose origin differs from `origin`.
+    Duplicates { rows: &'a [u32], origin: u32 },
     /// All rows of these distinct points (ascending point order), at the same positive distance.
     Points(Vec<u32>),
 }
@@ -130,7 +139,12 @@ struct Tree<const K: usize> {
 impl<const K: usize> Tree<K> {
     fn new(distinct: &Distinct) -> Self {
         let points: Vec<[f64; K]> = (0..distinct.len())
-            .map(|u| distinct.point(u).try_into().expect("dimension checked by dispatch"))
+            .map(|u| {
+                distinct
+                    .point(u)
+                    .try_into()
+                    .expect("dimension checked by dispatch")
+            })
             .collect();
         let tree = ImmutableKdTree::new_from_slice(&points).expect("at most u32::MAX points");
         Tree { tree }
@@ -141,7 +155,11 @@ impl<const K: usize> PointSearch for Tree<K> {
     fn nearest_points(&self, distinct: &Distinct, u: usize) -> Vec<u32> {
         let query: [f64; K] = distinct.point(u).try_into().expect("dimension checked");
         let want = NonZeroUsize::new(3.min(distinct.len())).expect("at least two points");
-        let found = self.tree.query(&query).nearest_n::<SquaredEuclidean<f64>>(want).execute();
+        let found = self
+            .tree
+            .query(&query)
+            .nearest_n::<SquaredEuclidean<f64>>(want)
+            .execute();
         let mut others: Vec<(f64, u32)> = found
             .iter()
             .filter(|hit| hit.item as usize != u)
@@ -159,7 +177,11 @@ impl<const K: usize> PointSearch for Tree<K> {
         // A tie, or too close to call: collect everything in a slightly widened ball and re-check
         // the exact distances.
         let radius = others[others.len() - 1].0 * (1.0 + SLACK) + f64::MIN_POSITIVE;
-        let ball = self.tree.query(&query).within::<SquaredEuclidean<f64>>(radius).execute();
+        let ball = self
+            .tree
+            .query(&query)
+            .within::<SquaredEuclidean<f64>>(radius)
+            .execute();
         let mut best = f64::INFINITY;
         let mut tied = Vec::new();
         for hit in ball {
@@ -185,27 +207,64 @@ impl<const K: usize> PointSearch for Tree<K> {
 pub struct Neighbourhood {
     distinct: Distinct,
     nearest_points: Vec<Vec<u32>>,
+    /// The original row behind each row (bootstrap replicates); rows of one origin are never each
+    /// other's neighbour. `None`: every row is its own origin.
+    origins: Option<Vec<u32>>,
 }
 
 impl Neighbourhood {
     /// Builds the structure for the space spanned by `columns` (equal lengths, at least 2 rows).
     pub fn new(columns: &[&[f64]]) -> Self {
-        assert!(!columns.is_empty(), "a neighbour search needs at least one column");
-        assert!(columns[0].len() >= 2, "a neighbour search needs at least two rows");
+        Self::build(columns, None)
+    }
+
+    /// As [`Neighbourhood::new`], but rows sharing an entry of `origins` (copies of one original
+    /// row in a bootstrap replicate) are never each other's neighbour: a copy at distance zero would
+    /// fake perfect dependence. At least two distinct origins are needed.
+    pub fn with_origins(columns: &[&[f64]], origins: Vec<u32>) -> Self {
+        assert_eq!(origins.len(), columns[0].len(), "one origin per row");
+        Self::build(columns, Some(origins))
+    }
+
+    fn build(columns: &[&[f64]], origins: Option<Vec<u32>>) -> Self {
+        assert!(
+            !columns.is_empty(),
+            "a neighbour search needs at least one column"
+        );
+        assert!(
+            columns[0].len() >= 2,
+            "a neighbour search needs at least two rows"
+        );
         let distinct = Distinct::new(columns);
+        let origin = |r: u32| origins.as_ref().map_or(r, |o| o[r as usize]);
+        // A point needs a search when none of its rows has a neighbour of another origin there.
+        let needs_search: Vec<bool> = distinct
+            .rows
+            .iter()
+            .map(|rows| rows.iter().all(|&r| origin(r) == origin(rows[0])))
+            .collect();
         let nearest_points = if distinct.len() < 2 {
             Vec::new()
         } else {
-            search_points(&distinct)
+            search_points(&distinct, &needs_search)
         };
-        Neighbourhood { distinct, nearest_points }
+        Neighbourhood {
+            distinct,
+            nearest_points,
+            origins,
+        }
+    }
+
+    fn origin(&self, row: u32) -> u32 {
+        self.origins.as_ref().map_or(row, |o| o[row as usize])
     }
 
     fn tied(&self, row: usize) -> Tied<'_> {
         let u = self.distinct.point_of_row[row] as usize;
         let rows = &self.distinct.rows[u];
-        if rows.len() >= 2 {
-            Tied::Duplicates { rows, me: row as u32 }
+        let origin = self.origin(row as u32);
+        if rows.iter().any(|&r| self.origin(r) != origin) {
+            Tied::Duplicates { rows, origin }
         } else {
             Tied::Points(self.nearest_points[u].clone())
         }
@@ -214,7 +273,11 @@ impl Neighbourhood {
     /// Every row tied for nearest neighbour of `row`, ascending. For tests and diagnostics.
     pub fn tied_rows(&self, row: usize) -> Vec<u32> {
         let mut out: Vec<u32> = match self.tied(row) {
-            Tied::Duplicates { rows, me } => rows.iter().copied().filter(|&r| r != me).collect(),
+            Tied::Duplicates { rows, origin } => rows
+                .iter()
+                .copied()
+                .filter(|&r| self.origin(r) != origin)
+                .collect(),
             Tied::Points(points) => points
                 .iter()
                 .flat_map(|&v| self.distinct.rows[v as usize].iter().copied())
@@ -228,25 +291,36 @@ impl Neighbourhood {
     /// row under `key`.
     pub fn choose(&self, key: &Key) -> Vec<u32> {
         let n = self.distinct.point_of_row.len();
-        (0..n).into_par_iter().map(|row| self.choose_one(row, key)).collect()
+        (0..n)
+            .into_par_iter()
+            .map(|row| self.choose_one(row, key))
+            .collect()
     }
 
     fn choose_one(&self, row: usize, key: &Key) -> u32 {
         match self.tied(row) {
-            Tied::Duplicates { rows, me } => {
-                if rows.len() == 2 {
+            Tied::Duplicates { rows, origin } => {
+                let me = row as u32;
+                if self.origins.is_none() && rows.len() == 2 {
                     return if rows[0] == me { rows[1] } else { rows[0] };
                 }
+                let others = rows.iter().filter(|&&r| self.origin(r) != origin).count();
                 let mut rng = key.stream(row as u64);
-                let pick = uniform_below(&mut rng, rows.len() as u64 - 1) as usize;
-                let my_pos = rows.iter().position(|&r| r == me).expect("row is in its group");
-                rows[if pick >= my_pos { pick + 1 } else { pick }]
+                let pick = uniform_below(&mut rng, others as u64) as usize;
+                *rows
+                    .iter()
+                    .filter(|&&r| self.origin(r) != origin)
+                    .nth(pick)
+                    .expect("pick is below the count")
             }
             Tied::Points(points) => {
                 if points.len() == 1 && self.distinct.rows[points[0] as usize].len() == 1 {
                     return self.distinct.rows[points[0] as usize][0];
                 }
-                let total: usize = points.iter().map(|&v| self.distinct.rows[v as usize].len()).sum();
+                let total: usize = points
+                    .iter()
+                    .map(|&v| self.distinct.rows[v as usize].len())
+                    .sum();
                 let mut rng = key.stream(row as u64);
                 let mut pick = uniform_below(&mut rng, total as u64) as usize;
                 for &v in &points {
@@ -267,26 +341,26 @@ pub fn nearest_neighbours(columns: &[&[f64]], key: &Key) -> Vec<u32> {
     Neighbourhood::new(columns).choose(key)
 }
 
-fn search_points(distinct: &Distinct) -> Vec<Vec<u32>> {
+fn search_points(distinct: &Distinct, needs_search: &[bool]) -> Vec<Vec<u32>> {
     macro_rules! dispatch {
         ($($k:literal),*) => {
             match distinct.dim {
-                $($k => run(distinct, &Tree::<$k>::new(distinct)),)*
-                _ => run(distinct, &Scan),
+                $($k => run(distinct, needs_search, &Tree::<$k>::new(distinct)),)*
+                _ => run(distinct, needs_search, &Scan),
             }
         };
     }
     dispatch!(1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12)
 }
 
-fn run(distinct: &Distinct, search: &impl PointSearch) -> Vec<Vec<u32>> {
+fn run(distinct: &Distinct, needs_search: &[bool], search: &impl PointSearch) -> Vec<Vec<u32>> {
     (0..distinct.len())
         .into_par_iter()
         .map(|u| {
-            if distinct.rows[u].len() >= 2 {
-                Vec::new() // duplicates are their own neighbours; no search needed
-            } else {
+            if needs_search[u] {
                 search.nearest_points(distinct, u)
+            } else {
+                Vec::new() // duplicates of other origins are the neighbours; no search needed
             }
         })
         .collect()
@@ -304,8 +378,14 @@ pub fn brute_force_tied_rows(columns: &[&[f64]], row: usize) -> Vec<u32> {
             })
             .sum()
     };
-    let best = (0..n).filter(|&j| j != row).map(dist).fold(f64::INFINITY, f64::min);
-    (0..n).filter(|&j| j != row && dist(j) == best).map(|j| j as u32).collect()
+    let best = (0..n)
+        .filter(|&j| j != row)
+        .map(dist)
+        .fold(f64::INFINITY, f64::min);
+    (0..n)
+        .filter(|&j| j != row && dist(j) == best)
+        .map(|j| j as u32)
+        .collect()
 }
 
 /// Whether the kd-tree path covers this dimension (for benchmarks and docs).

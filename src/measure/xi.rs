@@ -8,10 +8,10 @@
 
 use super::ranks::{at_least_counts, at_most_counts};
 use crate::rng::Key;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// One direction of the test: how far y is a function of x.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 pub struct XiTest {
     /// ξ_n(x, y).
     pub statistic: f64,

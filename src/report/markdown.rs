@@ -50,8 +50,13 @@ pub fn reproduce_command(finding: &Finding) -> String {
         format!("--seed {}", s.seed),
         format!("--scaling {}", s.scaling.name()),
         format!("--alpha {}", s.alpha),
-        format!("--replicates {}", s.replicates),
+        format!("--replicates {}", s.resampling.count),
+        format!("--resample {}", s.resampling.kind.name()),
+        format!("--stability-threshold {}", s.stability_threshold),
     ];
+    if s.resampling.kind == crate::resample::PlanKind::Subsample {
+        parts.push(format!("--fraction {}", s.resampling.fraction));
+    }
     if !s.excluded.is_empty() {
         parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
     }

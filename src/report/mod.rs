@@ -22,13 +22,17 @@ pub fn renderers() -> Vec<Box<dyn Renderer>> {
 
 /// Names a forebear output folder may hold besides the files being written now: what this and
 /// earlier layouts of the dossier write (DESIGN.md), so that re-running replaces them all.
-const DOSSIER_NAMES: [&str; 5] = [
+const DOSSIER_NAMES: [&str; 6] = [
     "result.json",
+    "partial.json",
     "dossier.md",
     "dossier.html",
     "manifest.json",
     "figures",
 ];
+
+/// The files whose `schema` proves that forebear wrote a folder.
+const SIGNED_FILES: [&str; 2] = ["result.json", "partial.json"];
 
 /// Writes every rendered file into `dir` as one step: the files are rendered first, written into a
 /// staging directory beside `dir`, and the staging directory is renamed into place. A failure at
@@ -120,14 +124,17 @@ fn check_replaceable(dir: &Path, also_ours: &[&str]) -> Result<()> {
     if let Some(name) = foreign {
         return refuse(format!("holds '{name}', a file forebear did not write"));
     }
-    if !holds_forebear_result(&dir.join("result.json")) {
+    if !SIGNED_FILES
+        .iter()
+        .any(|name| written_by_forebear(&dir.join(name)))
+    {
         return refuse("holds files but no result.json written by forebear".to_string());
     }
     Ok(())
 }
 
-/// Whether `path` is a `result.json` that forebear wrote (its `schema` names a forebear layout).
-fn holds_forebear_result(path: &Path) -> bool {
+/// Whether `path` is a JSON file that forebear wrote (its `schema` names a forebear layout).
+fn written_by_forebear(path: &Path) -> bool {
     let Ok(text) = std::fs::read_to_string(path) else {
         return false;
     };
@@ -136,7 +143,7 @@ fn holds_forebear_result(path: &Path) -> bool {
         .and_then(|v| {
             v.get("schema")
                 .and_then(|s| s.as_str())
-                .map(|s| s.starts_with("forebear.result/"))
+                .map(|s| s.starts_with("forebear."))
         })
         .unwrap_or(false)
 }

@@ -4,13 +4,12 @@
 //! decided on exact integer numerators.
 
 use super::SearchData;
-use crate::measure::neighbors::nearest_neighbours;
 use crate::measure::TargetRanks;
 use rayon::prelude::*;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// One candidate's value at one step.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Score {
     /// Candidate column.
     pub column: String,
@@ -21,7 +20,7 @@ pub struct Score {
 }
 
 /// One step of the selection, with every remaining candidate's value.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Step {
     /// 1-based step number.
     pub step: usize,
@@ -38,7 +37,7 @@ pub struct Step {
 }
 
 /// Why a selection ended.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum StopReason {
     /// The natural stopping rule: the best T_n at the last step was ≤ 0.
@@ -56,7 +55,7 @@ pub enum StopReason {
 }
 
 /// The outcome of one forward selection.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Selection {
     /// The response column.
     pub response: String,
@@ -72,17 +71,22 @@ pub struct Selection {
 pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) -> Selection {
     let ranks = TargetRanks::new(data.raw(response));
     let mut selected: Vec<usize> = Vec::new();
-    let mut remaining: Vec<usize> = candidates.iter().copied().filter(|&j| j != response).collect();
+    let mut remaining: Vec<usize> = candidates
+        .iter()
+        .copied()
+        .filter(|&j| j != response)
+        .collect();
     let mut steps = Vec::new();
     let name = |j: usize| data.name(j).to_string();
     let stop = loop {
         if remaining.is_empty() {
-            break if selected.is_empty() { StopReason::NoCandidates } else { StopReason::CandidatesExhausted };
+            break if selected.is_empty() {
+                StopReason::NoCandidates
+            } else {
+                StopReason::CandidatesExhausted
+            };
         }
-        let conditioning = (!selected.is_empty()).then(|| {
-            let key = data.neighbour_key(response, &selected);
-            nearest_neighbours(&data.space(&selected), &key)
-        });
+        let conditioning = (!selected.is_empty()).then(|| data.neighbours(response, &selected));
         let denominator = ranks.denominator(conditioning.as_deref());
         if denominator == 0 {
             break StopReason::ResponseIsFunctionOfSelected;
@@ -92,16 +96,17 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
             .map(|&j| {
                 let mut space = selected.clone();
                 space.push(j);
-                let key = data.neighbour_key(response, &space);
-                let joint = nearest_neighbours(&data.space(&space), &key);
+                let joint = data.neighbours(response, &space);
                 (j, ranks.numerator(conditioning.as_deref(), &joint))
             })
             .collect();
         // Best first; equal numerators keep candidate order (stable sort).
-        scored.sort_by(|a, b| b.1.cmp(&a.1));
+        scored.sort_by_key(|&(_, numerator)| std::cmp::Reverse(numerator));
         let value = |num: i128| num as f64 / denominator as f64;
         let (best, best_num) = scored[0];
-        let margin = scored.get(1).map(|&(_, second)| value(best_num) - value(second));
+        let margin = scored
+            .get(1)
+            .map(|&(_, second)| value(best_num) - value(second));
         let gains = best_num > 0;
         steps.push(Step {
             step: steps.len() + 1,
@@ -109,13 +114,19 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
             denominator,
             candidates: scored
                 .iter()
-                .map(|&(j, num)| Score { column: name(j), t_n: value(num), numerator: num })
+                .map(|&(j, num)| Score {
+                    column: name(j),
+                    t_n: value(num),
+                    numerator: num,
+                })
                 .collect(),
             chosen: gains.then(|| name(best)),
             margin,
         });
         if !gains {
-            break StopReason::NoPositiveGain { best_t_n: value(best_num) };
+            break StopReason::NoPositiveGain {
+                best_t_n: value(best_num),
+            };
         }
         selected.push(best);
         remaining.retain(|&j| j != best);

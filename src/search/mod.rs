@@ -9,6 +9,7 @@ pub use forward::{forward_select, Selection, Step, StopReason};
 pub use parents::{local_parents, Component, Outcome, PairTest, ParentSearch};
 
 use crate::data::Table;
+use crate::measure::neighbors::Neighbourhood;
 use crate::measure::Scaling;
 use crate::rng::Key;
 
@@ -21,6 +22,8 @@ pub struct SearchData<'a> {
     pub seed: u64,
     /// Replicate number; 0 is the full data.
     pub replicate: u64,
+    /// Original row behind each row when rows repeat (bootstrap).
+    origins: Option<Vec<u32>>,
 }
 
 impl<'a> SearchData<'a> {
@@ -34,6 +37,25 @@ impl<'a> SearchData<'a> {
             scaled,
             seed,
             replicate,
+            origins: None,
+        }
+    }
+
+    /// Marks rows that are copies of one original row (bootstrap): such rows are never each
+    /// other's nearest neighbour.
+    pub fn with_origins(mut self, origins: Vec<u32>) -> Self {
+        self.origins = Some(origins);
+        self
+    }
+
+    /// Nearest neighbours of every row in the space of `columns`, ties broken under the key of
+    /// (`response`, `columns`).
+    pub fn neighbours(&self, response: usize, columns: &[usize]) -> Vec<u32> {
+        let key = self.neighbour_key(response, columns);
+        let space = self.space(columns);
+        match &self.origins {
+            None => Neighbourhood::new(&space).choose(&key),
+            Some(origins) => Neighbourhood::with_origins(&space, origins.clone()).choose(&key),
         }
     }
 

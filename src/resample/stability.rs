@@ -1,0 +1,361 @@
+//! Stability over replicates: each replicate runs the full local parent search; the records are
+//! aggregated into frequencies, outcome frequencies, the spread of the full-data trace and the
+//! Meinshausen–Bühlmann error bound.
+
+use super::plan::ResamplePlan;
+use crate::data::Table;
+use crate::measure::{Ratio, TargetRanks};
+use crate::search::{local_parents, Outcome, ParentSearch, SearchData, Step};
+use crate::study::Study;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// What one replicate found: enough to aggregate, compare and locate a mismatch.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ReplicateRecord {
+    /// 0-based replicate index within the plan.
+    pub replicate: u32,
+    /// Rows the replicate used.
+    pub rows: usize,
+    /// MB(target) in selection order.
+    pub markov_boundary: Vec<String>,
+    /// The replicate's outcome.
+    pub outcome: Outcome,
+    /// The replicate's parent sets (each sorted by name).
+    pub parent_sets: Vec<Vec<String>>,
+    /// T_n on this replicate of the variable chosen at each step of the full-data trace, given that
+    /// step's conditioning set (`None` where undefined).
+    pub trace_values: Vec<Option<f64>>,
+    /// SHA-256 of the canonical JSON of the fields above.
+    pub digest: String,
+}
+
+/// How often one outcome occurred, with its parent sets.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct OutcomeFrequency {
+    /// The outcome.
+    pub outcome: Outcome,
+    /// Its parent sets (identified: one set; not identifiable: the singleton candidates).
+    pub parent_sets: Vec<Vec<String>>,
+    /// Share of replicates.
+    pub frequency: f64,
+    /// Number of replicates.
+    pub count: u32,
+}
+
+/// Spread across replicates of the T_n of one full-data step's chosen variable.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StepSpread {
+    /// Full-data step number.
+    pub step: usize,
+    /// The variable chosen at that step on the full data.
+    pub chosen: String,
+    /// Minimum over replicates where T_n is defined.
+    pub min: f64,
+    /// Median.
+    pub median: f64,
+    /// Maximum.
+    pub max: f64,
+    /// Replicates where T_n was defined.
+    pub defined_in: u32,
+}
+
+/// The Meinshausen–Bühlmann bound on falsely selected boundary members.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ErrorBound {
+    /// Average number of boundary members per replicate.
+    pub q: f64,
+    /// Number of candidate columns.
+    pub p: usize,
+    /// The threshold π_thr.
+    pub threshold: f64,
+    /// E[V] ≤ q² / ((2π_thr − 1)·p); `None` when p = 0.
+    pub expected_false_members: Option<f64>,
+    /// The conditions under which the bound holds.
+    pub assumptions: Vec<String>,
+}
+
+/// Stability of everything the full-data search claimed.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Stability {
+    /// The resampling plan.
+    pub plan: ResamplePlan,
+    /// Number of replicates aggregated.
+    pub replicates: u32,
+    /// π_thr: a finding is `stable` when its frequency is at least this.
+    pub threshold: f64,
+    /// Frequency of each candidate in MB(target).
+    pub markov_boundary: BTreeMap<String, f64>,
+    /// Frequency of each candidate in an identified parent set.
+    pub parents: BTreeMap<String, f64>,
+    /// Mean 1-based selection step of each column among the replicates that selected it.
+    pub mean_selection_step: BTreeMap<String, f64>,
+    /// Outcome frequencies, most frequent first.
+    pub outcomes: Vec<OutcomeFrequency>,
+    /// Spread of each full-data step's chosen T_n.
+    pub trace_spread: Vec<StepSpread>,
+    /// The error bound.
+    pub error_bound: ErrorBound,
+    /// Columns whose boundary frequency is at least π_thr.
+    pub stable_boundary: Vec<String>,
+    /// Columns whose parent frequency is at least π_thr.
+    pub stable_parents: Vec<String>,
+    /// Frequency of the full-data outcome with the same parent sets.
+    pub full_data_outcome_frequency: f64,
+    /// Whether that frequency is at least π_thr.
+    pub full_data_outcome_stable: bool,
+    /// Digest of every replicate record, by replicate index.
+    pub replicate_digests: Vec<String>,
+}
+
+/// Runs replicate `k` of `plan` on `table` and condenses it into a record.
+pub fn run_replicate(table: &Table, study: &Study, k: u32, full_trace: &[Step]) -> ReplicateRecord {
+    let plan = &study.resampling;
+    let drawn = plan.rows(k, table.n_rows());
+    let sub = table.select_rows(&drawn.rows);
+    let mut data = SearchData::new(&sub, study.scaling, plan.seed, u64::from(k) + 1);
+    if drawn.with_replacement {
+        data = data.with_origins(drawn.rows.iter().map(|&r| r as u32).collect());
+    }
+    let t = sub.index_of(&study.target).expect("target is a column");
+    let cand: Vec<usize> = study
+        .candidates
+        .iter()
+        .filter_map(|c| sub.index_of(c))
+        .collect();
+    let search = local_parents(&data, t, &cand, study.alpha);
+    let trace_values = trace_values_on(&data, t, full_trace);
+    record(k, drawn.rows.len(), &search, trace_values)
+}
+
+fn trace_values_on(data: &SearchData, target: usize, full_trace: &[Step]) -> Vec<Option<f64>> {
+    let index = |name: &str| {
+        data.names()
+            .iter()
+            .position(|n| n == name)
+            .expect("same columns")
+    };
+    let ranks = TargetRanks::new(data.raw(target));
+    full_trace
+        .iter()
+        .filter_map(|step| step.chosen.as_ref().map(|c| (step, c)))
+        .map(|(step, chosen)| {
+            let x: Vec<usize> = step.conditioning.iter().map(|c| index(c)).collect();
+            let mut xz = x.clone();
+            xz.push(index(chosen));
+            let conditioning = (!x.is_empty()).then(|| data.neighbours(target, &x));
+            let joint = data.neighbours(target, &xz);
+            Ratio {
+                numerator: ranks.numerator(conditioning.as_deref(), &joint),
+                denominator: ranks.denominator(conditioning.as_deref()),
+            }
+            .value()
+        })
+        .collect()
+}
+
+fn record(
+    k: u32,
+    rows: usize,
+    search: &ParentSearch,
+    trace_values: Vec<Option<f64>>,
+) -> ReplicateRecord {
+    let parent_sets: Vec<Vec<String>> = search
+        .parent_sets
+        .iter()
+        .map(|s| {
+            let mut s = s.clone();
+            s.sort();
+            s
+        })
+        .collect();
+    let mut rec = ReplicateRecord {
+        replicate: k,
+        rows,
+        markov_boundary: search.markov_boundary.selected.clone(),
+        outcome: search.outcome,
+        parent_sets,
+        trace_values,
+        digest: String::new(),
+    };
+    rec.digest = crate::manifest::digest(&rec);
+    rec
+}
+
+/// Aggregates replicate records (any order; sorted here by index) into stability statistics for
+/// the full-data trace, outcome and parent sets.
+pub fn aggregate(
+    plan: &ResamplePlan,
+    threshold: f64,
+    candidates: &[String],
+    full_trace: &[Step],
+    full_outcome: Outcome,
+    full_parent_sets: &[Vec<String>],
+    records: &[ReplicateRecord],
+) -> Stability {
+    let mut records: Vec<&ReplicateRecord> = records.iter().collect();
+    records.sort_by_key(|r| r.replicate);
+    let n = records.len() as u32;
+    let share = |count: u32| {
+        if n == 0 {
+            0.0
+        } else {
+            f64::from(count) / f64::from(n)
+        }
+    };
+    let mut boundary_count: BTreeMap<String, u32> =
+        candidates.iter().map(|c| (c.clone(), 0)).collect();
+    let mut parent_count = boundary_count.clone();
+    let mut step_sum: BTreeMap<String, (usize, u32)> = BTreeMap::new();
+    // Keyed by (outcome name, parent sets) so that the order is fixed.
+    type OutcomeKey = (String, Vec<Vec<String>>);
+    let mut outcome_count: BTreeMap<OutcomeKey, (Outcome, u32)> = BTreeMap::new();
+    for r in &records {
+        for (step, c) in r.markov_boundary.iter().enumerate() {
+            *boundary_count.entry(c.clone()).or_default() += 1;
+            let e = step_sum.entry(c.clone()).or_default();
+            e.0 += step + 1;
+            e.1 += 1;
+        }
+        if r.outcome == Outcome::Identified {
+            for c in r.parent_sets.iter().flatten() {
+                *parent_count.entry(c.clone()).or_default() += 1;
+            }
+        }
+        let e = outcome_count
+            .entry((r.outcome.name().to_string(), r.parent_sets.clone()))
+            .or_insert((r.outcome, 0));
+        e.1 += 1;
+    }
+    let mut outcomes: Vec<OutcomeFrequency> = outcome_count
+        .into_iter()
+        .map(|((_, parent_sets), (outcome, count))| OutcomeFrequency {
+            outcome,
+            parent_sets,
+            frequency: share(count),
+            count,
+        })
+        .collect();
+    outcomes.sort_by_key(|o| std::cmp::Reverse(o.count));
+    let markov_boundary: BTreeMap<String, f64> = boundary_count
+        .iter()
+        .map(|(c, &k)| (c.clone(), share(k)))
+        .collect();
+    let parents: BTreeMap<String, f64> = parent_count
+        .iter()
+        .map(|(c, &k)| (c.clone(), share(k)))
+        .collect();
+    let full_sets: Vec<Vec<String>> = full_parent_sets
+        .iter()
+        .map(|s| {
+            let mut s = s.clone();
+            s.sort();
+            s
+        })
+        .collect();
+    let full_count = records
+        .iter()
+        .filter(|r| r.outcome == full_outcome && r.parent_sets == full_sets)
+        .count() as u32;
+    let q = if n == 0 {
+        0.0
+    } else {
+        records
+            .iter()
+            .map(|r| r.markov_boundary.len())
+            .sum::<usize>() as f64
+            / f64::from(n)
+    };
+    Stability {
+        plan: plan.clone(),
+        replicates: n,
+        threshold,
+        stable_boundary: markov_boundary
+            .iter()
+            .filter(|(_, &f)| f >= threshold)
+            .map(|(c, _)| c.clone())
+            .collect(),
+        stable_parents: parents
+            .iter()
+            .filter(|(_, &f)| f >= threshold)
+            .map(|(c, _)| c.clone())
+            .collect(),
+        markov_boundary,
+        parents,
+        mean_selection_step: step_sum
+            .into_iter()
+            .map(|(c, (sum, count))| (c, sum as f64 / f64::from(count)))
+            .collect(),
+        outcomes,
+        trace_spread: spread(full_trace, &records),
+        error_bound: error_bound(q, candidates.len(), threshold),
+        full_data_outcome_frequency: share(full_count),
+        full_data_outcome_stable: share(full_count) >= threshold,
+        replicate_digests: records.iter().map(|r| r.digest.clone()).collect(),
+    }
+}
+
+fn spread(full_trace: &[Step], records: &[&ReplicateRecord]) -> Vec<StepSpread> {
+    full_trace
+        .iter()
+        .filter_map(|s| s.chosen.as_ref().map(|c| (s.step, c.clone())))
+        .enumerate()
+        .map(|(i, (step, chosen))| {
+            let mut values: Vec<f64> = records
+                .iter()
+                .filter_map(|r| r.trace_values.get(i).copied().flatten())
+                .collect();
+            values.sort_by(f64::total_cmp);
+            let m = values.len();
+            let median = match m {
+                0 => 0.0,
+                _ if m % 2 == 1 => values[m / 2],
+                _ => (values[m / 2 - 1] + values[m / 2]) / 2.0,
+            };
+            StepSpread {
+                step,
+                chosen,
+                min: values.first().copied().unwrap_or(0.0),
+                median,
+                max: values.last().copied().unwrap_or(0.0),
+                defined_in: m as u32,
+            }
+        })
+        .collect()
+}
+
+/// Meinshausen and Bühlmann (JRSS-B 2010), Theorem 1: E[V] ≤ q² / ((2π_thr − 1)·p) for
+/// π_thr ∈ (1/2, 1], with q the expected number of selected variables per replicate.
+pub fn error_bound(q: f64, p: usize, threshold: f64) -> ErrorBound {
+    ErrorBound {
+        q,
+        p,
+        threshold,
+        expected_false_members: (p > 0).then(|| q * q / ((2.0 * threshold - 1.0) * p as f64)),
+        assumptions: vec![
+            "the selection of each column that is not a boundary member is exchangeable with that of \
+             every other such column"
+                .into(),
+            "the selection procedure is no worse than random guessing".into(),
+            "q is estimated by the average boundary size over the replicates; the theorem takes it as \
+             known"
+                .into(),
+            "the bound concerns boundary membership, not the parent claim".into(),
+        ],
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn error_bound_matches_the_worked_values() {
+        // check-values.md (Meinshausen and Bühlmann 2010, Theorem 1): q = 5, p = 100, π = 0.6 → 1.25;
+        // q = 4, p = 20, π = 0.9 → 1.0.
+        let a = error_bound(5.0, 100, 0.6).expected_false_members.unwrap();
+        let b = error_bound(4.0, 20, 0.9).expected_false_members.unwrap();
+        assert!((a - 1.25).abs() < 1e-12, "{a}");
+        assert!((b - 1.0).abs() < 1e-12, "{b}");
+    }
+}
