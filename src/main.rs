@@ -12,6 +12,11 @@ fn main() {
             .map(|s| s.to_string())
             .or_else(|| info.payload().downcast_ref::<String>().cloned())
             .unwrap_or_else(|| "unknown panic".to_string());
+        // The reader of our output went away (`forebear demo --regenerate | head`): not a bug, and
+        // nothing left to say.
+        if message.starts_with("failed printing to stdout") && message.contains("Broken pipe") {
+            std::process::exit(0);
+        }
         let place = info
             .location()
             .map(|l| format!(" at {}:{}", l.file(), l.line()))

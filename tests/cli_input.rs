@@ -1043,3 +1043,22 @@ fn demo_writes_both_results_with_their_outcomes() {
         "not_identifiable"
     );
 }
+
+#[test]
+fn closed_stdout_is_not_an_internal_error() {
+    use std::io::Read;
+    use std::process::Stdio;
+    // The demo CSV (about 80 kB) is larger than a pipe's buffer, so the write meets a closed pipe.
+    let mut child = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(["demo", "--regenerate"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = [0u8; 16];
+    child.stdout.take().unwrap().read_exact(&mut first).unwrap();
+    let output = child.wait_with_output().unwrap();
+    assert_eq!(&first[..8], b"kiln_pea");
+    assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
+    assert!(output.stderr.is_empty(), "{}", stderr_of(&output));
+}

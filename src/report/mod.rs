@@ -58,6 +58,8 @@ pub fn write_files_atomically(dir: &Path, files: &[(&str, String)]) -> Result<()
         ))
     })?;
     let staging = sibling(dir, "partial");
+    // A staging folder of this name can only be left over from a killed run with the same id.
+    let _ = std::fs::remove_dir_all(&staging);
     let result = (|| {
         std::fs::create_dir(&staging)
             .map_err(|e| Error::input(format!("cannot write into '{}': {e}", parent.display())))?;
