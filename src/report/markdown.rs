@@ -1,13 +1,20 @@
-//! `dossier.md`: the finding in words, from the template `templates/summary.md`.
+//! `dossier.md`: the finding in words, from the template `templates/dossier.md`, the single source of
+//! the dossier's text (the HTML is this Markdown, converted).
+//!
+//! Safety: every value the template prints goes through [`escape_markdown`] unless a filter marks
+//! it safe, so a column or file name can never become Markdown or HTML markup. Numbers are formatted
+//! by filters here: T_n with 3 decimals, p-values in scientific notation below 0.001.
 
 use super::Renderer;
 use crate::error::{Error, Result};
 use crate::finding::Finding;
+use minijinja::value::Value;
 use minijinja::{context, Environment};
+use sha2::{Digest, Sha256};
 
-const TEMPLATE: &str = include_str!("../../templates/summary.md");
+const TEMPLATE: &str = include_str!("../../templates/dossier.md");
 
-/// The Markdown summary.
+/// The Markdown dossier.
 pub struct Markdown;
 
 impl Renderer for Markdown {
@@ -16,31 +23,148 @@ impl Renderer for Markdown {
     }
 
     fn render(&self, finding: &Finding) -> Result<String> {
-        let mut env = Environment::new();
-        env.set_syntax(
-            minijinja::syntax::SyntaxConfig::builder()
-                .trim_blocks(true)
-                .lstrip_blocks(true)
-                .keep_trailing_newline(true)
-                .build()
-                .expect("static syntax settings"),
-        );
-        env.add_filter("fixed", fixed);
-        env.add_template("summary.md", TEMPLATE)
-            .map_err(|e| Error::internal(format!("summary template: {e}")))?;
-        let template = env.get_template("summary.md").expect("just added");
-        template
-            .render(context! { f => minijinja::Value::from(minijinja::value::Serde(finding)), reproduce => reproduce_command(finding) })
-            .map_err(|e| Error::internal(format!("cannot render the summary: {e:#}")))
+        render_markdown(finding)
     }
+}
+
+/// The dossier's Markdown text.
+pub fn render_markdown(finding: &Finding) -> Result<String> {
+    let env = environment()?;
+    let template = env.get_template("dossier.md").expect("just added");
+    let reproduce = reproduce_command(finding);
+    template
+        .render(context! {
+            f => Value::from(minijinja::value::Serde(finding)),
+            date => run_date(finding),
+            reproduce_fence => fence_for(&reproduce),
+            reproduce => reproduce,
+            verify => verify_command(finding),
+            settings_sha256 => settings_sha256(finding),
+            other_members => other_members(finding),
+            candidate_names => finding.parent_sets.iter().flatten().cloned().collect::<Vec<_>>(),
+        })
+        .map_err(|e| Error::internal(format!("cannot render the dossier: {e:#}")))
+}
+
+fn environment() -> Result<Environment<'static>> {
+    let mut env = Environment::new();
+    env.set_syntax(
+        minijinja::syntax::SyntaxConfig::builder()
+            .trim_blocks(true)
+            .lstrip_blocks(true)
+            .keep_trailing_newline(true)
+            .build()
+            .expect("static syntax settings"),
+    );
+    env.set_formatter(|out, _state, value| {
+        let text = if value.is_safe() {
+            value.to_string()
+        } else if value.is_none() || value.is_undefined() {
+            "—".to_string()
+        } else {
+            escape_markdown(&value.to_string())
+        };
+        out.write_str(&text)
+            .map_err(|e| minijinja::Error::new(minijinja::ErrorKind::WriteFailure, e.to_string()))
+    });
+    env.add_filter("fixed", fixed);
+    env.add_filter("tn", |v: f64| fixed(v, Some(3)));
+    env.add_filter("pval", p_value);
+    env.add_filter("pct", percent);
+    env.add_filter("names", names);
+    env.add_template("dossier.md", TEMPLATE)
+        .map_err(|e| Error::internal(format!("dossier template: {e}")))?;
+    Ok(env)
+}
+
+/// Escapes text for Markdown (CommonMark with tables): punctuation that could start markup is
+/// backslash-escaped, line breaks become spaces, so the text renders literally, `<` and `&`
+/// included, and cannot end a table cell.
+pub fn escape_markdown(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '|' | '~' | '&' | '#' | '!' | '{'
+            | '}' | '$' => {
+                out.push('\\');
+                out.push(c);
+            }
+            '\n' | '\r' | '\t' => out.push(' '),
+            c if c.is_control() => out.push('\u{FFFD}'),
+            c => out.push(c),
+        }
+    }
+    out
 }
 
 /// A number with a fixed count of decimals (`{{ x | fixed(3) }}`).
 fn fixed(value: f64, digits: Option<usize>) -> String {
-    format!("{value:.*}", digits.unwrap_or(3))
+    let text = format!("{value:.*}", digits.unwrap_or(3));
+    // "-0.000" says nothing a reader needs; print zero.
+    if text
+        .trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
+        text.trim_start_matches('-').to_string()
+    } else {
+        text
+    }
 }
 
-/// The shell command that re-runs this analysis.
+/// A p-value: 3 decimals from 0.001 up, scientific notation below.
+pub fn p_value(p: f64) -> String {
+    if p >= 0.001 {
+        format!("{p:.3}")
+    } else if p < 1e-300 {
+        "< 1e-300".to_string()
+    } else {
+        format!("{p:.1e}")
+    }
+}
+
+/// A frequency in [0, 1] as a whole percentage.
+fn percent(frequency: f64) -> String {
+    format!("{:.0} %", frequency * 100.0)
+}
+
+/// A list of names joined by commas, or "none".
+fn names(list: Vec<String>) -> String {
+    if list.is_empty() {
+        "none".to_string()
+    } else {
+        list.join(", ")
+    }
+}
+
+/// The UTC day of the analysis (the only run fact in the dossier's text).
+fn run_date(finding: &Finding) -> String {
+    finding.run.started_utc.chars().take(10).collect()
+}
+
+/// SHA-256 of the canonical JSON of the validated settings.
+pub fn settings_sha256(finding: &Finding) -> String {
+    let text = crate::manifest::canonical_json(&finding.settings);
+    crate::data::fingerprint::hex(&Sha256::digest(text.as_bytes()))
+}
+
+/// Members of the target's boundary that are in no candidate parent set.
+fn other_members(finding: &Finding) -> Vec<String> {
+    finding
+        .markov_boundary
+        .iter()
+        .filter(|m| !finding.parent_sets.iter().flatten().any(|p| p == *m))
+        .cloned()
+        .collect()
+}
+
+/// A code fence longer than any run of backticks in `text`.
+fn fence_for(text: &str) -> String {
+    let longest = text.split(|c| c != '`').map(str::len).max().unwrap_or(0);
+    "`".repeat((longest + 1).max(3))
+}
+
+/// The shell command that re-runs this analysis (into a new folder).
 pub fn reproduce_command(finding: &Finding) -> String {
     let s = &finding.settings;
     let mut parts = vec![
@@ -60,16 +184,62 @@ pub fn reproduce_command(finding: &Finding) -> String {
     if !s.excluded.is_empty() {
         parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
     }
-    parts.join(" ")
+    parts.push("--out rerun".to_string());
+    one_line(&parts.join(" "))
+}
+
+/// The command that checks this dossier against the data.
+pub fn verify_command(finding: &Finding) -> String {
+    one_line(&format!(
+        "forebear verify DOSSIER_FOLDER --data {}",
+        shell_quote(&finding.run.data_path)
+    ))
+}
+
+/// Keeps a command on one line inside a code block (names with line breaks are rare but legal).
+fn one_line(command: &str) -> String {
+    command.replace(['\n', '\r'], "\u{FFFD}")
 }
 
 fn shell_quote(text: &str) -> String {
-    if text
-        .chars()
-        .all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c))
+    if !text.is_empty()
+        && text
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c))
     {
         text.to_string()
     } else {
         format!("'{}'", text.replace('\'', r"'\''"))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn hostile_text_is_escaped() {
+        assert_eq!(
+            escape_markdown("<img src=x onerror=alert(1)>"),
+            r"\<img src=x onerror=alert(1)\>"
+        );
+        assert_eq!(escape_markdown("a|b*c\nd"), r"a\|b\*c d");
+    }
+
+    #[test]
+    fn numbers_have_the_stated_precision() {
+        assert_eq!(fixed(0.12345, Some(3)), "0.123");
+        assert_eq!(fixed(-0.0001, Some(3)), "0.000");
+        assert_eq!(fixed(-0.0987, Some(3)), "-0.099");
+        assert_eq!(p_value(0.0123), "0.012");
+        assert_eq!(p_value(0.001), "0.001");
+        assert_eq!(p_value(0.000123), "1.2e-4");
+        assert_eq!(p_value(0.0), "< 1e-300");
+    }
+
+    #[test]
+    fn fences_outgrow_backticks() {
+        assert_eq!(fence_for("plain"), "```");
+        assert_eq!(fence_for("a````b"), "`````");
     }
 }
