@@ -1,7 +1,10 @@
 //! Renderers: each turns one [`Finding`] into one file. Nothing here recomputes statistics.
 
+pub mod figures;
+pub mod html;
 pub mod json;
 pub mod markdown;
+pub mod tables;
 
 use crate::error::{Error, Result};
 use crate::finding::Finding;
@@ -17,13 +20,21 @@ pub trait Renderer {
 
 /// Every renderer of the dossier, in writing order.
 pub fn renderers() -> Vec<Box<dyn Renderer>> {
-    vec![Box::new(json::Json), Box::new(markdown::Markdown)]
+    vec![
+        Box::new(json::Json),
+        Box::new(markdown::Markdown),
+        Box::new(html::Html),
+        Box::new(tables::StabilityCsv),
+        Box::new(tables::TraceCsv),
+    ]
 }
 
 /// Names a forebear output folder may hold besides the files being written now: what this and
 /// earlier layouts of the dossier write (DESIGN.md), so that re-running replaces them all.
-const DOSSIER_NAMES: [&str; 6] = [
+const DOSSIER_NAMES: [&str; 8] = [
     "result.json",
+    "stability.csv",
+    "trace.csv",
     "partial.json",
     "dossier.md",
     "dossier.html",

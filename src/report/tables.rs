@@ -1,0 +1,168 @@
+//! `stability.csv` and `trace.csv`: the frequencies and the selection traces as plain tables for
+//! other analysis tools.
+//!
+//! Spreadsheet formula injection: a text cell (a column name, a list of names) that begins with
+//! `=`, `+`, `-`, `@`, a tab or a carriage return gets a leading apostrophe, which spreadsheets show
+//! as text instead of evaluating. Numeric cells are written by forebear from numbers and are never
+//! changed (so `-0.123` stays a number); a text cell that is itself a plain decimal number, such as a
+//! column named `-1`, is left alone too, since it cannot hold a formula.
+
+use super::Renderer;
+use crate::error::{Error, Result};
+use crate::finding::Finding;
+
+/// `stability.csv`: one row per candidate column.
+pub struct StabilityCsv;
+
+/// `trace.csv`: one row per candidate at every step of every selection.
+pub struct TraceCsv;
+
+/// A cell of a table: text from input, or a number forebear computed.
+enum Cell {
+    Text(String),
+    Number(String),
+}
+
+fn text(s: &str) -> Cell {
+    Cell::Text(s.to_string())
+}
+
+fn number(x: impl ToString) -> Cell {
+    Cell::Number(x.to_string())
+}
+
+/// Neutralises a text cell against formula evaluation (see the module comment).
+pub fn neutralise(cell: &str) -> String {
+    let risky = cell.starts_with(['=', '+', '-', '@', '\t', '\r']);
+    if risky && !is_plain_number(cell) {
+        format!("'{cell}")
+    } else {
+        cell.to_string()
+    }
+}
+
+fn is_plain_number(cell: &str) -> bool {
+    let digits = cell.strip_prefix(['-', '+']).unwrap_or(cell);
+    !digits.is_empty()
+        && digits.chars().any(|c| c.is_ascii_digit())
+        && digits.chars().all(|c| c.is_ascii_digit() || c == '.')
+        && digits.matches('.').count() <= 1
+}
+
+fn write_csv(header: &[&str], rows: Vec<Vec<Cell>>) -> Result<String> {
+    let mut writer = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(Vec::new());
+    let fail = |e: csv::Error| Error::internal(format!("cannot write a CSV table: {e}"));
+    writer.write_record(header).map_err(fail)?;
+    for row in rows {
+        let cells: Vec<String> = row
+            .into_iter()
+            .map(|c| match c {
+                Cell::Text(s) => neutralise(&s),
+                Cell::Number(s) => s,
+            })
+            .collect();
+        writer.write_record(&cells).map_err(fail)?;
+    }
+    let bytes = writer
+        .into_inner()
+        .map_err(|e| Error::internal(format!("cannot write a CSV table: {e}")))?;
+    String::from_utf8(bytes).map_err(|e| Error::internal(format!("CSV table: {e}")))
+}
+
+impl Renderer for StabilityCsv {
+    fn file_name(&self) -> &'static str {
+        "stability.csv"
+    }
+
+    fn render(&self, finding: &Finding) -> Result<String> {
+        let header = [
+            "column",
+            "markov_boundary_frequency",
+            "parent_frequency",
+            "mean_selection_step",
+            "stable_boundary_member",
+            "stable_parent",
+            "replicates",
+            "threshold",
+        ];
+        let mut rows = Vec::new();
+        if let Some(st) = &finding.stability {
+            for (name, freq) in &st.markov_boundary {
+                let parents = st.parents.get(name).copied().unwrap_or(0.0);
+                rows.push(vec![
+                    text(name),
+                    number(freq),
+                    number(parents),
+                    st.mean_selection_step
+                        .get(name)
+                        .map_or(Cell::Number(String::new()), number),
+                    number(*freq >= st.threshold),
+                    number(parents >= st.threshold),
+                    number(st.replicates),
+                    number(st.threshold),
+                ]);
+            }
+        }
+        write_csv(&header, rows)
+    }
+}
+
+impl Renderer for TraceCsv {
+    fn file_name(&self) -> &'static str {
+        "trace.csv"
+    }
+
+    fn render(&self, finding: &Finding) -> Result<String> {
+        let header = [
+            "response",
+            "step",
+            "conditioning_set",
+            "candidate",
+            "t_n",
+            "numerator",
+            "denominator",
+            "chosen",
+        ];
+        let mut rows = Vec::new();
+        let selections = std::iter::once((&finding.target, &finding.trace)).chain(
+            finding
+                .markov_boundary
+                .iter()
+                .filter_map(|m| finding.boundaries.get(m).map(|b| (m, &b.steps))),
+        );
+        for (response, steps) in selections {
+            for step in steps {
+                for candidate in &step.candidates {
+                    rows.push(vec![
+                        text(response),
+                        number(step.step),
+                        text(&step.conditioning.join(";")),
+                        text(&candidate.column),
+                        number(candidate.t_n),
+                        number(candidate.numerator),
+                        number(step.denominator),
+                        number(step.chosen.as_ref() == Some(&candidate.column)),
+                    ]);
+                }
+            }
+        }
+        write_csv(&header, rows)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formulas_are_neutralised_and_numbers_are_not() {
+        assert_eq!(neutralise("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(neutralise("+cmd"), "'+cmd");
+        assert_eq!(neutralise("-2+3"), "'-2+3");
+        assert_eq!(neutralise("@SUM(A1)"), "'@SUM(A1)");
+        assert_eq!(neutralise("-0.123"), "-0.123");
+        assert_eq!(neutralise("plain"), "plain");
+    }
+}
