@@ -165,10 +165,19 @@ pub fn local_parents(
     // A member counts only if membership is mutual with the target as well: under the assumptions
     // Y ∈ MB(X) iff X ∈ MB(Y), so a member whose own boundary lacks Y is treated as a chance
     // selection (reported in the diagnostics) and takes no part in the graph. This can only remove
-    // claims, never add one.
+    // claims, never add one. Exception: a member that is a function of its own selected set (its
+    // search stopped on a zero denominator) has a truncated boundary, so the absence of Y there is
+    // no evidence against it.
     let target_name = data.name(target).to_string();
     let confirmed: Vec<usize> = (0..members.len())
-        .filter(|&a| boundary_sets[a].contains(target_name.as_str()))
+        .filter(|&a| {
+            boundary_sets[a].contains(target_name.as_str())
+                || member_selections[a].stop == StopReason::ResponseIsFunctionOfSelected
+        })
+        .collect();
+    let unconfirmed: Vec<String> = (0..members.len())
+        .filter(|a| !confirmed.contains(a))
+        .map(|a| data.name(members[a]).to_string())
         .collect();
     let mut one_way = Vec::new();
     for a in 0..members.len() {
@@ -238,7 +247,7 @@ pub fn local_parents(
         outcome,
         &parent_sets,
         &components,
-        &diagnostics.target_missing_from_member_boundary,
+        &unconfirmed,
     );
     ParentSearch {
         target: target_name,
@@ -348,13 +357,24 @@ fn explain(
     unconfirmed: &[String],
 ) -> String {
     match outcome {
-        Outcome::Identified => format!(
-            "The parents of '{target}' are identified as {}: these columns are each directly \
-             associated with '{target}', independent of each other, and jointly informative about \
-             it, a pattern (a v-structure) that only direct causes of '{target}' produce under the \
-             stated assumptions.",
-            quoted(&parent_sets[0])
-        ),
+        Outcome::Identified => {
+            let mut text = format!(
+                "The parents of '{target}' are identified as {}: each carries information about \
+                 '{target}' that no other measured column explains, they are independent of each \
+                 other, and together they form a pattern (a v-structure) that only direct causes of \
+                 '{target}' produce under the stated assumptions.",
+                quoted(&parent_sets[0])
+            );
+            if !unconfirmed.is_empty() {
+                text.push_str(&format!(
+                    " Further columns ({}) were selected into the Markov boundary but not confirmed \
+                     by their own searches and were left out; if any of them is a direct cause too, \
+                     this set is incomplete.",
+                    quoted(unconfirmed)
+                ));
+            }
+            text
+        }
         Outcome::NotIdentifiable => {
             let singles: Vec<String> = parent_sets.iter().map(|s| s[0].clone()).collect();
             if components.is_empty() {
@@ -371,17 +391,23 @@ fn explain(
                      apart from effects; no single column stands alone either."
                 )
             } else {
-                let (which, verb, count) = if singles.len() == 1 {
-                    ("The candidate", "is", "It may be a parent or a child")
+                let (which, verb, verdict) = if singles.len() == 1 {
+                    ("The candidate", "carries", "It may be a direct cause or a direct effect")
                 } else {
-                    ("The candidates", "are each", "At most one of them is a parent, and possibly none")
+                    (
+                        "The candidates",
+                        "each carry",
+                        "The data cannot tell which of them, if any, are direct causes and which are \
+                         effects",
+                    )
                 };
                 format!(
                     "The parents of '{target}' are not identifiable from these data. {which} {} \
-                     {verb} directly associated with '{target}', but with at most one direct cause \
-                     the data look the same whether the dependence points into '{target}' or out of \
-                     it (Markov equivalence). {count}; an experiment or knowledge of time order \
-                     would settle it.",
+                     {verb} information about '{target}' that no other measured column explains, \
+                     but the direction of such a link cannot be read from observational data alone: \
+                     a lone direct cause leaves the same pattern as a direct effect (Markov \
+                     equivalence). {verdict}; an experiment or knowledge of the time order would \
+                     settle it.",
                     quoted(&singles)
                 )
             }
