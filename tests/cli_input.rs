@@ -860,12 +860,21 @@ fn sha256_hex(bytes: &[u8]) -> String {
 // ---- the output folder --------------------------------------------------------------------------
 
 #[test]
-fn output_folder_holding_a_previous_result_is_replaced() {
+fn output_folder_holding_a_previous_result_is_replaced_only_with_force() {
     let s = Scratch::new("replace");
     let data = s.write("data.csv", csv_text(&table(40)));
     assert_success(&analyze(&s, &data, "y", &["--seed", "1"]));
     assert_eq!(result_json(&s.path("out"))["settings"]["seed"], 1);
-    assert_success(&analyze(&s, &data, "y", &["--seed", "2"]));
+    let refused = analyze(&s, &data, "y", &["--seed", "2"]);
+    let stderr = stderr_of(&refused);
+    assert_eq!(refused.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("--force"), "{stderr}");
+    assert_eq!(
+        result_json(&s.path("out"))["settings"]["seed"],
+        1,
+        "left untouched"
+    );
+    assert_success(&analyze(&s, &data, "y", &["--seed", "2", "--force"]));
     assert_eq!(result_json(&s.path("out"))["settings"]["seed"], 2);
     assert_eq!(
         s.entries(),

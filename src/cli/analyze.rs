@@ -17,7 +17,7 @@ pub struct AnalyzeArgs {
     /// The outcome column whose direct causes are sought.
     #[arg(long)]
     pub target: String,
-    /// Output folder for result.json and dossier.md.
+    /// Output folder for result.json, dossier.md, dossier.html, stability.csv and trace.csv.
     #[arg(long, default_value = "forebear-output")]
     pub out: PathBuf,
     /// Study seed for every random tie-break and resample.
@@ -56,6 +56,9 @@ pub struct AnalyzeArgs {
         allow_hyphen_values = true
     )]
     pub missing_tokens: String,
+    /// Replace an existing output folder that holds a previous forebear result.
+    #[arg(long)]
+    pub force: bool,
 }
 
 impl AnalyzeArgs {
@@ -112,7 +115,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
     let input = args.study_input()?;
     if let Some(range) = &args.replicate_range {
         let range = parse_range(range)?;
-        crate::report::check_output_folder(&args.out)?;
+        crate::report::check_output_folder(&args.out, args.force)?;
         let part = crate::analysis::analyze_part(
             &args.data,
             &input,
@@ -123,7 +126,11 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         )?;
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
-        crate::report::write_files_atomically(&args.out, &[("partial.json", text + "\n")])?;
+        crate::report::write_files_atomically(
+            &args.out,
+            &[("partial.json", text + "\n")],
+            args.force,
+        )?;
         println!("{}", args.out.join("partial.json").display());
         return Ok(());
     }
@@ -132,6 +139,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         &input,
         &args.load_options(),
         &args.out,
+        args.force,
         argv,
         progress,
     )
@@ -143,16 +151,16 @@ pub fn analyze_into(
     input: &StudyInput,
     options: &LoadOptions,
     out: &Path,
+    force: bool,
     argv: Vec<String>,
     progress: &dyn Progress,
 ) -> Result<()> {
     // Refuse an unusable output folder before the work, not after it.
-    crate::report::check_output_folder(out)?;
+    crate::report::check_output_folder(out, force)?;
     let finding = analyze_file(data, input, options, argv, progress)?;
-    crate::report::write_dossier(&finding, out)?;
+    crate::report::write_dossier(&finding, out, force)?;
     progress.say(&format!(
-        "wrote {}/result.json and {}/dossier.md",
-        out.display(),
+        "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv)",
         out.display()
     ));
     println!(

@@ -17,6 +17,9 @@ pub struct DemoArgs {
     /// Re-create the demo CSV from its seeded generator and print it to stdout (maintainers).
     #[arg(long)]
     pub regenerate: bool,
+    /// Replace the dossiers of an earlier demo run in the same folder.
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// Runs `demo`.
@@ -51,12 +54,13 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             &input,
             &LoadOptions::default(),
             &args.out.join(target),
+            args.force,
             argv,
             progress,
         )?;
     }
     println!(
-        "demo output is in {}/ (one folder per target; open dossier.md)",
+        "demo output is in {}/ (one folder per target; open dossier.html)",
         args.out.display()
     );
     Ok(())

@@ -14,11 +14,14 @@ pub struct MergeArgs {
     /// Output folder for the merged result.
     #[arg(long, default_value = "forebear-output")]
     pub out: PathBuf,
+    /// Replace an existing output folder that holds a previous forebear result.
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// Runs `merge`.
 pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
-    crate::report::check_output_folder(&args.out)?;
+    crate::report::check_output_folder(&args.out, args.force)?;
     let mut parts = Vec::new();
     for path in &args.parts {
         let file = if path.is_dir() {
@@ -44,7 +47,7 @@ pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     }
     progress.say(&format!("merging {} parts", parts.len()));
     let finding = merge_parts(parts, argv)?;
-    crate::report::write_dossier(&finding, &args.out)?;
+    crate::report::write_dossier(&finding, &args.out, args.force)?;
     println!(
         "{}: {} — {}",
         finding.target,

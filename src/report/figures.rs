@@ -72,13 +72,20 @@ fn trace_chart(finding: &Finding) -> Option<String> {
             .disable_x_mesh()
             .x_labels(points.len())
             .x_label_formatter(&|x| format!("{x:.0}"))
-            .y_label_formatter(&|y| format!("{y:.2}"))
+            .y_label_formatter(&|y| {
+                let text = format!("{y:.2}");
+                if text == "-0.00" {
+                    "0.00".to_string()
+                } else {
+                    text
+                }
+            })
             .x_desc("selection step")
             .y_desc("T_n of the best column")
             .axis_desc_style((FONT, 14))
             .label_style((FONT, 12))
-            .light_line_style(RGBColor(225, 225, 225))
-            .bold_line_style(RGBColor(200, 200, 200))
+            .max_light_lines(0)
+            .bold_line_style(RGBColor(215, 215, 215))
             .draw()
             .ok()?;
         chart
@@ -152,8 +159,8 @@ fn stability_chart(finding: &Finding) -> Option<String> {
             .x_desc("share of replicates")
             .axis_desc_style((FONT, 14))
             .label_style((FONT, 12))
-            .light_line_style(RGBColor(235, 235, 235))
-            .bold_line_style(RGBColor(210, 210, 210))
+            .max_light_lines(0)
+            .bold_line_style(RGBColor(215, 215, 215))
             .draw()
             .ok()?;
         for (i, (_, boundary, parents)) in rows.iter().enumerate() {
@@ -287,23 +294,31 @@ fn membership_graph(finding: &Finding) -> Option<String> {
         let passes = component.is_some_and(|c| finding.components[c].passes);
         let stroke = if passes { 4.0 } else { 1.0 };
         let label = xml_escape(&short(m));
-        let tag = component.map_or(String::new(), |c| format!(" (component {})", c + 1));
+        let tag = component.map_or(String::new(), |c| format!("component {}", c + 1));
+        // Labels sit on the far side of the node from the target, clear of the edges to it.
+        let (label_y, note_y) = if y < cy - 1.0 {
+            (y - 36.0, y - 22.0)
+        } else {
+            (y + 32.0, y + 46.0)
+        };
         svg.push_str(&format!(
             "<circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"16\" fill=\"{colour}\" stroke=\"#000000\" stroke-width=\"{stroke}\"/>\n\
              <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"13\" text-anchor=\"middle\">{label}</text>\n\
              <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\">{}{}</text>\n",
-            y + 32.0,
-            y + 46.0,
-            tag.trim_start(),
+            label_y,
+            note_y,
+            tag,
             if passes { ", passes" } else { "" },
         ));
     }
+    let target_width = (short(&finding.target).chars().count() as f64 * 8.5 + 24.0).max(110.0);
     svg.push_str(&format!(
-        "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"120\" height=\"34\" rx=\"6\" fill=\"#f2f2f2\" stroke=\"#000000\" stroke-width=\"2\"/>\n\
+        "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"{:.1}\" height=\"34\" rx=\"6\" fill=\"#f2f2f2\" stroke=\"#000000\" stroke-width=\"2\"/>\n\
          <text x=\"{cx:.1}\" y=\"{:.1}\" font-size=\"13\" font-weight=\"bold\" text-anchor=\"middle\">{}</text>\n\
          <text x=\"{cx:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\">target</text>\n",
-        cx - 60.0,
+        cx - target_width / 2.0,
         cy - 17.0,
+        target_width,
         cy + 1.0,
         xml_escape(&short(&finding.target)),
         cy + 13.0,

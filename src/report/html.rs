@@ -114,7 +114,7 @@ fn css_string(text: &str) -> String {
             if c.is_ascii_alphanumeric() || c == ' ' {
                 c.to_string()
             } else {
-                format!("\\{:06x}", c as u32)
+                format!("\\{:06x} ", c as u32)
             }
         })
         .collect()
@@ -148,7 +148,7 @@ mod tests {
     fn css_strings_cannot_escape() {
         assert_eq!(
             css_string("a\"b</style>"),
-            "a\\000022b\\00003c\\00002fstyle\\00003e"
+            "a\\000022 b\\00003c \\00002f style\\00003e "
         );
     }
 }

@@ -47,20 +47,21 @@ const SIGNED_FILES: [&str; 2] = ["result.json", "partial.json"];
 
 /// Writes every rendered file into `dir` as one step: the files are rendered first, written into a
 /// staging directory beside `dir`, and the staging directory is renamed into place. A failure at
-/// any point leaves no partial output. An existing `dir` is replaced only if it is empty or holds
-/// a previous forebear result and nothing else (see [`check_output_folder`]).
-pub fn write_dossier(finding: &Finding, dir: &Path) -> Result<()> {
+/// any point leaves no partial output. An existing `dir` is replaced only if it is empty, or if it
+/// holds a previous forebear result and nothing else and `force` is set (see
+/// [`check_output_folder`]).
+pub fn write_dossier(finding: &Finding, dir: &Path, force: bool) -> Result<()> {
     let rendered: Vec<(&'static str, String)> = renderers()
         .iter()
         .map(|r| r.render(finding).map(|text| (r.file_name(), text)))
         .collect::<Result<_>>()?;
-    write_files_atomically(dir, &rendered)
+    write_files_atomically(dir, &rendered, force)
 }
 
 /// Writes `files` (name, contents) into `dir` as one step, as described at [`write_dossier`].
-pub fn write_files_atomically(dir: &Path, files: &[(&str, String)]) -> Result<()> {
+pub fn write_files_atomically(dir: &Path, files: &[(&str, String)], force: bool) -> Result<()> {
     let extra: Vec<&str> = files.iter().map(|(name, _)| *name).collect();
-    check_replaceable(dir, &extra)?;
+    check_replaceable(dir, &extra, force)?;
     let parent = parent_of(dir);
     std::fs::create_dir_all(parent).map_err(|e| {
         Error::input(format!(
@@ -87,14 +88,15 @@ pub fn write_files_atomically(dir: &Path, files: &[(&str, String)]) -> Result<()
 }
 
 /// Checks, before any work is done, that `dir` can receive a dossier: it does not exist, or it is
-/// an empty folder, or a folder holding only a previous forebear result. Anything else would be
-/// deleted by the replacement, so it is refused.
-pub fn check_output_folder(dir: &Path) -> Result<()> {
+/// an empty folder, or (with `force`) a folder holding only a previous forebear result. A previous
+/// dossier is never replaced without `force`; anything that forebear did not write is refused even
+/// with it, since the replacement would delete it.
+pub fn check_output_folder(dir: &Path, force: bool) -> Result<()> {
     let ours: Vec<&str> = renderers().iter().map(|r| r.file_name()).collect();
-    check_replaceable(dir, &ours)
+    check_replaceable(dir, &ours, force)
 }
 
-fn check_replaceable(dir: &Path, also_ours: &[&str]) -> Result<()> {
+fn check_replaceable(dir: &Path, also_ours: &[&str], force: bool) -> Result<()> {
     if dir.file_name().is_none() {
         return Err(Error::input(format!(
             "the output folder '{}' has no name of its own; give --out a new folder such as 'results'",
@@ -142,6 +144,13 @@ fn check_replaceable(dir: &Path, also_ours: &[&str]) -> Result<()> {
         .any(|name| written_by_forebear(&dir.join(name)))
     {
         return refuse("holds files but no result.json written by forebear".to_string());
+    }
+    if !force {
+        return Err(Error::input(format!(
+            "the output folder '{}' already holds a forebear result; pass --force to replace it, \
+             or choose another --out",
+            dir.display()
+        )));
     }
     Ok(())
 }
