@@ -303,8 +303,8 @@ fn membership_graph(finding: &Finding) -> Option<String> {
         };
         svg.push_str(&format!(
             "<circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"16\" fill=\"{colour}\" stroke=\"#000000\" stroke-width=\"{stroke}\"/>\n\
-             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"13\" text-anchor=\"middle\">{label}</text>\n\
-             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\">{}{}</text>\n",
+             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"13\" text-anchor=\"middle\"{HALO}>{label}</text>\n\
+             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\"{HALO}>{}{}</text>\n",
             label_y,
             note_y,
             tag,
@@ -326,6 +326,9 @@ fn membership_graph(finding: &Finding) -> Option<String> {
     svg.push_str("</svg>\n");
     Some(svg)
 }
+
+/// A white outline behind labels keeps them readable where an edge passes underneath.
+const HALO: &str = " stroke=\"#ffffff\" stroke-width=\"4\" paint-order=\"stroke\"";
 
 /// Escapes text for XML and HTML content and attribute values.
 pub fn xml_escape(text: &str) -> String {

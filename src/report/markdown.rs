@@ -32,13 +32,16 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
     let env = environment()?;
     let template = env.get_template("dossier.md").expect("just added");
     let reproduce = reproduce_command(finding);
+    let verify = verify_command(finding);
     template
         .render(context! {
             f => Value::from(minijinja::value::Serde(finding)),
             date => run_date(finding),
-            reproduce_fence => fence_for(&reproduce),
-            reproduce => reproduce,
-            verify => verify_command(finding),
+            // Inside a fenced code block nothing is Markdown, so the commands are printed as they
+            // are; the fence outgrows any backtick run and the commands have no line breaks.
+            reproduce_fence => Value::from_safe_string(fence_for(&format!("{reproduce}{verify}"))),
+            reproduce => Value::from_safe_string(reproduce),
+            verify => Value::from_safe_string(verify),
             settings_sha256 => settings_sha256(finding),
             other_members => other_members(finding),
             candidate_names => finding.parent_sets.iter().flatten().cloned().collect::<Vec<_>>(),
