@@ -206,7 +206,8 @@ pub fn analyze_file(
         prepared.study.clone(),
         full,
         prepared.run_info(command_line),
-    );
+    )
+    .with_columns(&prepared.table);
     Ok(attach_stability(finding, &records))
 }
 
@@ -251,7 +252,8 @@ pub fn analyze_part(
         prepared.study.clone(),
         full,
         prepared.run_info(command_line),
-    );
+    )
+    .with_columns(&prepared.table);
     Ok(Partial {
         schema: PARTIAL_SCHEMA.into(),
         finding,

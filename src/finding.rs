@@ -45,6 +45,49 @@ pub struct RunInfo {
     pub command_line: Vec<String>,
 }
 
+/// What the used rows of one column look like (for the dossier's data section).
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct ColumnProfile {
+    /// The column.
+    pub name: String,
+    /// `integer` when every used value is a whole number, else `real`.
+    pub kind: String,
+    /// Distinct values among the used rows.
+    pub distinct: usize,
+    /// Share of used rows whose value occurs in another used row too.
+    pub tied_share: f64,
+}
+
+impl ColumnProfile {
+    /// Profiles every column of the table of used rows.
+    pub fn of_table(table: &crate::data::Table) -> Vec<ColumnProfile> {
+        (0..table.n_cols())
+            .map(|j| {
+                let mut values = table.column(j).to_vec();
+                values.sort_by(f64::total_cmp);
+                let mut distinct = 0;
+                let mut tied = 0;
+                for run in values.chunk_by(|a, b| a == b) {
+                    distinct += 1;
+                    if run.len() > 1 {
+                        tied += run.len();
+                    }
+                }
+                ColumnProfile {
+                    name: table.names()[j].clone(),
+                    kind: if values.iter().all(|v| v.fract() == 0.0) {
+                        "integer".into()
+                    } else {
+                        "real".into()
+                    },
+                    distinct,
+                    tied_share: tied as f64 / values.len().max(1) as f64,
+                }
+            })
+            .collect()
+    }
+}
+
 /// Everything found for one target.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Finding {
@@ -54,6 +97,9 @@ pub struct Finding {
     pub tool: ToolInfo,
     /// Data provenance and what was dropped.
     pub data: DataReport,
+    /// Profiles of the used columns (older results have none).
+    #[serde(default)]
+    pub columns: Vec<ColumnProfile>,
     /// Validated settings.
     pub settings: Study,
     /// The target column.
@@ -93,6 +139,7 @@ impl Finding {
             schema: SCHEMA.into(),
             tool: ToolInfo::current(),
             data,
+            columns: Vec::new(),
             settings,
             target: search.target,
             markov_boundary: search.markov_boundary.selected,
@@ -111,5 +158,12 @@ impl Finding {
         };
         finding.digest = crate::manifest::digest(&finding);
         finding
+    }
+
+    /// The finding with the profiles of the used columns (recomputing the digest).
+    pub fn with_columns(mut self, table: &crate::data::Table) -> Finding {
+        self.columns = ColumnProfile::of_table(table);
+        self.digest = crate::manifest::digest(&self);
+        self
     }
 }
