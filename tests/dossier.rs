@@ -385,3 +385,28 @@ fn numbers_have_the_stated_precision_in_the_dossier() {
     );
     assert!(!markdown.contains("0.0000"), "no p-value printed as zero");
 }
+
+#[test]
+fn force_replaces_a_previous_dossier_but_never_foreign_files() {
+    let s = Scratch::new("force");
+    let data = demo_csv(&s);
+    let out = s.path("out");
+    analyze(&data, "pore_density", &out, &["--replicates", "0"]);
+    std::fs::write(out.join("notes.txt"), "mine").unwrap();
+    let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(["--quiet", "analyze"])
+        .arg(&data)
+        .args([
+            "--target",
+            "pore_density",
+            "--replicates",
+            "0",
+            "--force",
+            "--out",
+        ])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    assert_eq!(read(&out, "notes.txt"), "mine", "left untouched");
+}
