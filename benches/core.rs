@@ -132,12 +132,8 @@ fn main() {
         let target =
             std::env::var("FOREBEAR_BENCH_TARGET").unwrap_or_else(|_| DEFAULT_TARGET.to_string());
         let input = StudyInput {
-            target: target.clone(),
-            exclude: Vec::new(),
-            seed: 1,
-            scaling: Scaling::Rank,
-            alpha: 0.05,
             replicates: 0,
+            ..StudyInput::for_target(&target)
         };
         let options = LoadOptions::default();
         let d = report(

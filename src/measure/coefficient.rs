@@ -6,9 +6,9 @@
 //! - X non-empty: T_n = Σ(min(R_i, R_M(i)) − min(R_i, R_N(i))) / Σ(R_i − min(R_i, R_N(i)));
 //! - X empty:     T_n = Σ(n·min(R_i, R_M(i)) − L_i²) / Σ L_i(n − L_i).
 
-use super::neighbors::nearest_neighbours;
-use super::ranks::{at_least_counts, at_most_counts};
+use super::neighbors::{nearest_neighbours, total_order_key};
 use crate::rng::Key;
+use rayon::prelude::*;
 use serde::Serialize;
 
 /// The ranks of the response that every T_n of one search shares.
@@ -19,12 +19,32 @@ pub struct TargetRanks {
 }
 
 impl TargetRanks {
-    /// R and L of a response column.
+    /// R and L of a response column: the values of `ranks::at_most_counts` and
+    /// `ranks::at_least_counts`, from one parallel sort.
     pub fn new(y: &[f64]) -> Self {
-        TargetRanks {
-            at_most: at_most_counts(y),
-            at_least: at_least_counts(y),
+        let n = y.len();
+        let mut order: Vec<(u64, u32)> = y
+            .iter()
+            .enumerate()
+            .map(|(i, &v)| (total_order_key(v), i as u32))
+            .collect();
+        order.par_sort_unstable();
+        let mut at_most = vec![0u32; n];
+        let mut at_least = vec![0u32; n];
+        let mut start = 0;
+        while start < n {
+            let value = y[order[start].1 as usize];
+            let run = order[start..]
+                .iter()
+                .take_while(|&&(_, i)| y[i as usize] == value)
+                .count();
+            for &(_, i) in &order[start..start + run] {
+                at_most[i as usize] = (start + run) as u32;
+                at_least[i as usize] = (n - start) as u32;
+            }
+            start += run;
         }
+        TargetRanks { at_most, at_least }
     }
 
     /// Number of rows.
@@ -115,6 +135,19 @@ pub fn conditional_dependence(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn counts_equal_those_of_the_ranks_module() {
+        use crate::measure::ranks::{at_least_counts, at_most_counts};
+        let mut rng = Key::new("target-ranks", 2).finish().stream(0);
+        let mut y: Vec<f64> = (0..500)
+            .map(|_| crate::rng::uniform_below(&mut rng, 23) as f64 - 11.0)
+            .collect();
+        y.extend([0.0, -0.0, -0.0, 1e-300, -1e-300, f64::MAX, f64::MIN]);
+        let ranks = TargetRanks::new(&y);
+        assert_eq!(ranks.at_most, at_most_counts(&y));
+        assert_eq!(ranks.at_least, at_least_counts(&y));
+    }
 
     #[test]
     fn unconditional_denominator_is_the_sum_of_l_times_n_minus_l() {

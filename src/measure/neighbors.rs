@@ -2,90 +2,68 @@
 //!
 //! For every row i the neighbour is a row j ≠ i at the smallest Euclidean distance. Rows whose
 //! coordinates coincide (exact duplicates, common in discrete data) are grouped first: a row with
-//! duplicates has them as its tied neighbours at distance zero. Otherwise a kd-tree (kiddo) over the
-//! distinct points finds the nearest other point(s); every row at that exact distance is tied. The
-//! choice among tied rows is uniform, drawn from the keyed stream of the row (see `rng.rs`), so it
-//! does not depend on the order in which rows or candidates are processed.
+//! duplicates has them as its tied neighbours at distance zero. Otherwise the nearest other distinct
+//! point(s) are found, and every row at that exact distance is tied. The choice among tied rows is
+//! uniform, drawn from the keyed stream of the row (see `rng.rs`), so it does not depend on the
+//! order in which rows or candidates are processed.
 //!
-//! Distances are compared exactly as computed here in a fixed order of coordinates. Under `rank`
-//! scaling coordinates are integers and these distances are exact.
+//! Distances are compared exactly as `distance` computes them, summed in the order of the columns.
+//! Under `rank` scaling coordinates are integers and these distances are exact. How the nearest
+//! points are found never changes which they are:
+//! - in one dimension the points are sorted, so the nearest lie next to each other;
+//! - up to `MAX_TREE_DIMENSION`, a kd-tree (Friedman, Bentley and Finkel, ACM TOMS 1977) skips a
+//!   cell only when a lower bound of every distance in it, kept incrementally (Arya and Mount,
+//!   SODA 1993) and widened by a slack far above its rounding error, exceeds the bound sought;
+//! - above it, every point is scanned;
+//! - a forward selection asks for the space S of the selected columns plus each candidate in turn.
+//!   A [`ConditioningSpace`] keeps, for every point of S, every other point within the distance of
+//!   its `BALL_SIZE`-th nearest (ties included). Summed in column order, a distance in S plus one
+//!   column is the distance in S plus one more non-negative term, never less, so the nearest points
+//!   in the larger space are found by walking that list until the distance in S alone exceeds the
+//!   best found; where the list runs out first, the tree of S is searched on.
 
 use crate::rng::{uniform_below, Key};
-use kiddo::{ImmutableKdTree, SquaredEuclidean};
 use rayon::prelude::*;
-use std::num::NonZeroUsize;
 
 /// Highest dimension searched with a kd-tree; above it the exact brute-force search is used.
 pub const MAX_TREE_DIMENSION: usize = 12;
 
-/// Relative slack with which tree distances are widened before the exact re-check, so that a
-/// different summation order inside the tree can never hide a tied point.
-const SLACK: f64 = 1e-9;
+/// Relative slack by which a cell's lower bound must exceed the best distance before the cell is
+/// skipped: many orders of magnitude above the rounding error of the bound (a few dozen roundings
+/// of 2^-53 along a root-to-leaf path), so a tied point can never be skipped.
+const PRUNE_SLACK: f64 = 1e-9;
 
-/// Distinct points of a space, with the rows that share each point.
-struct Distinct {
-    dim: usize,
-    /// Coordinates of distinct point u at `coords[u*dim..(u+1)*dim]`, in sorted order of points.
-    coords: Vec<f64>,
-    /// Rows at each distinct point, ascending.
-    rows: Vec<Vec<u32>>,
-    /// Distinct point of each row.
-    point_of_row: Vec<u32>,
+/// Most points in a kd-tree leaf.
+const LEAF_SIZE: usize = 8;
+
+/// Distinct points searched per parallel task.
+const CHUNK: usize = 1024;
+
+/// How many nearest points (plus ties) a [`ConditioningSpace`] keeps per point.
+const BALL_SIZE: usize = 16;
+
+/// Smallest conditioning dimension for which the lists pay: in fewer dimensions the nearest point
+/// of the larger space is often farther than the `BALL_SIZE`-th nearest in the smaller one.
+const MIN_BALL_DIMENSION: usize = 3;
+
+/// Memory allowed for the lists of one conditioning space.
+const MAX_BALL_BYTES: usize = 1 << 27;
+
+/// The sort key of a value under IEEE total order (`f64::total_cmp`), as an unsigned integer.
+pub(crate) fn total_order_key(v: f64) -> u64 {
+    let bits = v.to_bits() as i64;
+    ((bits ^ (((bits >> 63) as u64) >> 1) as i64) as u64) ^ (1 << 63)
 }
 
-impl Distinct {
-    fn new(columns: &[&[f64]]) -> Self {
-        let dim = columns.len();
-        let n = columns[0].len();
-        let mut order: Vec<u32> = (0..n as u32).collect();
-        let compare = |a: u32, b: u32| {
-            for col in columns {
-                let o = col[a as usize].total_cmp(&col[b as usize]);
-                if o != std::cmp::Ordering::Equal {
-                    return o;
-                }
-            }
-            std::cmp::Ordering::Equal
-        };
-        order.par_sort_by(|&a, &b| compare(a, b).then(a.cmp(&b)));
-        let mut coords = Vec::new();
-        let mut rows: Vec<Vec<u32>> = Vec::new();
-        let mut point_of_row = vec![0u32; n];
-        for (k, &row) in order.iter().enumerate() {
-            if k == 0 || compare(order[k - 1], row) != std::cmp::Ordering::Equal {
-                coords.extend(columns.iter().map(|c| normalise_zero(c[row as usize])));
-                rows.push(Vec::new());
-            }
-            let u = rows.len() - 1;
-            rows[u].push(row);
-            point_of_row[row as usize] = u as u32;
-        }
-        Distinct {
-            dim,
-            coords,
-            rows,
-            point_of_row,
-        }
-    }
-
-    fn len(&self) -> usize {
-        self.rows.len()
-    }
-
-    fn point(&self, u: usize) -> &[f64] {
-        &self.coords[u * self.dim..(u + 1) * self.dim]
-    }
-
-    fn distance(&self, u: usize, v: usize) -> f64 {
-        self.point(u)
-            .iter()
-            .zip(self.point(v))
-            .map(|(a, b)| (a - b) * (a - b))
-            .sum()
-    }
+/// The squared Euclidean distance, summed in coordinate order: the one definition every exact
+/// comparison uses.
+#[inline(always)]
+fn distance(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
 }
 
-/// -0.0 and 0.0 are the same point.
+/// -0.0 and 0.0 are the same coordinate (rows at them are still different points, as the raw
+/// values are grouped under total order).
 fn normalise_zero(v: f64) -> f64 {
     if v == 0.0 {
         0.0
@@ -94,163 +72,649 @@ fn normalise_zero(v: f64) -> f64 {
     }
 }
 
-/// The rows tied for nearest neighbour of one row.
-enum Tied<'a> {
-    /// The rows at the same point (distance zero) whose origin differs from `origin`.
-    Duplicates { rows: &'a [u32], origin: u32 },
-    /// All rows of these distinct points (ascending point order), at the same positive distance.
-    Points(Vec<u32>),
+/// Distinct points of a space, with the rows that share each point.
+#[derive(Clone)]
+struct Distinct {
+    dim: usize,
+    /// Coordinates of distinct point u at `coords[u*dim..(u+1)*dim]`, in sorted order of points
+    /// (lexicographic under IEEE total order of the raw values).
+    coords: Vec<f64>,
+    /// Rows grouped by point, ascending within each point.
+    sorted_rows: Vec<u32>,
+    /// The rows of point u are `sorted_rows[group_start[u]..group_start[u + 1]]`.
+    group_start: Vec<u32>,
+    /// Distinct point of each row.
+    point_of_row: Vec<u32>,
 }
 
-/// Finds the nearest other distinct point(s) of each distinct point.
-trait PointSearch: Sync {
-    fn nearest_points(&self, distinct: &Distinct, u: usize) -> Vec<u32>;
+impl Distinct {
+    fn new(columns: &[&[f64]]) -> Self {
+        let n = columns[0].len();
+        assert!(n < u32::MAX as usize, "fewer than u32::MAX rows");
+        let (sorted_rows, same_as_previous) = sort_rows(columns);
+        Self::assemble(
+            columns.len(),
+            sorted_rows,
+            &same_as_previous,
+            |row, coords| {
+                coords.extend(columns.iter().map(|c| normalise_zero(c[row])));
+            },
+        )
+    }
+
+    /// The distinct points of this space with `extra` as one more, last column: the same as
+    /// `Distinct::new` on all the columns, without sorting again (only the rows sharing a point
+    /// here need ordering by the new column).
+    fn extended(&self, extra: &[f64]) -> Distinct {
+        let n = self.point_of_row.len();
+        let mut sorted_rows = Vec::with_capacity(n);
+        let mut same_as_previous = Vec::with_capacity(n);
+        let mut keyed = Vec::new();
+        for u in 0..self.len() {
+            match self.rows(u) {
+                [row] => {
+                    sorted_rows.push(*row);
+                    same_as_previous.push(false);
+                }
+                rows => {
+                    keyed.clear();
+                    keyed.extend(
+                        rows.iter()
+                            .map(|&row| (total_order_key(extra[row as usize]), row)),
+                    );
+                    keyed.sort_unstable();
+                    for (k, &(key, row)) in keyed.iter().enumerate() {
+                        sorted_rows.push(row);
+                        same_as_previous.push(k > 0 && keyed[k - 1].0 == key);
+                    }
+                }
+            }
+        }
+        Self::assemble(
+            self.dim + 1,
+            sorted_rows,
+            &same_as_previous,
+            |row, coords| {
+                coords.extend_from_slice(self.point(self.point_of_row[row] as usize));
+                coords.push(normalise_zero(extra[row]));
+            },
+        )
+    }
+
+    /// Groups rows in sorted order into points; `push_coords(row, coords)` appends a row's
+    /// coordinates.
+    fn assemble(
+        dim: usize,
+        sorted_rows: Vec<u32>,
+        same_as_previous: &[bool],
+        push_coords: impl Fn(usize, &mut Vec<f64>),
+    ) -> Distinct {
+        let n = sorted_rows.len();
+        let mut coords = Vec::new();
+        let mut group_start = Vec::new();
+        let mut point_of_row = vec![0u32; n];
+        for (k, &row) in sorted_rows.iter().enumerate() {
+            if !same_as_previous[k] {
+                push_coords(row as usize, &mut coords);
+                group_start.push(k as u32);
+            }
+            point_of_row[row as usize] = (group_start.len() - 1) as u32;
+        }
+        group_start.push(n as u32);
+        Distinct {
+            dim,
+            coords,
+            sorted_rows,
+            group_start,
+            point_of_row,
+        }
+    }
+
+    fn len(&self) -> usize {
+        self.group_start.len() - 1
+    }
+
+    fn rows(&self, u: usize) -> &[u32] {
+        &self.sorted_rows[self.group_start[u] as usize..self.group_start[u + 1] as usize]
+    }
+
+    fn group_len(&self, u: usize) -> usize {
+        (self.group_start[u + 1] - self.group_start[u]) as usize
+    }
+
+    fn point(&self, u: usize) -> &[f64] {
+        &self.coords[u * self.dim..(u + 1) * self.dim]
+    }
+
+    fn distance(&self, u: usize, v: usize) -> f64 {
+        distance(self.point(u), self.point(v))
+    }
+}
+
+/// Rows in lexicographic order of their coordinates under IEEE total order (ties by row), and
+/// whether each sorted row equals its predecessor. Sorted by the first column, then runs that agree
+/// on it by the others.
+fn sort_rows(columns: &[&[f64]]) -> (Vec<u32>, Vec<bool>) {
+    let n = columns[0].len();
+    let mut keyed: Vec<(u64, u32)> = columns[0]
+        .iter()
+        .enumerate()
+        .map(|(row, &v)| (total_order_key(v), row as u32))
+        .collect();
+    keyed.par_sort_unstable();
+    let rest = &columns[1..];
+    let compare_rest = |a: u32, b: u32| {
+        rest.iter()
+            .map(|c| c[a as usize].total_cmp(&c[b as usize]))
+            .find(|o| o.is_ne())
+            .unwrap_or(std::cmp::Ordering::Equal)
+    };
+    let mut rows: Vec<u32> = keyed.iter().map(|&(_, row)| row).collect();
+    let mut same = vec![false; n];
+    let mut start = 0;
+    while start < n {
+        let end = start
+            + keyed[start..]
+                .iter()
+                .take_while(|k| k.0 == keyed[start].0)
+                .count();
+        if end - start > 1 {
+            let run = &mut rows[start..end];
+            if !rest.is_empty() {
+                run.sort_unstable_by(|&a, &b| compare_rest(a, b).then(a.cmp(&b)));
+            }
+            for k in start + 1..end {
+                same[k] = compare_rest(rows[k - 1], rows[k]).is_eq();
+            }
+        }
+        start = end;
+    }
+    (rows, same)
+}
+
+/// Per-point lists in one flat vector: those of point u are `items[start[u]..start[u + 1]]`.
+struct Lists<T> {
+    start: Vec<usize>,
+    items: Vec<T>,
+}
+
+impl<T: Copy + Send> Lists<T> {
+    fn of(&self, u: usize) -> &[T] {
+        &self.items[self.start[u]..self.start[u + 1]]
+    }
+
+    /// The lists of points `0..m`, each filled by `fill(u, list)` (empty on entry), computed in
+    /// parallel chunks and joined in point order.
+    fn build(m: usize, fill: impl Fn(usize, &mut Vec<T>) + Sync) -> Self {
+        let chunks: Vec<(Vec<u32>, Vec<T>)> = (0..m.div_ceil(CHUNK))
+            .into_par_iter()
+            .map(|c| {
+                let points = c * CHUNK..((c + 1) * CHUNK).min(m);
+                let mut lengths = Vec::with_capacity(points.len());
+                let mut items = Vec::with_capacity(points.len());
+                let mut list = Vec::new();
+                for u in points {
+                    list.clear();
+                    fill(u, &mut list);
+                    items.extend_from_slice(&list);
+                    lengths.push(list.len() as u32);
+                }
+                (lengths, items)
+            })
+            .collect();
+        let mut start = Vec::with_capacity(m + 1);
+        let mut items = Vec::with_capacity(chunks.iter().map(|c| c.1.len()).sum());
+        start.push(0);
+        for (lengths, chunk_items) in chunks {
+            for length in lengths {
+                start.push(start[start.len() - 1] + length as usize);
+            }
+            items.extend_from_slice(&chunk_items);
+        }
+        Lists { start, items }
+    }
+}
+
+/// What a search keeps of the points it is offered.
+trait Collector {
+    /// Points farther than this are of no interest.
+    fn bound(&self) -> f64;
+    /// Offers point `v` at distance `d` ≤ `bound()`.
+    fn offer(&mut self, d: f64, v: u32);
+}
+
+/// Every point at the smallest distance.
+struct Nearest<'a> {
+    best: f64,
+    tied: &'a mut Vec<u32>,
+}
+
+impl Collector for Nearest<'_> {
+    #[inline(always)]
+    fn bound(&self) -> f64 {
+        self.best
+    }
+
+    #[inline(always)]
+    fn offer(&mut self, d: f64, v: u32) {
+        if d < self.best {
+            self.best = d;
+            self.tied.clear();
+        }
+        self.tied.push(v);
+    }
+}
+
+/// Every point within the distance of the k-th nearest.
+struct KNearest<'a> {
+    k: usize,
+    bound: f64,
+    found: &'a mut Vec<(f64, u32)>,
+    /// Size at which `found` is next compacted.
+    limit: usize,
+}
+
+impl KNearest<'_> {
+    /// Keeps the k nearest and their ties, and tightens the bound to the k-th distance.
+    fn compact(&mut self) {
+        if self.found.len() >= self.k {
+            let kth = self
+                .found
+                .select_nth_unstable_by(self.k - 1, |a, b| a.0.total_cmp(&b.0))
+                .1
+                 .0;
+            self.bound = kth;
+            self.found.retain(|&(d, _)| d <= kth);
+        }
+        // Many points tied at the bound stay: compact again only once as many more have come.
+        self.limit = (4 * self.k).max(2 * self.found.len());
+    }
+}
+
+impl Collector for KNearest<'_> {
+    #[inline(always)]
+    fn bound(&self) -> f64 {
+        self.bound
+    }
+
+    #[inline(always)]
+    fn offer(&mut self, d: f64, v: u32) {
+        self.found.push((d, v));
+        if self.found.len() >= self.limit {
+            self.compact();
+        }
+    }
+}
+
+/// Finds the nearest other distinct point(s) of one distinct point.
+trait PointSearch: Send + Sync {
+    /// Appends to `tied` (empty on entry) every other point at the smallest distance from `u`, in
+    /// any order.
+    fn nearest_points(&self, distinct: &Distinct, u: usize, tied: &mut Vec<u32>);
+}
+
+/// One dimension: the points are sorted, so the nearest lie next to `u`, and distances grow away
+/// from it on either side (rounding is monotone), so the tied points are the runs at the best
+/// distance adjacent to `u`.
+struct Line;
+
+impl PointSearch for Line {
+    fn nearest_points(&self, distinct: &Distinct, u: usize, tied: &mut Vec<u32>) {
+        let m = distinct.len();
+        let left = (u > 0).then(|| distinct.distance(u, u - 1));
+        let right = (u + 1 < m).then(|| distinct.distance(u, u + 1));
+        let best = match (left, right) {
+            (Some(l), Some(r)) => l.min(r),
+            (Some(l), None) => l,
+            (None, Some(r)) => r,
+            (None, None) => return,
+        };
+        let mut v = u;
+        while v > 0 && distinct.distance(u, v - 1) == best {
+            v -= 1;
+            tied.push(v as u32);
+        }
+        let mut v = u + 1;
+        while v < m && distinct.distance(u, v) == best {
+            tied.push(v as u32);
+            v += 1;
+        }
+    }
 }
 
 /// Exact search by scanning every distinct point: the fallback above `MAX_TREE_DIMENSION`.
 struct Scan;
 
 impl PointSearch for Scan {
-    fn nearest_points(&self, distinct: &Distinct, u: usize) -> Vec<u32> {
-        let mut best = f64::INFINITY;
-        let mut tied = Vec::new();
+    fn nearest_points(&self, distinct: &Distinct, u: usize, tied: &mut Vec<u32>) {
+        let mut nearest = Nearest {
+            best: f64::INFINITY,
+            tied,
+        };
         for v in 0..distinct.len() {
-            if v == u {
-                continue;
-            }
             let d = distinct.distance(u, v);
-            if d < best {
-                best = d;
-                tied.clear();
-            }
-            if d == best {
-                tied.push(v as u32);
+            if v != u && d <= nearest.best {
+                nearest.offer(d, v as u32);
             }
         }
-        tied
     }
 }
 
-/// kd-tree search over the distinct points of a space of compile-time dimension K.
+/// A node of the kd-tree. Inner nodes: the left child follows the node, points of the left child
+/// have coordinate ≤ `split` on `axis`, those of the right child ≥ `split`. Leaves (`axis` is
+/// `LEAF`): the points of block `right`.
+#[derive(Clone, Copy)]
+struct Node {
+    split: f64,
+    axis: u32,
+    right: u32,
+}
+
+const LEAF: u32 = u32::MAX;
+
+/// The points of one leaf, by coordinate then slot, so that the distances of all slots are summed
+/// side by side (each in its own coordinate order, as `distance` sums). Unused slots hold NaN,
+/// which is never below or equal to any distance.
+#[derive(Clone, Copy)]
+struct Block<const K: usize> {
+    coords: [[f64; LEAF_SIZE]; K],
+    ids: [u32; LEAF_SIZE],
+}
+
+/// kd-tree over the distinct points of a space of compile-time dimension K.
 struct Tree<const K: usize> {
-    tree: ImmutableKdTree<f64, K>,
+    nodes: Vec<Node>,
+    blocks: Vec<Block<K>>,
 }
 
 impl<const K: usize> Tree<K> {
     fn new(distinct: &Distinct) -> Self {
-        let points: Vec<[f64; K]> = (0..distinct.len())
-            .map(|u| {
-                distinct
-                    .point(u)
-                    .try_into()
-                    .expect("dimension checked by dispatch")
-            })
-            .collect();
-        let tree = ImmutableKdTree::new_from_slice(&points).expect("at most u32::MAX points");
-        Tree { tree }
+        let m = distinct.len();
+        let mut order: Vec<u32> = (0..m as u32).collect();
+        let mut tree = Tree {
+            nodes: Vec::with_capacity(4 * m / LEAF_SIZE + 1),
+            blocks: Vec::with_capacity(2 * m / LEAF_SIZE + 1),
+        };
+        tree.build(distinct, &mut order);
+        tree
+    }
+
+    fn query(distinct: &Distinct, u: usize) -> [f64; K] {
+        distinct
+            .point(u)
+            .try_into()
+            .expect("dimension checked by dispatch")
+    }
+
+    /// Builds the subtree over the points in `order` and returns the number of its root node.
+    fn build(&mut self, distinct: &Distinct, order: &mut [u32]) -> usize {
+        let me = self.nodes.len();
+        if order.len() <= LEAF_SIZE {
+            let mut block = Block {
+                coords: [[f64::NAN; LEAF_SIZE]; K],
+                ids: [u32::MAX; LEAF_SIZE],
+            };
+            for (slot, &u) in order.iter().enumerate() {
+                for (a, &x) in distinct.point(u as usize).iter().enumerate() {
+                    block.coords[a][slot] = x;
+                }
+                block.ids[slot] = u;
+            }
+            self.nodes.push(Node {
+                split: 0.0,
+                axis: LEAF,
+                right: self.blocks.len() as u32,
+            });
+            self.blocks.push(block);
+            return me;
+        }
+        let axis = widest_axis(distinct, order);
+        let coordinate = |u: u32| distinct.coords[u as usize * K + axis];
+        let mid = order.len() / 2;
+        order.select_nth_unstable_by(mid, |&a, &b| coordinate(a).total_cmp(&coordinate(b)));
+        let split = coordinate(order[mid]);
+        self.nodes.push(Node {
+            split,
+            axis: axis as u32,
+            right: 0,
+        });
+        let (left, right) = order.split_at_mut(mid);
+        self.build(distinct, left);
+        let right_root = self.build(distinct, right);
+        self.nodes[me].right = right_root as u32;
+        me
+    }
+
+    /// Offers every point other than `me` within `collect.bound()` of `query`.
+    fn search(&self, query: &[f64; K], me: u32, collect: &mut impl Collector) {
+        self.visit(0, query, me, 0.0, &mut [0.0; K], collect);
+    }
+
+    /// Visits the subtree at `node`: `reach` is a lower bound of the distance from `query` to every
+    /// point of the subtree, made of the per-axis gaps in `gaps`.
+    fn visit(
+        &self,
+        node: usize,
+        query: &[f64; K],
+        me: u32,
+        reach: f64,
+        gaps: &mut [f64; K],
+        collect: &mut impl Collector,
+    ) {
+        let here = self.nodes[node];
+        if here.axis == LEAF {
+            self.scan_leaf(&self.blocks[here.right as usize], query, me, collect);
+            return;
+        }
+        let axis = here.axis as usize;
+        let gap = query[axis] - here.split;
+        let (near, far) = if gap < 0.0 {
+            (node + 1, here.right as usize)
+        } else {
+            (here.right as usize, node + 1)
+        };
+        self.visit(near, query, me, reach, gaps, collect);
+        let old = gaps[axis];
+        let far_reach = reach - old * old + gap * gap;
+        // A NaN bound (overflowing coordinates) is not beyond: the cell is visited.
+        let beyond = far_reach * (1.0 - PRUNE_SLACK) > collect.bound() + f64::MIN_POSITIVE;
+        if !beyond {
+            gaps[axis] = gap;
+            self.visit(far, query, me, far_reach, gaps, collect);
+            gaps[axis] = old;
+        }
+    }
+
+    #[inline(always)]
+    fn scan_leaf(&self, block: &Block<K>, query: &[f64; K], me: u32, collect: &mut impl Collector) {
+        // The same operations in the same order as `distance`, for every slot at once.
+        let mut sums = [0.0f64; LEAF_SIZE];
+        for (q, coords) in query.iter().zip(&block.coords) {
+            for (sum, x) in sums.iter_mut().zip(coords) {
+                let t = q - x;
+                *sum += t * t;
+            }
+        }
+        for (&d, &v) in sums.iter().zip(&block.ids) {
+            if d <= collect.bound() && v != me {
+                collect.offer(d, v);
+            }
+        }
     }
 }
 
-impl<const K: usize> PointSearch for Tree<K> {
-    fn nearest_points(&self, distinct: &Distinct, u: usize) -> Vec<u32> {
-        let query: [f64; K] = distinct.point(u).try_into().expect("dimension checked");
-        let want = NonZeroUsize::new(3.min(distinct.len())).expect("at least two points");
-        let found = self
-            .tree
-            .query(&query)
-            .nearest_n::<SquaredEuclidean<f64>>(want)
-            .execute();
-        let mut others: Vec<(f64, u32)> = found
-            .iter()
-            .filter(|hit| hit.item as usize != u)
-            .map(|hit| (distinct.distance(u, hit.item as usize), hit.item))
-            .collect();
-        others.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-        let clear_winner = match others.as_slice() {
-            [only] => Some(only.1),
-            [first, second, ..] if first.0 * (1.0 + 4.0 * SLACK) < second.0 => Some(first.1),
-            _ => None,
-        };
-        if let Some(v) = clear_winner {
-            return vec![v];
+/// The axis of widest spread of the points in `order`, judged on at most 64 evenly spaced ones (the
+/// choice only affects speed).
+fn widest_axis(distinct: &Distinct, order: &[u32]) -> usize {
+    let dim = distinct.dim;
+    let step = order.len().div_ceil(64);
+    let mut low = distinct.point(order[0] as usize).to_vec();
+    let mut high = low.clone();
+    for &u in order.iter().step_by(step) {
+        for (a, &x) in distinct.point(u as usize).iter().enumerate() {
+            low[a] = if x < low[a] { x } else { low[a] };
+            high[a] = if x > high[a] { x } else { high[a] };
         }
-        // A tie, or too close to call: collect everything in a slightly widened ball and re-check
-        // the exact distances.
-        let radius = others[others.len() - 1].0 * (1.0 + SLACK) + f64::MIN_POSITIVE;
-        let ball = self
-            .tree
-            .query(&query)
-            .within::<SquaredEuclidean<f64>>(radius)
-            .execute();
-        let mut best = f64::INFINITY;
-        let mut tied = Vec::new();
-        for hit in ball {
-            let v = hit.item as usize;
-            if v == u {
-                continue;
-            }
-            let d = distinct.distance(u, v);
-            if d < best {
-                best = d;
-                tied.clear();
-            }
-            if d == best {
-                tied.push(hit.item);
-            }
-        }
-        tied.sort_unstable();
-        tied
     }
+    (0..dim)
+        .max_by(|&a, &b| {
+            (high[a] - low[a])
+                .total_cmp(&(high[b] - low[b]))
+                .then(b.cmp(&a))
+        })
+        .unwrap_or(0)
+}
+
+impl<const K: usize> PointSearch for Tree<K> {
+    fn nearest_points(&self, distinct: &Distinct, u: usize, tied: &mut Vec<u32>) {
+        let mut nearest = Nearest {
+            best: f64::INFINITY,
+            tied,
+        };
+        self.search(&Self::query(distinct, u), u as u32, &mut nearest);
+    }
+}
+
+/// Searches of a conditioning space S.
+trait BallSearch: Send + Sync {
+    /// Fills `found` (empty on entry) with the `k` nearest other points of point `u` and every
+    /// point tied with the k-th, with their distances, in any order.
+    fn ball(&self, distinct: &Distinct, u: usize, k: usize, found: &mut Vec<(f64, u32)>);
+
+    /// Offers to `joint` every point of S other than `u` whose distance from `u` in S is within
+    /// the joint bound.
+    fn continue_joint(&self, distinct: &Distinct, u: usize, joint: &mut Joint);
+}
+
+impl<const K: usize> BallSearch for Tree<K> {
+    fn ball(&self, distinct: &Distinct, u: usize, k: usize, found: &mut Vec<(f64, u32)>) {
+        let mut nearest = KNearest {
+            k,
+            bound: f64::INFINITY,
+            found,
+            limit: 4 * k,
+        };
+        self.search(&Self::query(distinct, u), u as u32, &mut nearest);
+        nearest.compact();
+    }
+
+    fn continue_joint(&self, distinct: &Distinct, u: usize, joint: &mut Joint) {
+        self.search(&Self::query(distinct, u), u as u32, joint);
+    }
+}
+
+/// The nearest points of one point of S extended by one column, offered points of S with their
+/// distance in S. Every row of an offered point is at that distance plus its last term, summed in
+/// the same order as `distance`, so a point of S farther than the best joint distance in S alone
+/// cannot hold a nearer row.
+struct Joint<'a, 'b> {
+    within: &'a Distinct,
+    joint: &'a Distinct,
+    extra: &'a [f64],
+    row: usize,
+    z: f64,
+    nearest: Nearest<'b>,
+}
+
+impl Collector for Joint<'_, '_> {
+    #[inline(always)]
+    fn bound(&self) -> f64 {
+        self.nearest.best
+    }
+
+    #[inline(always)]
+    fn offer(&mut self, in_s: f64, v: u32) {
+        for &other in self.within.rows(v as usize) {
+            if other as usize != self.row {
+                let t = self.z - normalise_zero(self.extra[other as usize]);
+                let d = in_s + t * t;
+                if d <= self.nearest.best {
+                    self.nearest
+                        .offer(d, self.joint.point_of_row[other as usize]);
+                }
+            }
+        }
+    }
+}
+
+/// The search for the nearest points of a space.
+fn point_search(distinct: &Distinct) -> Box<dyn PointSearch> {
+    macro_rules! dispatch {
+        ($($k:literal),*) => {
+            match distinct.dim {
+                1 => Box::new(Line),
+                $($k => Box::new(Tree::<$k>::new(distinct)),)*
+                _ => Box::new(Scan),
+            }
+        };
+    }
+    dispatch!(2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12)
+}
+
+/// The search for the balls of a space, where a tree covers its dimension.
+fn ball_search(distinct: &Distinct) -> Option<Box<dyn BallSearch>> {
+    macro_rules! dispatch {
+        ($($k:literal),*) => {
+            match distinct.dim {
+                $($k => Some(Box::new(Tree::<$k>::new(distinct))),)*
+                _ => None,
+            }
+        };
+    }
+    dispatch!(2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12)
 }
 
 /// The neighbour structure of one space: for every row, the set of rows tied for nearest.
 pub struct Neighbourhood {
     distinct: Distinct,
-    nearest_points: Vec<Vec<u32>>,
+    /// The nearest other points of each point that needs a search, ascending (empty for the
+    /// others: their neighbours are rows of other origins at the same point).
+    nearest: Lists<u32>,
     /// The original row behind each row (bootstrap replicates); rows of one origin are never each
     /// other's neighbour. `None`: every row is its own origin.
     origins: Option<Vec<u32>>,
 }
 
+/// The rows tied for nearest neighbour of one row.
+enum Tied<'a> {
+    /// The rows at the same point (distance zero) whose origin differs from `origin`.
+    Duplicates { rows: &'a [u32], origin: u32 },
+    /// All rows of these distinct points (ascending point order), at the same positive distance.
+    Points(&'a [u32]),
+}
+
 impl Neighbourhood {
     /// Builds the structure for the space spanned by `columns` (equal lengths, at least 2 rows).
     pub fn new(columns: &[&[f64]]) -> Self {
-        Self::build(columns, None)
+        check_space(columns);
+        Self::search(Distinct::new(columns), None)
     }
 
     /// As [`Neighbourhood::new`], but rows sharing an entry of `origins` (copies of one original
     /// row in a bootstrap replicate) are never each other's neighbour: a copy at distance zero would
     /// fake perfect dependence. At least two distinct origins are needed.
     pub fn with_origins(columns: &[&[f64]], origins: Vec<u32>) -> Self {
+        check_space(columns);
         assert_eq!(origins.len(), columns[0].len(), "one origin per row");
-        Self::build(columns, Some(origins))
+        Self::search(Distinct::new(columns), Some(origins))
     }
 
-    fn build(columns: &[&[f64]], origins: Option<Vec<u32>>) -> Self {
-        assert!(
-            !columns.is_empty(),
-            "a neighbour search needs at least one column"
-        );
-        assert!(
-            columns[0].len() >= 2,
-            "a neighbour search needs at least two rows"
-        );
-        let distinct = Distinct::new(columns);
+    fn search(distinct: Distinct, origins: Option<Vec<u32>>) -> Self {
+        let search = (distinct.len() >= 2).then(|| point_search(&distinct));
         let origin = |r: u32| origins.as_ref().map_or(r, |o| o[r as usize]);
-        // A point needs a search when none of its rows has a neighbour of another origin there.
-        let needs_search: Vec<bool> = distinct
-            .rows
-            .iter()
-            .map(|rows| rows.iter().all(|&r| origin(r) == origin(rows[0])))
-            .collect();
-        let nearest_points = if distinct.len() < 2 {
-            Vec::new()
-        } else {
-            search_points(&distinct, &needs_search)
-        };
+        let nearest = Lists::build(distinct.len(), |u, tied| {
+            // A point needs a search when none of its rows has a neighbour of another origin there.
+            let rows = distinct.rows(u);
+            if let Some(search) = &search {
+                if rows.iter().all(|&r| origin(r) == origin(rows[0])) {
+                    search.nearest_points(&distinct, u, tied);
+                    tied.sort_unstable();
+                }
+            }
+        });
         Neighbourhood {
             distinct,
-            nearest_points,
+            nearest,
             origins,
         }
     }
@@ -261,12 +725,12 @@ impl Neighbourhood {
 
     fn tied(&self, row: usize) -> Tied<'_> {
         let u = self.distinct.point_of_row[row] as usize;
-        let rows = &self.distinct.rows[u];
+        let rows = self.distinct.rows(u);
         let origin = self.origin(row as u32);
         if rows.iter().any(|&r| self.origin(r) != origin) {
             Tied::Duplicates { rows, origin }
         } else {
-            Tied::Points(self.nearest_points[u].clone())
+            Tied::Points(self.nearest.of(u))
         }
     }
 
@@ -280,7 +744,7 @@ impl Neighbourhood {
                 .collect(),
             Tied::Points(points) => points
                 .iter()
-                .flat_map(|&v| self.distinct.rows[v as usize].iter().copied())
+                .flat_map(|&v| self.distinct.rows(v as usize).iter().copied())
                 .collect(),
         };
         out.sort_unstable();
@@ -314,17 +778,20 @@ impl Neighbourhood {
                     .expect("pick is below the count")
             }
             Tied::Points(points) => {
-                if points.len() == 1 && self.distinct.rows[points[0] as usize].len() == 1 {
-                    return self.distinct.rows[points[0] as usize][0];
+                if let [only] = points {
+                    let group = self.distinct.rows(*only as usize);
+                    if group.len() == 1 {
+                        return group[0];
+                    }
                 }
                 let total: usize = points
                     .iter()
-                    .map(|&v| self.distinct.rows[v as usize].len())
+                    .map(|&v| self.distinct.group_len(v as usize))
                     .sum();
                 let mut rng = key.stream(row as u64);
                 let mut pick = uniform_below(&mut rng, total as u64) as usize;
-                for &v in &points {
-                    let group = &self.distinct.rows[v as usize];
+                for &v in points {
+                    let group = self.distinct.rows(v as usize);
                     if pick < group.len() {
                         return group[pick];
                     }
@@ -336,34 +803,145 @@ impl Neighbourhood {
     }
 }
 
+fn check_space(columns: &[&[f64]]) {
+    assert!(
+        !columns.is_empty(),
+        "a neighbour search needs at least one column"
+    );
+    assert!(
+        columns[0].len() >= 2,
+        "a neighbour search needs at least two rows"
+    );
+}
+
+/// A conditioning space S of a forward selection, prepared so that the neighbourhoods of S and of
+/// S plus any one more column follow quickly. Every result equals that of [`Neighbourhood::new`]
+/// on the same columns. Only a space without duplicate rows is prepared: rows that are copies of
+/// one original (bootstrap) coincide in every space, so here there are none, and the results are
+/// also those of [`Neighbourhood::with_origins`] for any origins.
+pub struct ConditioningSpace {
+    own: Neighbourhood,
+    /// For every point u of S: the other points within the distance of the `BALL_SIZE`-th
+    /// nearest, ascending by (distance, point); the list holds every point within `radius[u]`.
+    lists: Lists<(f64, u32)>,
+    radius: Vec<f64>,
+    /// The search tree of S, for the points whose list does not reach far enough.
+    search: Box<dyn BallSearch>,
+}
+
+impl ConditioningSpace {
+    /// Prepares the space spanned by `columns` (equal lengths, at least 2 rows), or `None` when
+    /// that does not pay (fewer than `MIN_BALL_DIMENSION` or more than `MAX_TREE_DIMENSION`
+    /// columns, few rows, duplicate rows, or lists too large): then search each space afresh.
+    pub fn prepare(columns: &[&[f64]]) -> Option<Self> {
+        check_space(columns);
+        if !(MIN_BALL_DIMENSION..=MAX_TREE_DIMENSION).contains(&columns.len())
+            || columns[0].len() <= BALL_SIZE
+            || columns[0].len() * BALL_SIZE * std::mem::size_of::<(f64, u32)>() > MAX_BALL_BYTES
+        {
+            return None;
+        }
+        let distinct = Distinct::new(columns);
+        if distinct.len() < columns[0].len() {
+            return None;
+        }
+        let search = ball_search(&distinct)?;
+        let lists = Lists::build(distinct.len(), |u, list| {
+            search.ball(&distinct, u, BALL_SIZE, list);
+            list.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        });
+        let radius = (0..distinct.len())
+            .map(|u| lists.of(u).last().map_or(f64::INFINITY, |&(d, _)| d))
+            .collect();
+        // The nearest points of S are the head of each list, tied at the first distance.
+        let nearest = Lists::build(distinct.len(), |u, tied| {
+            let list = lists.of(u);
+            tied.extend(
+                list.iter()
+                    .take_while(|&&(d, _)| d == list[0].0)
+                    .map(|&(_, v)| v),
+            );
+        });
+        let own = Neighbourhood {
+            distinct,
+            nearest,
+            origins: None,
+        };
+        Some(ConditioningSpace {
+            own,
+            lists,
+            radius,
+            search,
+        })
+    }
+
+    /// The neighbourhood of S itself.
+    pub fn neighbourhood(&self) -> &Neighbourhood {
+        &self.own
+    }
+
+    /// The neighbourhood of S with `extra` as its last column.
+    pub fn extended(&self, extra: &[f64]) -> Neighbourhood {
+        let within = &self.own.distinct;
+        let distinct = within.extended(extra);
+        let nearest = Lists::build(distinct.len(), |u, tied| {
+            if distinct.group_len(u) == 1 {
+                self.nearest_points(within, &distinct, extra, u, tied);
+                tied.sort_unstable();
+                tied.dedup();
+            }
+        });
+        Neighbourhood {
+            distinct,
+            nearest,
+            origins: None,
+        }
+    }
+
+    /// Appends to `tied` the nearest other points (possibly repeated) of point u of `joint`, the
+    /// space S (`within`) extended by `extra` (u has no duplicates): from the list of its point in
+    /// S, then, if that list does not reach far enough, by searching the tree of S.
+    fn nearest_points(
+        &self,
+        within: &Distinct,
+        joint: &Distinct,
+        extra: &[f64],
+        u: usize,
+        tied: &mut Vec<u32>,
+    ) {
+        let row = joint.rows(u)[0] as usize;
+        let s = within.point_of_row[row] as usize;
+        let nearest = Nearest {
+            best: f64::INFINITY,
+            tied,
+        };
+        let z = normalise_zero(extra[row]);
+        let mut collect = Joint {
+            within,
+            joint,
+            extra,
+            row,
+            z,
+            nearest,
+        };
+        collect.offer(0.0, s as u32); // the other rows at u's own point of S
+        for &(in_s, v) in self.lists.of(s) {
+            if in_s > collect.bound() {
+                return; // every later point is at least this far in S alone
+            }
+            collect.offer(in_s, v);
+        }
+        if collect.bound() > self.radius[s] {
+            // Points beyond the list may still be near enough: search S (the listed ones come
+            // again, at the same distance, and are removed as repeats).
+            self.search.continue_joint(within, s, &mut collect);
+        }
+    }
+}
+
 /// Nearest neighbours of every row in the space spanned by `columns`, ties broken under `key`.
 pub fn nearest_neighbours(columns: &[&[f64]], key: &Key) -> Vec<u32> {
     Neighbourhood::new(columns).choose(key)
-}
-
-fn search_points(distinct: &Distinct, needs_search: &[bool]) -> Vec<Vec<u32>> {
-    macro_rules! dispatch {
-        ($($k:literal),*) => {
-            match distinct.dim {
-                $($k => run(distinct, needs_search, &Tree::<$k>::new(distinct)),)*
-                _ => run(distinct, needs_search, &Scan),
-            }
-        };
-    }
-    dispatch!(1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12)
-}
-
-fn run(distinct: &Distinct, needs_search: &[bool], search: &impl PointSearch) -> Vec<Vec<u32>> {
-    (0..distinct.len())
-        .into_par_iter()
-        .map(|u| {
-            if needs_search[u] {
-                search.nearest_points(distinct, u)
-            } else {
-                Vec::new() // duplicates of other origins are the neighbours; no search needed
-            }
-        })
-        .collect()
 }
 
 /// Exact tied sets by brute force over rows, for tests: every j ≠ i at the minimal distance.
@@ -388,7 +966,52 @@ pub fn brute_force_tied_rows(columns: &[&[f64]], row: usize) -> Vec<u32> {
         .collect()
 }
 
-/// Whether the kd-tree path covers this dimension (for benchmarks and docs).
+/// Whether an indexed search (sorted order in one dimension, a kd-tree above) rather than the scan
+/// covers this dimension (for benchmarks and docs).
 pub fn uses_tree(dimension: usize) -> bool {
     (1..=MAX_TREE_DIMENSION).contains(&dimension)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn total_order_key_sorts_like_total_cmp() {
+        let values = [
+            f64::NEG_INFINITY,
+            -1e300,
+            -1.5,
+            -f64::MIN_POSITIVE,
+            -5e-324,
+            -0.0,
+            0.0,
+            5e-324,
+            f64::MIN_POSITIVE,
+            1.0,
+            1.5,
+            1e300,
+            f64::INFINITY,
+        ];
+        for a in values {
+            for b in values {
+                assert_eq!(
+                    total_order_key(a).cmp(&total_order_key(b)),
+                    a.total_cmp(&b),
+                    "{a} vs {b}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn negative_and_positive_zero_are_distinct_points_at_distance_zero() {
+        // Grouping follows the total order of the raw values (as it always has), coordinates do not.
+        let x = [0.0, -0.0, 1.0];
+        let hood = Neighbourhood::new(&[&x]);
+        assert_eq!(hood.distinct.len(), 3);
+        assert_eq!(hood.tied_rows(0), vec![1]);
+        assert_eq!(hood.tied_rows(1), vec![0]);
+        assert_eq!(hood.tied_rows(2), brute_force_tied_rows(&[&x], 2));
+    }
 }

@@ -4,6 +4,7 @@
 //! decided on exact integer numerators.
 
 use super::SearchData;
+use crate::measure::neighbors::ConditioningSpace;
 use crate::measure::TargetRanks;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -86,7 +87,19 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
                 StopReason::CandidatesExhausted
             };
         }
-        let conditioning = (!selected.is_empty()).then(|| data.neighbours(response, &selected));
+        // The selected columns, prepared once, give the conditioning set's neighbours and, extended
+        // by one column, every candidate's: the same as `data.neighbours` on each space (the keys
+        // are those `data.neighbours` uses). Spaces it does not pay to prepare are searched afresh.
+        let prepared = match selected.is_empty() {
+            true => None,
+            false => ConditioningSpace::prepare(&data.space(&selected)),
+        };
+        let conditioning = (!selected.is_empty()).then(|| match &prepared {
+            Some(prepared) => prepared
+                .neighbourhood()
+                .choose(&data.neighbour_key(response, &selected)),
+            None => data.neighbours(response, &selected),
+        });
         let denominator = ranks.denominator(conditioning.as_deref());
         if denominator == 0 {
             break StopReason::ResponseIsFunctionOfSelected;
@@ -96,7 +109,12 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
             .map(|&j| {
                 let mut space = selected.clone();
                 space.push(j);
-                let joint = data.neighbours(response, &space);
+                let joint = match &prepared {
+                    Some(prepared) => prepared
+                        .extended(data.space(&[j])[0])
+                        .choose(&data.neighbour_key(response, &space)),
+                    None => data.neighbours(response, &space),
+                };
                 (j, ranks.numerator(conditioning.as_deref(), &joint))
             })
             .collect();
@@ -136,5 +154,42 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
         selected: selected.iter().map(|&j| name(j)).collect(),
         steps,
         stop,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::data::Table;
+    use crate::measure::Scaling;
+    use crate::rng::{standard_normal, Key};
+
+    #[test]
+    fn prepared_spaces_give_the_neighbours_of_search_data() {
+        // The fast path of `forward_select` must choose exactly what `SearchData::neighbours`
+        // chooses, key included.
+        let key = Key::new("forward-prepared", 1).finish();
+        let columns: Vec<Vec<f64>> = (0..6)
+            .map(|c| {
+                let mut rng = key.stream(c);
+                (0..300).map(|_| standard_normal(&mut rng)).collect()
+            })
+            .collect();
+        let names = (0..6).map(|c| format!("c{c}")).collect();
+        let table = Table::from_columns(names, columns);
+        let data = SearchData::new(&table, Scaling::Rank, 7, 0);
+        let selected = [3, 1, 4];
+        let prepared = ConditioningSpace::prepare(&data.space(&selected)).expect("worth preparing");
+        let own = prepared
+            .neighbourhood()
+            .choose(&data.neighbour_key(0, &selected));
+        assert_eq!(own, data.neighbours(0, &selected));
+        for j in [2, 5] {
+            let space = [3, 1, 4, j];
+            let joint = prepared
+                .extended(data.space(&[j])[0])
+                .choose(&data.neighbour_key(0, &space));
+            assert_eq!(joint, data.neighbours(0, &space));
+        }
     }
 }
