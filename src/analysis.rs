@@ -160,6 +160,17 @@ impl Prepared {
             .collect()
     }
 
+    /// The full-data finding (no stability yet) with this invocation's run metadata.
+    pub fn finding(&self, full: ParentSearch, command_line: Vec<String>) -> Finding {
+        Finding::new(
+            self.report.clone(),
+            self.study.clone(),
+            full,
+            self.run_info(command_line),
+        )
+        .with_columns(&self.table)
+    }
+
     /// The run metadata of this invocation.
     pub fn run_info(&self, command_line: Vec<String>) -> RunInfo {
         RunInfo {
@@ -201,13 +212,7 @@ pub fn analyze_file(
     let prepared = prepare(path, input, options, progress)?;
     let full = prepared.full_search(progress);
     let records = prepared.replicates(0..prepared.study.resampling.count, &full, progress);
-    let finding = Finding::new(
-        prepared.report.clone(),
-        prepared.study.clone(),
-        full,
-        prepared.run_info(command_line),
-    )
-    .with_columns(&prepared.table);
+    let finding = prepared.finding(full, command_line);
     Ok(attach_stability(finding, &records))
 }
 
@@ -247,13 +252,7 @@ pub fn analyze_part(
     }
     let full = prepared.full_search(progress);
     let records = prepared.replicates(range.clone(), &full, progress);
-    let finding = Finding::new(
-        prepared.report.clone(),
-        prepared.study.clone(),
-        full,
-        prepared.run_info(command_line),
-    )
-    .with_columns(&prepared.table);
+    let finding = prepared.finding(full, command_line);
     Ok(Partial {
         schema: PARTIAL_SCHEMA.into(),
         finding,
