@@ -48,6 +48,25 @@ impl StudyInput {
     }
 }
 
+impl StudyInput {
+    /// The input that rebuilds `study` from the same file: re-running with it gives an equal
+    /// [`Study`] when the data are the same.
+    pub fn replaying(study: &Study) -> StudyInput {
+        let plan = &study.resampling;
+        StudyInput {
+            target: study.target.clone(),
+            exclude: study.excluded.clone(),
+            seed: study.seed,
+            scaling: study.scaling,
+            alpha: study.alpha,
+            replicates: plan.count,
+            resample: plan.kind,
+            fraction: (plan.kind == PlanKind::Subsample).then_some(plan.fraction),
+            stability_threshold: study.stability_threshold,
+        }
+    }
+}
+
 /// The validated settings, in the canonical form that is hashed and recorded.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Study {

@@ -9,8 +9,8 @@ use std::path::Path;
 /// The missing-value tokens used when none are given.
 pub const DEFAULT_MISSING_TOKENS: [&str; 4] = ["", "NA", "NaN", "null"];
 
-/// Settings of the reader.
-#[derive(Clone, Debug)]
+/// Settings of the reader (recorded in the manifest's settings; see [`LoadOptions::from_report`]).
+#[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct LoadOptions {
     /// Cell texts (after trimming spaces) that mean "missing".
     pub missing_tokens: Vec<String>,
@@ -38,6 +38,13 @@ impl LoadOptions {
             }
         }
         LoadOptions { missing_tokens }
+    }
+
+    /// The reader options a recorded analysis used, so that a re-run reads the file the same way.
+    pub fn from_report(report: &DataReport) -> Self {
+        LoadOptions {
+            missing_tokens: report.missing_tokens.clone(),
+        }
     }
 
     /// The tokens for a message: `an empty cell, NA, NaN or null`.
@@ -433,6 +440,7 @@ impl RawTable {
             file: self.file.clone(),
             size_bytes,
             sha256,
+            content_sha256: String::new(),
             rows_read,
             rows_used: rows.len(),
             rows_dropped: rows_read - rows.len(),

@@ -1,5 +1,6 @@
 //! Data in: reading a CSV into a validated table of named numeric columns.
 
+pub mod compare;
 pub mod fingerprint;
 pub mod load;
 pub mod table;
