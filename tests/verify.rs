@@ -537,3 +537,36 @@ fn fingerprint_prints_both_hashes_and_tells_a_resave_from_a_change() {
     assert!(stdout.contains(fa["sha256"].as_str().unwrap()), "{stdout}");
     assert!(stdout.contains("2 data rows × 2 columns"), "{stdout}");
 }
+
+#[test]
+fn a_dossier_merged_from_replicate_shards_verifies_with_the_single_run_digest() {
+    let (dir, data, single) = analysed("merged");
+    for (range, part) in [("0..4", "p1"), ("4..10", "p2")] {
+        let status = bin()
+            .args(["--quiet", "analyze"])
+            .arg(&data)
+            .args(["--target", "crush_strength", "--replicates", "10"])
+            .args(["--replicate-range", range, "--out"])
+            .arg(dir.join(part))
+            .stdout(std::process::Stdio::null())
+            .status()
+            .unwrap();
+        assert!(status.success());
+    }
+    let merged = dir.join("merged");
+    let status = bin()
+        .args(["--quiet", "merge"])
+        .arg(dir.join("p1/partial.json"))
+        .arg(dir.join("p2/partial.json"))
+        .arg("--out")
+        .arg(&merged)
+        .stdout(std::process::Stdio::null())
+        .status()
+        .unwrap();
+    assert!(status.success());
+    assert_eq!(
+        read_manifest(&merged).results,
+        read_manifest(&single).results
+    );
+    assert_verdict(&verify(&merged, &data, &[]), 0, "VERIFIED");
+}
