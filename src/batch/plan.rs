@@ -144,10 +144,7 @@ impl Plan {
                 message: format!("cannot read the plan file: {e}"),
             }]
         })?;
-        let dir = path
-            .parent()
-            .filter(|p| !p.as_os_str().is_empty())
-            .unwrap_or(Path::new("."));
+        let dir = path.parent().unwrap_or(Path::new(""));
         let studies = parse(&text, dir)?;
         Ok(Plan {
             path: path.to_path_buf(),
