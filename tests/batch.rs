@@ -432,3 +432,12 @@ fn a_former_batch_output_is_replaced_only_with_force_and_a_foreign_folder_never(
     assert_eq!(exit_code(&other), 2);
     assert!(stderr(&other).contains("no summary.json written by forebear batch"));
 }
+
+#[test]
+fn the_example_nightly_plan_is_valid_and_names_existing_data() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/nightly-plan.toml");
+    let plan = forebear::batch::plan::Plan::load(&path).expect("the example plan is valid");
+    assert_eq!(plan.studies.len(), 2);
+    assert_eq!(plan.pairs().len(), 3);
+    assert!(plan.missing_data().is_empty());
+}
