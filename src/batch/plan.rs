@@ -591,3 +591,61 @@ fn check_duplicates(c: &mut Collector, names: &[(String, usize)]) {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn plan_in(text: &str) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
+        parse(text, Path::new(""))
+    }
+
+    #[test]
+    fn shards_are_numbered_from_zero_and_hold_every_nth_pair() {
+        let shard = Shard::parse("1/3").unwrap();
+        assert_eq!(shard, Shard { index: 1, count: 3 });
+        let held: Vec<usize> = (0..7).filter(|&k| shard.holds(k)).collect();
+        assert_eq!(held, vec![1, 4]);
+        for bad in ["3/3", "0/0", "1", "a/3", "-1/3"] {
+            assert!(Shard::parse(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn studies_are_sorted_by_name_and_overrides_win_over_defaults() {
+        let studies = plan_in(
+            "[defaults]\nseed = 4\nreplicates = 6\n\n[[study]]\nname = \"b\"\ndata = \"b.csv\"\n\
+             targets = [\"y\", \"x\"]\nseed = 9\n\n[[study]]\nname = \"a\"\ndata = \"a.csv\"\n\
+             targets = [\"y\"]\n",
+        )
+        .unwrap();
+        let names: Vec<&str> = studies.iter().map(|s| s.name.as_str()).collect();
+        assert_eq!(names, ["a", "b"]);
+        assert_eq!(studies[0].input("y").seed, 4);
+        assert_eq!(studies[1].input("x").seed, 9);
+        assert_eq!(studies[1].input("x").replicates, 6);
+        assert_eq!(studies[1].targets, ["y", "x"]);
+    }
+
+    #[test]
+    fn study_names_that_are_not_plain_folder_names_are_unsafe() {
+        for name in [
+            "..",
+            "a/b",
+            "a\\b",
+            ".hidden",
+            "tab\there",
+            "index.html",
+            "a b",
+            "",
+        ] {
+            assert!(unsafe_name(name, true).is_some(), "{name:?}");
+        }
+        for name in ["line-a", "Line_2.v1"] {
+            assert_eq!(unsafe_name(name, true), None, "{name}");
+        }
+        // Targets are column names: spaces are fine there, separators are not.
+        assert_eq!(unsafe_name("crush strength", false), None);
+        assert!(unsafe_name("a/b", false).is_some());
+    }
+}
