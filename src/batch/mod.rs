@@ -1,7 +1,8 @@
 //! `forebear batch`: every (study, target) pair of a plan into one output folder, an index, a
 //! machine-readable summary and drift against a previous run.
 //!
-//! - [`plan`] reads and validates the TOML plan, and assigns pairs to shards;
+//! - [`plan`] reads and validates the TOML plan (with the rules of `rules.rs`), and assigns pairs
+//!   to shards;
 //! - [`run`] analyses pairs into dossiers and builds the [`Summary`];
 //! - [`drift`] compares a summary with a previous one;
 //! - [`index`] renders `index.md` and `index.html` from the summary;
@@ -14,6 +15,7 @@ pub mod drift;
 pub mod index;
 pub mod output;
 pub mod plan;
+mod rules;
 pub mod run;
 
 use crate::finding::ToolInfo;

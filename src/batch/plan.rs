@@ -5,16 +5,16 @@
 
 use crate::data::fingerprint::sha256_text;
 use crate::data::LoadOptions;
-use crate::measure::Scaling;
-use crate::resample::{PlanKind, ResamplePlan};
 use crate::study::StudyInput;
 use serde::de::DeserializeOwned;
 use serde::Deserialize;
-use std::collections::BTreeMap;
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 use toml::de::{DeTable, DeValue, ValueDeserializer};
 use toml::Spanned;
+
+pub use super::rules::unsafe_name;
+use super::rules::{check_duplicates, check_settings, check_study};
 
 /// File names of a batch output folder that a study name must not take.
 pub const RESERVED_NAMES: [&str; 3] = ["index.html", "index.md", "summary.json"];
@@ -46,16 +46,16 @@ pub struct Problem {
 /// Settings as written (all optional: a study's value, else the default's, else the built-in).
 #[derive(Clone, Debug, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
-struct SettingsTable {
-    seed: Option<u64>,
-    replicates: Option<u32>,
-    resample: Option<String>,
-    fraction: Option<f64>,
-    alpha: Option<f64>,
-    stability_threshold: Option<f64>,
-    scaling: Option<String>,
-    exclude: Option<Vec<String>>,
-    missing_tokens: Option<Vec<String>>,
+pub(super) struct SettingsTable {
+    pub(super) seed: Option<u64>,
+    pub(super) replicates: Option<u32>,
+    pub(super) resample: Option<String>,
+    pub(super) fraction: Option<f64>,
+    pub(super) alpha: Option<f64>,
+    pub(super) stability_threshold: Option<f64>,
+    pub(super) scaling: Option<String>,
+    pub(super) exclude: Option<Vec<String>>,
+    pub(super) missing_tokens: Option<Vec<String>>,
 }
 
 impl SettingsTable {
@@ -78,10 +78,10 @@ impl SettingsTable {
 
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
-struct StudyHead {
-    name: Spanned<String>,
-    data: Spanned<String>,
-    targets: Spanned<Vec<String>>,
+pub(super) struct StudyHead {
+    pub(super) name: Spanned<String>,
+    pub(super) data: Spanned<String>,
+    pub(super) targets: Spanned<Vec<String>>,
 }
 
 /// One validated study of the plan.
@@ -98,7 +98,7 @@ pub struct PlannedStudy {
     /// Reader options.
     pub load: LoadOptions,
     /// Settings for every target (`target` is filled in per target by [`PlannedStudy::input`]).
-    settings: StudyInput,
+    pub(super) settings: StudyInput,
 }
 
 impl PlannedStudy {
@@ -218,13 +218,13 @@ fn line_of(text: &str, offset: usize) -> usize {
     text[..offset.min(text.len())].matches('\n').count() + 1
 }
 
-struct Collector<'t> {
+pub(super) struct Collector<'t> {
     text: &'t str,
-    problems: Vec<Problem>,
+    pub(super) problems: Vec<Problem>,
 }
 
 impl Collector<'_> {
-    fn at(&mut self, span: Option<Range<usize>>, message: String) {
+    pub(super) fn at(&mut self, span: Option<Range<usize>>, message: String) {
         let line = span.map(|s| line_of(self.text, s.start));
         self.problems.push(Problem { line, message });
     }
@@ -375,220 +375,6 @@ fn study_place(table: &DeTable<'_>, n: usize) -> String {
     match table.get("name").and_then(|v| v.get_ref().as_str()) {
         Some(name) => format!("[[study]] '{}'", name.escape_debug()),
         None => format!("[[study]] number {}", n + 1),
-    }
-}
-
-/// Why `name` cannot be a folder name inside the output folder, if it cannot.
-pub fn unsafe_name(name: &str, strict: bool) -> Option<String> {
-    if name.is_empty() {
-        return Some("is empty".into());
-    }
-    if name.contains("..") {
-        return Some("contains '..'".into());
-    }
-    if let Some(c) = name.chars().find(|c| matches!(c, '/' | '\\')) {
-        return Some(format!("contains '{c}'"));
-    }
-    if name.chars().any(char::is_control) {
-        return Some("contains a control character".into());
-    }
-    if name.starts_with('.') {
-        return Some("starts with '.' (a hidden folder)".into());
-    }
-    if name.len() > 100 {
-        return Some("is longer than 100 bytes".into());
-    }
-    if strict {
-        if let Some(c) = name
-            .chars()
-            .find(|c| !(c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.')))
-        {
-            return Some(format!(
-                "contains '{}'; use letters, digits, '-', '_' and '.'",
-                c.escape_debug()
-            ));
-        }
-        if RESERVED_NAMES.contains(&name.to_ascii_lowercase().as_str()) {
-            return Some("is the name of a file of the batch output".into());
-        }
-    }
-    None
-}
-
-fn check_study(
-    c: &mut Collector,
-    head: StudyHead,
-    settings: SettingsTable,
-    inherited_problems: &[String],
-    dir: &Path,
-    place: &str,
-) -> Option<PlannedStudy> {
-    let before = c.problems.len();
-    let name = head.name.get_ref().clone();
-    if let Some(why) = unsafe_name(&name, true) {
-        c.at(
-            Some(head.name.span()),
-            format!(
-                "the study name '{}' {why}: it is used as a folder name",
-                name.escape_debug()
-            ),
-        );
-    }
-    let data = head.data.get_ref().clone();
-    if data.trim().is_empty() || data.chars().any(char::is_control) {
-        c.at(
-            Some(head.data.span()),
-            format!("{place}: 'data' must name a CSV file (relative to the plan file)"),
-        );
-    }
-    let targets = head.targets.get_ref().clone();
-    if targets.is_empty() {
-        c.at(
-            Some(head.targets.span()),
-            format!("{place}: 'targets' is empty; list at least one target column"),
-        );
-    }
-    let mut seen: BTreeMap<String, &str> = BTreeMap::new();
-    for target in &targets {
-        if let Some(why) = unsafe_name(target, false) {
-            c.at(
-                Some(head.targets.span()),
-                format!(
-                    "{place}: the target '{}' {why}: it is used as a folder name",
-                    target.escape_debug()
-                ),
-            );
-        }
-        if let Some(other) = seen.insert(target.to_lowercase(), target) {
-            c.at(
-                Some(head.targets.span()),
-                format!(
-                    "{place}: the target '{target}' is listed twice (as '{other}'; folder names \
-                     that differ only in case collide on some file systems)"
-                ),
-            );
-        }
-    }
-    let input = match check_settings(&settings, Some(&targets)) {
-        Ok(input) => input,
-        Err(problems) => {
-            // A problem of [defaults] is reported there once, not again for every study.
-            for m in problems.iter().filter(|m| !inherited_problems.contains(m)) {
-                c.at(Some(head.name.span()), format!("{place}: {m}"));
-            }
-            return None;
-        }
-    };
-    if c.problems.len() > before {
-        return None;
-    }
-    let load = match &settings.missing_tokens {
-        Some(tokens) => LoadOptions {
-            missing_tokens: tokens.iter().map(|t| t.trim().to_string()).collect(),
-        },
-        None => LoadOptions::default(),
-    };
-    Some(PlannedStudy {
-        name,
-        data_path: dir.join(&data),
-        data,
-        targets,
-        load,
-        settings: input,
-    })
-}
-
-/// The settings as a study input, or every problem with them.
-fn check_settings(
-    s: &SettingsTable,
-    targets: Option<&[String]>,
-) -> std::result::Result<StudyInput, Vec<String>> {
-    let base = StudyInput::for_target("");
-    let mut problems = Vec::new();
-    let mut problem = |m: String| problems.push(m);
-    let mut ok = true;
-    let scaling = match s.scaling.as_deref() {
-        None => base.scaling,
-        Some(name) => Scaling::parse(name).unwrap_or_else(|| {
-            problem(format!(
-                "scaling '{name}' is not known; use rank, standardize or none"
-            ));
-            ok = false;
-            base.scaling
-        }),
-    };
-    let resample = match s.resample.as_deref() {
-        None => base.resample,
-        Some(name) => PlanKind::parse(name).unwrap_or_else(|| {
-            problem(format!(
-                "resample '{name}' is not known; use complementary-pairs, subsample or bootstrap"
-            ));
-            ok = false;
-            base.resample
-        }),
-    };
-    let alpha = s.alpha.unwrap_or(base.alpha);
-    if !(alpha > 0.0 && alpha < 1.0) {
-        problem(format!(
-            "alpha {alpha} is not a level: it must lie strictly between 0 and 1"
-        ));
-        ok = false;
-    }
-    let threshold = s.stability_threshold.unwrap_or(base.stability_threshold);
-    if !(threshold > 0.5 && threshold <= 1.0) {
-        problem(format!(
-            "stability_threshold {threshold} is outside (0.5, 1]: the error bound of Meinshausen \
-             and Bühlmann (2010) needs a threshold above one half"
-        ));
-        ok = false;
-    }
-    let seed = s.seed.unwrap_or(base.seed);
-    let replicates = s.replicates.unwrap_or(base.replicates);
-    if let Err(e) = ResamplePlan::new(resample, replicates, s.fraction, seed) {
-        problem(e.to_string().replace("--", ""));
-        ok = false;
-    }
-    let exclude = s.exclude.clone().unwrap_or_default();
-    for target in targets.unwrap_or_default() {
-        if exclude.contains(target) {
-            problem(format!(
-                "the target '{target}' is also excluded; remove it from 'exclude'"
-            ));
-            ok = false;
-        }
-    }
-    if !ok {
-        return Err(problems);
-    }
-    Ok(StudyInput {
-        target: String::new(),
-        exclude,
-        seed,
-        scaling,
-        alpha,
-        replicates,
-        resample,
-        fraction: s.fraction,
-        stability_threshold: threshold,
-    })
-}
-
-fn check_duplicates(c: &mut Collector, names: &[(String, usize)]) {
-    let mut seen: BTreeMap<String, (&str, usize)> = BTreeMap::new();
-    for (name, line) in names {
-        let key = name.to_ascii_lowercase();
-        if let Some((other, other_line)) = seen.get(&key) {
-            c.problems.push(Problem {
-                line: Some(*line),
-                message: format!(
-                    "the study name '{}' is used twice (also '{other}' on line {other_line}); \
-                     names must be unique, ignoring case, since each is a folder",
-                    name
-                ),
-            });
-        } else {
-            seen.insert(key, (name, *line));
-        }
     }
 }
 
