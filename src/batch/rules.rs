@@ -114,9 +114,9 @@ pub(super) fn check_study(
         return None;
     }
     let load = match &settings.missing_tokens {
-        Some(tokens) => LoadOptions {
-            missing_tokens: tokens.iter().map(|t| t.trim().to_string()).collect(),
-        },
+        // Through the command line's own parser, so reader options added later keep their
+        // defaults here too.
+        Some(tokens) => LoadOptions::from_token_list(&tokens.join(",")),
         None => LoadOptions::default(),
     };
     Some(PlannedStudy {
@@ -178,6 +178,14 @@ pub(super) fn check_settings(
     if let Err(e) = ResamplePlan::new(resample, replicates, s.fraction, seed) {
         problem(e.to_string().replace("--", ""));
         ok = false;
+    }
+    for token in s.missing_tokens.iter().flatten() {
+        if token.contains(',') {
+            problem(format!(
+                "the missing_tokens entry '{token}' contains a comma; list each token separately"
+            ));
+            ok = false;
+        }
     }
     let exclude = s.exclude.clone().unwrap_or_default();
     for target in targets.unwrap_or_default() {
