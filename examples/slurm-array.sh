@@ -1,4 +1,5 @@
 #!/usr/bin/env bash
+# (For a nightly plan of many studies split over an array, see examples/slurm-batch-array.sh.)
 # A study of 400 replicates as a Slurm job array of 8 shards, then one merge.
 #
 #   sbatch --array=0-7 examples/slurm-array.sh            # the shards, in parallel

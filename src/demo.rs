@@ -37,7 +37,13 @@ pub const DEMO_COLUMNS: [&str; 9] = [
 
 /// Generates the demo CSV text from its seed.
 pub fn generate_demo_csv() -> String {
-    let key = Key::new("demo-data", DEMO_SEED).finish();
+    generate_demo_csv_seeded(DEMO_SEED)
+}
+
+/// The demo scenario drawn with another seed: the same columns and mechanisms, other rows (for
+/// plans of several studies in tests and examples).
+pub fn generate_demo_csv_seeded(seed: u64) -> String {
+    let key = Key::new("demo-data", seed).finish();
     let mut out = DEMO_COLUMNS.join(",");
     out.push('\n');
     for row in 0..DEMO_ROWS {

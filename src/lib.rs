@@ -5,6 +5,7 @@
 //! `finding::Finding`, rendered by `report` and digested by `manifest`.
 
 pub mod analysis;
+pub mod batch;
 pub mod cli;
 pub mod data;
 pub mod demo;

@@ -17,6 +17,10 @@ pub struct DemoArgs {
     /// Re-create the demo CSV from its seeded generator and print it to stdout (maintainers).
     #[arg(long)]
     pub regenerate: bool,
+    /// With --regenerate: draw the scenario with this seed instead of the demo's (other rows,
+    /// same columns and mechanisms), e.g. to make the data files of a test plan.
+    #[arg(long, requires = "regenerate", value_name = "N")]
+    pub data_seed: Option<u64>,
     /// Replace the dossiers of an earlier demo run in the same folder.
     #[arg(long)]
     pub force: bool,
@@ -25,7 +29,10 @@ pub struct DemoArgs {
 /// Runs `demo`.
 pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
     if args.regenerate {
-        print!("{}", generate_demo_csv());
+        match args.data_seed {
+            Some(seed) => print!("{}", crate::demo::generate_demo_csv_seeded(seed)),
+            None => print!("{}", generate_demo_csv()),
+        }
         return Ok(());
     }
     let data_dir = args.out.join("demo-data");

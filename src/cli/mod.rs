@@ -1,6 +1,7 @@
 //! Command-line layer: argument definitions and one function per subcommand. No statistics here.
 
 pub mod analyze;
+pub mod batch;
 pub mod demo;
 pub mod dependence;
 pub mod fingerprint;
@@ -35,6 +36,8 @@ pub enum Command {
     Dependence(dependence::DependenceArgs),
     /// Write the built-in demo data and analyse it.
     Demo(demo::DemoArgs),
+    /// Run every study and target of a plan: dossiers, an index, a summary, drift.
+    Batch(batch::BatchArgs),
     /// Combine partial results (from `analyze --replicate-range`) into one dossier.
     Merge(merge::MergeArgs),
     /// Check a dossier against the data: files, fingerprints, method version, then a re-run.
@@ -84,6 +87,7 @@ pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
         Command::Analyze(args) => analyze::run(args, argv, &progress),
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, &progress),
+        Command::Batch(args) => batch::run(args, argv, &progress),
         Command::Merge(args) => merge::run(args, argv, &progress),
         Command::Verify(args) => verify::run(args, argv, &progress),
         Command::Fingerprint(args) => fingerprint::run(args),

@@ -146,43 +146,79 @@ fn process_is_running(pid: u32) -> bool {
 pub fn write_files_atomically(dir: &Path, files: &[(&str, String)], force: bool) -> Result<()> {
     let extra: Vec<&str> = files.iter().map(|(name, _)| *name).collect();
     check_replaceable(dir, &extra, force)?;
-    let parent = parent_of(dir);
-    std::fs::create_dir_all(parent).map_err(|e| {
-        Error::input(format!(
-            "cannot create output folder '{}': {e}",
-            parent.display()
-        ))
-    })?;
-    remove_stale_staging(dir);
-    let staging = sibling(dir, "partial");
-    // A staging folder of this name can only be left over from a killed run with the same id.
-    let _ = std::fs::remove_dir_all(&staging);
-    remove_staging_on_signal();
-    STAGING
-        .lock()
-        .unwrap_or_else(|e| e.into_inner())
-        .push(staging.clone());
-    let result = (|| {
-        std::fs::create_dir(&staging)
-            .map_err(|e| Error::input(format!("cannot write into '{}': {e}", parent.display())))?;
-        for (name, text) in files {
-            std::fs::write(staging.join(name), text)
-                .map_err(|e| Error::internal(format!("cannot write '{name}': {e}")))?;
-            pause_for_tests();
-        }
-        let mut registered = STAGING.lock().unwrap_or_else(|e| e.into_inner());
-        let swapped = swap_into_place(&staging, dir);
-        registered.retain(|p| p != &staging);
-        swapped
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_dir_all(&staging);
+    let staging = Staging::new(dir)?;
+    for (name, text) in files {
+        std::fs::write(staging.path().join(name), text)
+            .map_err(|e| Error::internal(format!("cannot write '{name}': {e}")))?;
+        pause_for_tests();
+    }
+    staging.finish()
+}
+
+/// A staging folder beside an output folder: removed on SIGINT/SIGTERM or when dropped, renamed
+/// into place by [`Staging::finish`]. The caller checks beforehand that the output folder may be
+/// replaced.
+pub struct Staging {
+    path: PathBuf,
+    dir: PathBuf,
+    finished: bool,
+}
+
+impl Staging {
+    /// Creates the (empty) staging folder for `dir`, removing leftovers of killed runs.
+    pub fn new(dir: &Path) -> Result<Staging> {
+        let parent = parent_of(dir);
+        std::fs::create_dir_all(parent).map_err(|e| {
+            Error::input(format!(
+                "cannot create output folder '{}': {e}",
+                parent.display()
+            ))
+        })?;
+        remove_stale_staging(dir);
+        let path = sibling(dir, "partial");
+        // A staging folder of this name can only be left over from a killed run with the same id.
+        let _ = std::fs::remove_dir_all(&path);
+        remove_staging_on_signal();
         STAGING
             .lock()
             .unwrap_or_else(|e| e.into_inner())
-            .retain(|p| p != &staging);
+            .push(path.clone());
+        let staging = Staging {
+            path,
+            dir: dir.to_path_buf(),
+            finished: false,
+        };
+        std::fs::create_dir(&staging.path)
+            .map_err(|e| Error::input(format!("cannot write into '{}': {e}", parent.display())))?;
+        Ok(staging)
     }
-    result
+
+    /// The staging folder, to write into.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Moves the staging folder into place, replacing the output folder.
+    pub fn finish(mut self) -> Result<()> {
+        let mut registered = STAGING.lock().unwrap_or_else(|e| e.into_inner());
+        let swapped = swap_into_place(&self.path, &self.dir);
+        registered.retain(|p| p != &self.path);
+        drop(registered);
+        self.finished = swapped.is_ok();
+        swapped
+    }
+}
+
+impl Drop for Staging {
+    fn drop(&mut self) {
+        if !self.finished {
+            let _ = std::fs::remove_dir_all(&self.path);
+            STAGING
+                .lock()
+                .unwrap_or_else(|e| e.into_inner())
+                .retain(|p| p != &self.path);
+        }
+    }
 }
 
 /// Checks, before any work is done, that `dir` can receive a dossier: it does not exist, or it is
@@ -254,7 +290,7 @@ fn check_replaceable(dir: &Path, also_ours: &[&str], force: bool) -> Result<()> 
 }
 
 /// Whether `path` is a JSON file that forebear wrote (its `schema` names a forebear layout).
-fn written_by_forebear(path: &Path) -> bool {
+pub(crate) fn written_by_forebear(path: &Path) -> bool {
     let Ok(text) = std::fs::read_to_string(path) else {
         return false;
     };

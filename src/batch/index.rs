@@ -1,0 +1,190 @@
+//! `index.md` and `index.html` of a batch output, rendered from the [`Summary`] alone (so that
+//! collected shards give the same bytes as one run). The Markdown goes through minijinja with every
+//! value escaped for Markdown; the HTML through minijinja with HTML auto-escaping, in a
+//! self-contained page under the dossier's Content-Security-Policy (no script, no network).
+
+use super::drift::{sets, Change};
+use super::{Entry, Status, Summary};
+use crate::error::{Error, Result};
+use crate::report::html::CONTENT_SECURITY_POLICY;
+use crate::report::markdown::escape_markdown;
+use minijinja::value::Serde;
+use minijinja::{context, Environment, Value};
+use serde::Serialize;
+
+const MARKDOWN_TEMPLATE: &str = include_str!("../../templates/batch-index.md");
+const HTML_TEMPLATE: &str = include_str!("../../templates/batch-index.html");
+const CSS: &str = include_str!("../../templates/batch-index.css");
+
+/// One row of the index: a (study, target) pair.
+#[derive(Serialize)]
+struct Row {
+    study: String,
+    target: String,
+    failed: bool,
+    error: Option<String>,
+    outcome: String,
+    parent_sets: String,
+    stability: Option<String>,
+    stable: bool,
+    replicates: Option<u32>,
+    fingerprint: Option<String>,
+    rows_used: Option<usize>,
+    compared: bool,
+    changes: Vec<Change>,
+    /// Percent-encoded folder path relative to the index (`study/target`).
+    href: Option<String>,
+}
+
+fn rows(summary: &Summary) -> Vec<Row> {
+    let changes: Vec<Change> = summary
+        .drift
+        .as_ref()
+        .map(|d| d.changes.clone())
+        .unwrap_or_default();
+    summary
+        .entries()
+        .map(|(study, target, entry)| row(study, target, entry, &changes, summary))
+        .collect()
+}
+
+fn row(study: &str, target: &str, e: &Entry, changes: &[Change], summary: &Summary) -> Row {
+    let failed = e.status == Status::Failed;
+    Row {
+        study: study.into(),
+        target: target.into(),
+        failed,
+        error: e.error.clone(),
+        outcome: if failed {
+            "failed".into()
+        } else {
+            e.outcome.clone().unwrap_or_default()
+        },
+        parent_sets: if failed {
+            String::new()
+        } else {
+            sets(&e.parent_sets)
+        },
+        stability: e.stability.as_ref().map(|s| format!("{:.2}", s.headline)),
+        stable: e.stability.as_ref().is_some_and(|s| s.headline_stable),
+        replicates: e.stability.as_ref().map(|s| s.replicates),
+        fingerprint: e
+            .data
+            .as_ref()
+            .map(|d| d.content_sha256.chars().take(12).collect()),
+        rows_used: e.data.as_ref().map(|d| d.rows_used),
+        compared: summary.drift.is_some(),
+        changes: changes
+            .iter()
+            .filter(|c| c.study == study && c.target == target)
+            .cloned()
+            .collect(),
+        href: e
+            .dossier
+            .as_ref()
+            .map(|d| d.split('/').map(url_segment).collect::<Vec<_>>().join("/")),
+    }
+}
+
+/// A path segment percent-encoded (RFC 3986): everything but unreserved characters.
+fn url_segment(segment: &str) -> String {
+    let mut out = String::new();
+    for byte in segment.bytes() {
+        if byte.is_ascii_alphanumeric() || matches!(byte, b'-' | b'.' | b'_' | b'~') {
+            out.push(byte as char);
+        } else {
+            out.push_str(&format!("%{byte:02X}"));
+        }
+    }
+    out
+}
+
+fn page_context(summary: &Summary) -> Value {
+    let drift = summary.drift.as_ref();
+    let pairs_changed = drift.map_or(0, |d| {
+        d.changes
+            .iter()
+            .map(|c| (&c.study, &c.target))
+            .collect::<std::collections::BTreeSet<_>>()
+            .len()
+    });
+    let vanished: Vec<&Change> = drift
+        .map(|d| d.changes.iter().filter(|c| c.kind == "vanished").collect())
+        .unwrap_or_default();
+    context! {
+        plan => Value::from(Serde(&summary.plan)),
+        plan_sha => summary.plan.sha256.chars().take(12).collect::<String>(),
+        tool => summary.tool.describe(),
+        shard => Value::from(Serde(summary.shard)),
+        totals => Value::from(Serde(&summary.totals)),
+        drift => Value::from(Serde(drift)),
+        previous_sha => drift.map(|d| d.previous_summary_sha256.chars().take(12).collect::<String>()),
+        pairs_changed => pairs_changed,
+        vanished => Value::from(Serde(&vanished)),
+        rows => Value::from(Serde(rows(summary))),
+    }
+}
+
+/// `index.md`.
+pub fn render_markdown(summary: &Summary) -> Result<String> {
+    let mut env = Environment::new();
+    syntax(&mut env);
+    env.set_formatter(|out, _state, value| {
+        let text = if value.is_safe() {
+            value.to_string()
+        } else if value.is_none() || value.is_undefined() {
+            "—".to_string()
+        } else {
+            escape_markdown(&value.to_string())
+        };
+        out.write_str(&text)
+            .map_err(|e| minijinja::Error::new(minijinja::ErrorKind::WriteFailure, e.to_string()))
+    });
+    let text = render(env, "batch-index.md", MARKDOWN_TEMPLATE, summary)?;
+    Ok(format!("{}\n", text.trim_end()))
+}
+
+/// `index.html`.
+pub fn render_html(summary: &Summary) -> Result<String> {
+    let mut env = Environment::new();
+    syntax(&mut env);
+    env.add_global("css", Value::from_safe_string(CSS.to_string()));
+    env.add_global("csp", CONTENT_SECURITY_POLICY);
+    render(env, "batch-index.html", HTML_TEMPLATE, summary)
+}
+
+fn syntax(env: &mut Environment) {
+    env.set_syntax(
+        minijinja::syntax::SyntaxConfig::builder()
+            .trim_blocks(true)
+            .lstrip_blocks(true)
+            .keep_trailing_newline(true)
+            .build()
+            .expect("static syntax settings"),
+    );
+}
+
+fn render(
+    mut env: Environment<'static>,
+    name: &'static str,
+    template: &'static str,
+    summary: &Summary,
+) -> Result<String> {
+    env.add_template(name, template)
+        .map_err(|e| Error::internal(format!("{name} template: {e}")))?;
+    env.get_template(name)
+        .and_then(|t| t.render(page_context(summary)))
+        .map_err(|e| Error::internal(format!("cannot render {name}: {e:#}")))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn link_segments_are_percent_encoded() {
+        assert_eq!(url_segment("crush strength#1"), "crush%20strength%231");
+        assert_eq!(url_segment("a-b_c.d~"), "a-b_c.d~");
+        assert_eq!(url_segment("é"), "%C3%A9");
+    }
+}

@@ -1,0 +1,164 @@
+//! `forebear batch`: every (study, target) pair of a plan into one output folder, an index, a
+//! machine-readable summary and drift against a previous run.
+//!
+//! - [`plan`] reads and validates the TOML plan (with the rules of `rules.rs`), and assigns pairs
+//!   to shards;
+//! - [`run`] analyses pairs into dossiers and builds the [`Summary`];
+//! - [`drift`] compares a summary with a previous one;
+//! - [`index`] renders `index.md` and `index.html` from the summary;
+//! - [`output`] checks, stages and writes the output folder, and collects shard outputs.
+//!
+//! `summary.json` and the index files hold no timestamps, durations, paths of the machine or
+//! command lines, so that shard outputs collected give the same bytes as one run.
+
+pub mod drift;
+pub mod index;
+pub mod output;
+pub mod plan;
+mod rules;
+pub mod run;
+
+use crate::finding::ToolInfo;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// Version of the `summary.json` layout.
+pub const BATCH_SCHEMA: &str = "forebear.batch/1";
+
+/// File name of the summary in a batch output folder.
+pub const SUMMARY_FILE: &str = "summary.json";
+
+/// Default for `--drift-threshold`.
+pub const DEFAULT_DRIFT_THRESHOLD: f64 = 0.2;
+
+/// `summary.json`: the whole batch output for machines.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct Summary {
+    /// Layout version, [`BATCH_SCHEMA`].
+    pub schema: String,
+    /// The build that ran the batch.
+    pub tool: ToolInfo,
+    /// The plan file.
+    pub plan: PlanRef,
+    /// The share this output holds; `null` for a whole run (or collected shards).
+    pub shard: Option<plan::Shard>,
+    /// Every study run, by name.
+    pub studies: BTreeMap<String, StudySummary>,
+    /// Changes since a previous run; `null` when no previous run was given.
+    pub drift: Option<drift::Drift>,
+    /// Counts.
+    pub totals: Totals,
+}
+
+/// The plan file, by name and content.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct PlanRef {
+    /// File name (without folders).
+    pub file: String,
+    /// SHA-256 of its text.
+    pub sha256: String,
+}
+
+/// One study of the batch.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct StudySummary {
+    /// The data path as written in the plan.
+    pub data: String,
+    /// Every target of the study run here, by name.
+    pub targets: BTreeMap<String, Entry>,
+}
+
+/// Whether a pair was analysed.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum Status {
+    /// The dossier was written.
+    Done,
+    /// The pair failed; `error` says why.
+    Failed,
+}
+
+/// One (study, target) pair's result.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct Entry {
+    /// Done or failed.
+    pub status: Status,
+    /// Why it failed (failed pairs only).
+    pub error: Option<String>,
+    /// Position in the plan's pair order (the shard assignment uses it).
+    pub pair: usize,
+    /// The outcome name (done pairs only).
+    pub outcome: Option<String>,
+    /// Candidate parent sets.
+    pub parent_sets: Vec<Vec<String>>,
+    /// MB(target) in selection order.
+    pub markov_boundary: Vec<String>,
+    /// Resampling stability; `null` without resampling or for failed pairs.
+    pub stability: Option<EntryStability>,
+    /// The analysed data's fingerprints.
+    pub data: Option<EntryData>,
+    /// The result digest of the dossier.
+    pub digest: Option<String>,
+    /// The dossier folder, relative to the output folder (`study/target`).
+    pub dossier: Option<String>,
+}
+
+/// The stability of a pair's findings.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct EntryStability {
+    /// Replicates aggregated.
+    pub replicates: u32,
+    /// π_thr.
+    pub threshold: f64,
+    /// The headline: frequency of the full-data outcome with the same parent sets.
+    pub headline: f64,
+    /// Whether the headline is at least π_thr.
+    pub headline_stable: bool,
+    /// Frequency of each candidate in MB(target).
+    pub markov_boundary: BTreeMap<String, f64>,
+    /// Frequency of each candidate in an identified parent set.
+    pub parents: BTreeMap<String, f64>,
+}
+
+/// Fingerprints of the analysed data.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct EntryData {
+    /// SHA-256 of the file's bytes.
+    pub sha256: String,
+    /// SHA-256 of its parsed content (what drift compares).
+    pub content_sha256: String,
+    /// Rows read.
+    pub rows_read: usize,
+    /// Rows used.
+    pub rows_used: usize,
+}
+
+/// Counts over the batch.
+#[derive(Clone, Debug, Default, Serialize, Deserialize, PartialEq)]
+pub struct Totals {
+    /// Pairs in this output.
+    pub pairs: usize,
+    /// Pairs with a dossier.
+    pub done: usize,
+    /// Pairs that failed.
+    pub failed: usize,
+    /// Changes listed under `drift`.
+    pub changes: usize,
+}
+
+impl Summary {
+    /// Every entry with its study and target, in name order.
+    pub fn entries(&self) -> impl Iterator<Item = (&str, &str, &Entry)> {
+        self.studies.iter().flat_map(|(s, study)| {
+            study
+                .targets
+                .iter()
+                .map(move |(t, e)| (s.as_str(), t.as_str(), e))
+        })
+    }
+
+    /// The text of `summary.json`.
+    pub fn to_text(&self) -> String {
+        serde_json::to_string_pretty(self).expect("a summary is plain data") + "\n"
+    }
+}

@@ -1,0 +1,232 @@
+//! The rules a plan must follow: safe folder names, valid settings, unique study names. Used by
+//! [`super::plan`] while it reads the file, so that every problem is reported at once.
+
+use super::plan::{Collector, PlannedStudy, Problem, SettingsTable, StudyHead, RESERVED_NAMES};
+use crate::data::LoadOptions;
+use crate::measure::Scaling;
+use crate::resample::{PlanKind, ResamplePlan};
+use crate::study::StudyInput;
+use std::collections::BTreeMap;
+use std::path::Path;
+
+/// Why `name` cannot be a folder name inside the output folder, if it cannot.
+pub fn unsafe_name(name: &str, strict: bool) -> Option<String> {
+    if name.is_empty() {
+        return Some("is empty".into());
+    }
+    if name.contains("..") {
+        return Some("contains '..'".into());
+    }
+    if let Some(c) = name.chars().find(|c| matches!(c, '/' | '\\')) {
+        return Some(format!("contains '{c}'"));
+    }
+    if name.chars().any(char::is_control) {
+        return Some("contains a control character".into());
+    }
+    if name.starts_with('.') {
+        return Some("starts with '.' (a hidden folder)".into());
+    }
+    if name.len() > 100 {
+        return Some("is longer than 100 bytes".into());
+    }
+    if strict {
+        if let Some(c) = name
+            .chars()
+            .find(|c| !(c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.')))
+        {
+            return Some(format!(
+                "contains '{}'; use letters, digits, '-', '_' and '.'",
+                c.escape_debug()
+            ));
+        }
+        if RESERVED_NAMES.contains(&name.to_ascii_lowercase().as_str()) {
+            return Some("is the name of a file of the batch output".into());
+        }
+    }
+    None
+}
+
+pub(super) fn check_study(
+    c: &mut Collector,
+    head: StudyHead,
+    settings: SettingsTable,
+    inherited_problems: &[String],
+    dir: &Path,
+    place: &str,
+) -> Option<PlannedStudy> {
+    let before = c.problems.len();
+    let name = head.name.get_ref().clone();
+    if let Some(why) = unsafe_name(&name, true) {
+        c.at(
+            Some(head.name.span()),
+            format!(
+                "the study name '{}' {why}: it is used as a folder name",
+                name.escape_debug()
+            ),
+        );
+    }
+    let data = head.data.get_ref().clone();
+    if data.trim().is_empty() || data.chars().any(char::is_control) {
+        c.at(
+            Some(head.data.span()),
+            format!("{place}: 'data' must name a CSV file (relative to the plan file)"),
+        );
+    }
+    let targets = head.targets.get_ref().clone();
+    if targets.is_empty() {
+        c.at(
+            Some(head.targets.span()),
+            format!("{place}: 'targets' is empty; list at least one target column"),
+        );
+    }
+    let mut seen: BTreeMap<String, &str> = BTreeMap::new();
+    for target in &targets {
+        if let Some(why) = unsafe_name(target, false) {
+            c.at(
+                Some(head.targets.span()),
+                format!(
+                    "{place}: the target '{}' {why}: it is used as a folder name",
+                    target.escape_debug()
+                ),
+            );
+        }
+        if let Some(other) = seen.insert(target.to_lowercase(), target) {
+            c.at(
+                Some(head.targets.span()),
+                format!(
+                    "{place}: the target '{target}' is listed twice (as '{other}'; folder names \
+                     that differ only in case collide on some file systems)"
+                ),
+            );
+        }
+    }
+    let input = match check_settings(&settings, Some(&targets)) {
+        Ok(input) => input,
+        Err(problems) => {
+            // A problem of [defaults] is reported there once, not again for every study.
+            for m in problems.iter().filter(|m| !inherited_problems.contains(m)) {
+                c.at(Some(head.name.span()), format!("{place}: {m}"));
+            }
+            return None;
+        }
+    };
+    if c.problems.len() > before {
+        return None;
+    }
+    let load = match &settings.missing_tokens {
+        // Through the command line's own parser, so reader options added later keep their
+        // defaults here too.
+        Some(tokens) => LoadOptions::from_token_list(&tokens.join(",")),
+        None => LoadOptions::default(),
+    };
+    Some(PlannedStudy {
+        name,
+        data_path: dir.join(&data),
+        data,
+        targets,
+        load,
+        settings: input,
+    })
+}
+
+/// The settings as a study input, or every problem with them.
+pub(super) fn check_settings(
+    s: &SettingsTable,
+    targets: Option<&[String]>,
+) -> std::result::Result<StudyInput, Vec<String>> {
+    let base = StudyInput::for_target("");
+    let mut problems = Vec::new();
+    let mut problem = |m: String| problems.push(m);
+    let mut ok = true;
+    let scaling = match s.scaling.as_deref() {
+        None => base.scaling,
+        Some(name) => Scaling::parse(name).unwrap_or_else(|| {
+            problem(format!(
+                "scaling '{name}' is not known; use rank, standardize or none"
+            ));
+            ok = false;
+            base.scaling
+        }),
+    };
+    let resample = match s.resample.as_deref() {
+        None => base.resample,
+        Some(name) => PlanKind::parse(name).unwrap_or_else(|| {
+            problem(format!(
+                "resample '{name}' is not known; use complementary-pairs, subsample or bootstrap"
+            ));
+            ok = false;
+            base.resample
+        }),
+    };
+    let alpha = s.alpha.unwrap_or(base.alpha);
+    if !(alpha > 0.0 && alpha < 1.0) {
+        problem(format!(
+            "alpha {alpha} is not a level: it must lie strictly between 0 and 1"
+        ));
+        ok = false;
+    }
+    let threshold = s.stability_threshold.unwrap_or(base.stability_threshold);
+    if !(threshold > 0.5 && threshold <= 1.0) {
+        problem(format!(
+            "stability_threshold {threshold} is outside (0.5, 1]: the error bound of Meinshausen \
+             and Bühlmann (2010) needs a threshold above one half"
+        ));
+        ok = false;
+    }
+    let seed = s.seed.unwrap_or(base.seed);
+    let replicates = s.replicates.unwrap_or(base.replicates);
+    if let Err(e) = ResamplePlan::new(resample, replicates, s.fraction, seed) {
+        problem(e.to_string().replace("--", ""));
+        ok = false;
+    }
+    for token in s.missing_tokens.iter().flatten() {
+        if token.contains(',') {
+            problem(format!(
+                "the missing_tokens entry '{token}' contains a comma; list each token separately"
+            ));
+            ok = false;
+        }
+    }
+    let exclude = s.exclude.clone().unwrap_or_default();
+    for target in targets.unwrap_or_default() {
+        if exclude.contains(target) {
+            problem(format!(
+                "the target '{target}' is also excluded; remove it from 'exclude'"
+            ));
+            ok = false;
+        }
+    }
+    if !ok {
+        return Err(problems);
+    }
+    Ok(StudyInput {
+        target: String::new(),
+        exclude,
+        seed,
+        scaling,
+        alpha,
+        replicates,
+        resample,
+        fraction: s.fraction,
+        stability_threshold: threshold,
+    })
+}
+
+pub(super) fn check_duplicates(c: &mut Collector, names: &[(String, usize)]) {
+    let mut seen: BTreeMap<String, (&str, usize)> = BTreeMap::new();
+    for (name, line) in names {
+        let key = name.to_ascii_lowercase();
+        if let Some((other, other_line)) = seen.get(&key) {
+            c.problems.push(Problem {
+                line: Some(*line),
+                message: format!(
+                    "the study name '{}' is used twice (also '{other}' on line {other_line}); \
+                     names must be unique, ignoring case, since each is a folder",
+                    name
+                ),
+            });
+        } else {
+            seen.insert(key, (name, *line));
+        }
+    }
+}

@@ -1,0 +1,187 @@
+//! Running the pairs of a plan: each (study, target) is analysed and its dossier written into
+//! `DIR/<study>/<target>/`; a failing pair is recorded with its error and the others go on.
+//!
+//! Pairs run one after another, each with all cores (the replicates and the neighbour searches
+//! inside one analysis are parallel already); see DEVELOPERS.md for the measurement behind this.
+
+use super::drift::{sets, Drift};
+use super::plan::{Pair, Plan, Shard};
+use super::{
+    Entry, EntryData, EntryStability, PlanRef, Status, StudySummary, Summary, Totals, BATCH_SCHEMA,
+};
+use crate::analysis::{analyze_file, Progress, Silent};
+use crate::finding::{Finding, ToolInfo};
+use std::collections::BTreeMap;
+use std::path::Path;
+use std::time::Instant;
+
+/// Runs the pairs of `plan` that `shard` holds (all without a shard) into the folder `dir`.
+/// Returns the studies with their entries; every failure is inside, never an early return.
+pub fn run_pairs(
+    plan: &Plan,
+    shard: Option<Shard>,
+    dir: &Path,
+    command_line: &[String],
+    progress: &dyn Progress,
+) -> BTreeMap<String, StudySummary> {
+    let pairs: Vec<Pair> = plan
+        .pairs()
+        .into_iter()
+        .filter(|p| shard.is_none_or(|s| s.holds(p.index)))
+        .collect();
+    let mut studies: BTreeMap<String, StudySummary> = BTreeMap::new();
+    for (n, pair) in pairs.iter().enumerate() {
+        let started = Instant::now();
+        let entry = run_pair(pair, dir, command_line);
+        progress.say(&format!(
+            "[{}/{}] {}/{}: {} ({:.1} s)",
+            n + 1,
+            pairs.len(),
+            pair.study.name,
+            pair.target,
+            describe(&entry),
+            started.elapsed().as_secs_f64()
+        ));
+        studies
+            .entry(pair.study.name.clone())
+            .or_insert_with(|| StudySummary {
+                data: pair.study.data.clone(),
+                targets: BTreeMap::new(),
+            })
+            .targets
+            .insert(pair.target.to_string(), entry);
+    }
+    studies
+}
+
+/// One line about an entry, for progress.
+fn describe(entry: &Entry) -> String {
+    match entry.status {
+        Status::Failed => format!(
+            "FAILED: {}",
+            entry.error.as_deref().unwrap_or("unknown error")
+        ),
+        Status::Done => {
+            let stability = entry
+                .stability
+                .as_ref()
+                .map(|s| format!(", stability {:.2}", s.headline))
+                .unwrap_or_default();
+            format!(
+                "{} {}{stability}",
+                entry.outcome.as_deref().unwrap_or(""),
+                sets(&entry.parent_sets)
+            )
+        }
+    }
+}
+
+/// Analyses one pair into `dir/<study>/<target>/`. A panic inside is a bug; it fails this pair
+/// only (the panic hook has printed it) and is recorded as an internal error.
+fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> Entry {
+    let relative = format!("{}/{}", pair.study.name, pair.target);
+    let folder = dir.join(&pair.study.name).join(pair.target);
+    let work = || -> crate::error::Result<Finding> {
+        let analysed = analyze_file(
+            &pair.study.data_path,
+            &pair.study.input(pair.target),
+            &pair.study.load,
+            command_line.to_vec(),
+            &Silent,
+        )?;
+        crate::report::write_dossier(&analysed, &folder, false)?;
+        Ok(analysed.finding)
+    };
+    match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
+        Ok(Ok(finding)) => entry_of(&finding, pair.index, relative),
+        Ok(Err(e)) => failed(pair.index, e.to_string()),
+        Err(_) => failed(
+            pair.index,
+            "internal error: the analysis stopped on a bug (see the message above)".into(),
+        ),
+    }
+}
+
+/// The entry of a failed pair.
+pub fn failed(pair: usize, error: String) -> Entry {
+    Entry {
+        status: Status::Failed,
+        error: Some(one_line(&error)),
+        pair,
+        outcome: None,
+        parent_sets: Vec::new(),
+        markov_boundary: Vec::new(),
+        stability: None,
+        data: None,
+        digest: None,
+        dossier: None,
+    }
+}
+
+/// `text` on one line: control characters (line breaks included) become spaces.
+fn one_line(text: &str) -> String {
+    text.split(char::is_control)
+        .map(str::trim)
+        .filter(|p| !p.is_empty())
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// The entry of a finished analysis.
+pub fn entry_of(finding: &Finding, pair: usize, dossier: String) -> Entry {
+    Entry {
+        status: Status::Done,
+        error: None,
+        pair,
+        outcome: Some(finding.outcome.name().to_string()),
+        parent_sets: finding.parent_sets.clone(),
+        markov_boundary: finding.markov_boundary.clone(),
+        stability: finding.stability.as_ref().map(|s| EntryStability {
+            replicates: s.replicates,
+            threshold: s.threshold,
+            headline: s.full_data_outcome_frequency,
+            headline_stable: s.full_data_outcome_stable,
+            markov_boundary: s.markov_boundary.clone(),
+            parents: s.parents.clone(),
+        }),
+        data: Some(EntryData {
+            sha256: finding.data.sha256.clone(),
+            content_sha256: finding.data.content_sha256.clone(),
+            rows_read: finding.data.rows_read,
+            rows_used: finding.data.rows_used,
+        }),
+        digest: Some(finding.digest.clone()),
+        dossier: Some(dossier),
+    }
+}
+
+/// Assembles the summary of a run or of collected shards.
+pub fn summary(
+    plan: &Plan,
+    shard: Option<Shard>,
+    tool: ToolInfo,
+    studies: BTreeMap<String, StudySummary>,
+    drift: Option<Drift>,
+) -> Summary {
+    let mut totals = Totals::default();
+    for entry in studies.values().flat_map(|s| s.targets.values()) {
+        totals.pairs += 1;
+        match entry.status {
+            Status::Done => totals.done += 1,
+            Status::Failed => totals.failed += 1,
+        }
+    }
+    totals.changes = drift.as_ref().map_or(0, |d| d.changes.len());
+    Summary {
+        schema: BATCH_SCHEMA.into(),
+        tool,
+        plan: PlanRef {
+            file: plan.file_name.clone(),
+            sha256: plan.sha256.clone(),
+        },
+        shard,
+        studies,
+        drift,
+        totals,
+    }
+}

@@ -1,0 +1,443 @@
+//! `forebear batch` (issue 7), on the real binary: a plan of three studies drawn from the demo
+//! generator with different seeds, the index and its links, drift against a previous run, a
+//! failing study, shards collected, and plans rejected before anything runs.
+
+use forebear::demo::generate_demo_csv_seeded;
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+const PLAN: &str = r#"# three lines of the invented filter-disc scenario
+[defaults]
+seed = 11
+replicates = 4
+
+[[study]]
+name = "line-a"
+data = "data/line_a.csv"
+targets = ["crush_strength", "pore_density"]
+
+[[study]]
+name = "line-b"
+data = "data/line_b.csv"
+targets = ["crush_strength"]
+exclude = ["conveyor_speed"]
+
+[[study]]
+name = "line-c"
+data = "data/line_c.csv"
+targets = ["crush_strength"]
+seed = 3
+"#;
+
+struct Scratch(PathBuf);
+
+impl Scratch {
+    /// A folder with the three data files (demo seeds 101, 102, 103) and the plan.
+    fn with_plan(test: &str) -> Scratch {
+        let dir =
+            std::env::temp_dir().join(format!("forebear-batch-{test}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(dir.join("data")).unwrap();
+        for (name, seed) in [("line_a", 101), ("line_b", 102), ("line_c", 103)] {
+            std::fs::write(
+                dir.join(format!("data/{name}.csv")),
+                generate_demo_csv_seeded(seed),
+            )
+            .unwrap();
+        }
+        std::fs::write(dir.join("plan.toml"), PLAN).unwrap();
+        Scratch(dir)
+    }
+    fn path(&self, name: &str) -> PathBuf {
+        self.0.join(name)
+    }
+    /// Runs `forebear --quiet batch plan.toml ARGS` in the scratch folder.
+    fn batch(&self, args: &[&str]) -> Output {
+        Command::new(env!("CARGO_BIN_EXE_forebear"))
+            .current_dir(&self.0)
+            .args(["--quiet", "batch", "plan.toml"])
+            .args(args)
+            .output()
+            .unwrap()
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+fn stderr(output: &Output) -> String {
+    String::from_utf8_lossy(&output.stderr).into_owned()
+}
+
+fn exit_code(output: &Output) -> i32 {
+    output.status.code().expect("not killed by a signal")
+}
+
+fn summary(dir: &Path) -> Value {
+    serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap()
+}
+
+fn changes(summary: &Value) -> Vec<(String, String, String)> {
+    summary["drift"]["changes"]
+        .as_array()
+        .expect("drift was checked")
+        .iter()
+        .map(|c| {
+            (
+                c["study"].as_str().unwrap().to_string(),
+                c["target"].as_str().unwrap().to_string(),
+                c["kind"].as_str().unwrap().to_string(),
+            )
+        })
+        .collect()
+}
+
+/// Every link target in `text` that follows `marker` up to `end`.
+fn links<'a>(text: &'a str, marker: &str, end: char) -> Vec<&'a str> {
+    text.split(marker)
+        .skip(1)
+        .map(|rest| &rest[..rest.find(end).unwrap()])
+        .collect()
+}
+
+#[test]
+fn three_study_plan_runs_end_to_end_and_every_index_link_resolves() {
+    let s = Scratch::with_plan("end-to-end");
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    let out = s.path("out");
+    let summary = summary(&out);
+    assert_eq!(summary["schema"], "forebear.batch/1");
+    assert_eq!(summary["totals"]["pairs"], 4);
+    assert_eq!(summary["totals"]["done"], 4);
+    assert_eq!(summary["drift"], Value::Null);
+    for (study, target) in [
+        ("line-a", "crush_strength"),
+        ("line-a", "pore_density"),
+        ("line-b", "crush_strength"),
+        ("line-c", "crush_strength"),
+    ] {
+        let entry = &summary["studies"][study]["targets"][target];
+        assert_eq!(entry["status"], "done", "{study}/{target}");
+        let result: Value = serde_json::from_str(
+            &std::fs::read_to_string(out.join(study).join(target).join("result.json")).unwrap(),
+        )
+        .unwrap();
+        assert_eq!(entry["digest"], result["digest"], "{study}/{target}");
+        assert!(out.join(study).join(target).join("manifest.json").is_file());
+    }
+    let html = std::fs::read_to_string(out.join("index.html")).unwrap();
+    let html_links = links(&html, "href=\"", '"');
+    assert_eq!(html_links.len(), 4, "{html}");
+    for link in html_links {
+        assert!(out.join(link).is_file(), "index.html links to {link}");
+    }
+    let markdown = std::fs::read_to_string(out.join("index.md")).unwrap();
+    let md_links = links(&markdown, "](", ')');
+    assert_eq!(md_links.len(), 4, "{markdown}");
+    for link in md_links {
+        assert!(out.join(link).is_file(), "index.md links to {link}");
+    }
+}
+
+#[test]
+fn a_batch_dossier_verifies_against_its_data() {
+    let s = Scratch::with_plan("verify");
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    let verify = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(["--quiet", "verify"])
+        .arg(s.path("out/line-c/crush_strength"))
+        .arg("--data")
+        .arg(s.path("data/line_c.csv"))
+        .output()
+        .unwrap();
+    assert_eq!(exit_code(&verify), 0, "{}", stderr(&verify));
+    assert!(String::from_utf8_lossy(&verify.stdout).contains("VERIFIED"));
+}
+
+#[test]
+fn previous_run_on_unchanged_data_reports_no_drift() {
+    let s = Scratch::with_plan("no-drift");
+    assert_eq!(exit_code(&s.batch(&["--out", "night1"])), 0);
+    let run = s.batch(&["--out", "night2", "--previous", "night1", "--fail-on-drift"]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    let summary = summary(&s.path("night2"));
+    assert_eq!(changes(&summary), vec![]);
+    assert_eq!(summary["drift"]["threshold"], 0.2);
+    let html = std::fs::read_to_string(s.path("night2/index.html")).unwrap();
+    assert!(html.contains("No drift"), "{html}");
+}
+
+#[test]
+fn changing_one_data_file_reports_drift_of_that_study_only_and_fail_on_drift_exits_1() {
+    let s = Scratch::with_plan("drift");
+    assert_eq!(exit_code(&s.batch(&["--out", "night1"])), 0);
+    std::fs::write(s.path("data/line_b.csv"), generate_demo_csv_seeded(907)).unwrap();
+    let run = s.batch(&["--out", "night2", "--previous", "night1", "--fail-on-drift"]);
+    assert_eq!(exit_code(&run), 1, "{}", stderr(&run));
+    let summary = summary(&s.path("night2"));
+    let found = changes(&summary);
+    assert!(!found.is_empty());
+    assert!(
+        found
+            .iter()
+            .all(|(study, target, _)| study == "line-b" && target == "crush_strength"),
+        "{found:?}"
+    );
+    assert!(found.iter().any(|(_, _, kind)| kind == "data"), "{found:?}");
+    assert_eq!(summary["totals"]["changes"], found.len());
+    // Without --fail-on-drift the same drift is listed but the run succeeds.
+    let listed = s.batch(&["--out", "night3", "--previous", "night1"]);
+    assert_eq!(exit_code(&listed), 0, "{}", stderr(&listed));
+    let index = std::fs::read_to_string(s.path("night3/index.md")).unwrap();
+    assert!(index.contains("**Drift:"), "{index}");
+}
+
+#[test]
+fn a_changed_plan_lists_appeared_and_vanished_pairs() {
+    let s = Scratch::with_plan("appear");
+    assert_eq!(exit_code(&s.batch(&["--out", "night1"])), 0);
+    let edited = PLAN.replace(
+        r#"targets = ["crush_strength", "pore_density"]"#,
+        r#"targets = ["pore_density", "echo_amplitude"]"#,
+    );
+    std::fs::write(s.path("plan.toml"), edited).unwrap();
+    let run = s.batch(&["--out", "night2", "--previous", "night1"]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    let found = changes(&summary(&s.path("night2")));
+    assert_eq!(
+        found,
+        vec![
+            ("line-a".into(), "crush_strength".into(), "vanished".into()),
+            ("line-a".into(), "echo_amplitude".into(), "appeared".into()),
+        ]
+    );
+}
+
+#[test]
+fn a_study_whose_data_file_is_missing_fails_alone_with_exit_code_2() {
+    let s = Scratch::with_plan("missing");
+    std::fs::remove_file(s.path("data/line_b.csv")).unwrap();
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 2, "{}", stderr(&run));
+    let summary = summary(&s.path("out"));
+    assert_eq!(summary["totals"]["failed"], 1);
+    assert_eq!(summary["totals"]["done"], 3);
+    let failed = &summary["studies"]["line-b"]["targets"]["crush_strength"];
+    assert_eq!(failed["status"], "failed");
+    assert!(
+        failed["error"].as_str().unwrap().contains("line_b.csv"),
+        "{failed}"
+    );
+    assert!(!s.path("out/line-b").exists());
+    for done in [
+        "line-a/crush_strength",
+        "line-a/pore_density",
+        "line-c/crush_strength",
+    ] {
+        assert!(
+            s.path("out").join(done).join("dossier.html").is_file(),
+            "{done}"
+        );
+    }
+    let html = std::fs::read_to_string(s.path("out/index.html")).unwrap();
+    assert!(html.contains("line_b.csv"), "the index shows the error");
+}
+
+#[test]
+fn three_shards_collected_give_the_summary_and_index_of_one_run_byte_for_byte() {
+    let s = Scratch::with_plan("shards");
+    assert_eq!(exit_code(&s.batch(&["--out", "whole"])), 0);
+    for i in 0..3 {
+        let shard = format!("{i}/3");
+        let out = format!("shard-{i}");
+        let run = s.batch(&["--shard", &shard, "--out", &out]);
+        assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    }
+    // Pair k of the plan goes to shard k mod 3: four pairs, so shard 0 holds two.
+    assert_eq!(summary(&s.path("shard-0"))["totals"]["pairs"], 2);
+    assert_eq!(summary(&s.path("shard-2"))["totals"]["pairs"], 1);
+    let run = s.batch(&[
+        "--collect",
+        "shard-2",
+        "shard-0",
+        "shard-1",
+        "--out",
+        "collected",
+    ]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    for file in ["summary.json", "index.html", "index.md"] {
+        let whole = std::fs::read(s.path("whole").join(file)).unwrap();
+        let collected = std::fs::read(s.path("collected").join(file)).unwrap();
+        assert!(whole == collected, "{file} differs");
+    }
+    assert!(s
+        .path("collected/line-a/pore_density/dossier.html")
+        .is_file());
+    // With --previous, the collected drift equals the single run's too.
+    assert_eq!(
+        exit_code(&s.batch(&["--out", "whole2", "--previous", "whole"])),
+        0
+    );
+    let run = s.batch(&[
+        "--collect",
+        "shard-0",
+        "shard-1",
+        "shard-2",
+        "--out",
+        "collected2",
+        "--previous",
+        "whole",
+    ]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    assert!(
+        std::fs::read(s.path("whole2/summary.json")).unwrap()
+            == std::fs::read(s.path("collected2/summary.json")).unwrap()
+    );
+}
+
+#[test]
+fn collect_refuses_a_missing_shard_and_writes_nothing() {
+    let s = Scratch::with_plan("collect-missing");
+    for i in [0, 2] {
+        let shard = format!("{i}/3");
+        let out = format!("shard-{i}");
+        assert_eq!(exit_code(&s.batch(&["--shard", &shard, "--out", &out])), 0);
+    }
+    let run = s.batch(&["--collect", "shard-0", "shard-2", "--out", "collected"]);
+    assert_eq!(exit_code(&run), 2);
+    assert!(
+        stderr(&run).contains("shard 1/3 is missing"),
+        "{}",
+        stderr(&run)
+    );
+    assert!(!s.path("collected").exists());
+}
+
+#[test]
+fn unsafe_names_and_unknown_keys_are_all_rejected_before_anything_runs() {
+    let s = Scratch::with_plan("rejected");
+    let plan = r#"[defaults]
+replicates = 4
+colour = "blue"
+
+[[study]]
+name = "../escape"
+data = "data/line_a.csv"
+targets = ["crush_strength"]
+
+[[study]]
+name = "line\u0007bell"
+data = "data/line_b.csv"
+targets = ["crush_strength"]
+
+[[study]]
+name = "line-c"
+data = "data/line_c.csv"
+targets = ["crush_strength", "a\\b"]
+replicate = 4
+
+[[study]]
+name = "LINE-C"
+data = "data/line_c.csv"
+targets = []
+"#;
+    std::fs::write(s.path("plan.toml"), plan).unwrap();
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 2);
+    let err = stderr(&run);
+    for expected in [
+        "plan.toml: line 3: unknown key 'colour' in [defaults]",
+        "plan.toml: line 6: the study name '../escape' contains '..'",
+        "plan.toml: line 11: the study name 'line\\u{7}bell' contains a control character",
+        "plan.toml: line 18: [[study]] 'line-c': the target 'a\\\\b' contains '\\'",
+        "plan.toml: line 19: unknown key 'replicate' in [[study]] 'line-c'",
+        "plan.toml: line 22: the study name 'LINE-C' is used twice",
+        "plan.toml: line 24: [[study]] 'LINE-C': 'targets' is empty",
+        "7 problem(s), listed above; nothing was run",
+    ] {
+        assert!(err.contains(expected), "missing {expected:?} in:\n{err}");
+    }
+    assert!(!s.path("out").exists(), "nothing may be written");
+}
+
+#[test]
+fn bad_settings_are_rejected_with_their_line_before_anything_runs() {
+    let s = Scratch::with_plan("settings");
+    let plan = PLAN
+        .replace("replicates = 4", "replicates = 5\nalpha = 1.5")
+        .replace("seed = 3", "seed = 3\nscaling = \"log\"");
+    std::fs::write(s.path("plan.toml"), plan).unwrap();
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 2);
+    let err = stderr(&run);
+    assert!(
+        err.contains("[defaults]: alpha 1.5 is not a level"),
+        "{err}"
+    );
+    assert!(
+        err.contains("replicates 5: complementary pairs come in twos"),
+        "{err}"
+    );
+    assert!(
+        err.contains("[[study]] 'line-c': scaling 'log' is not known"),
+        "{err}"
+    );
+    // A problem of [defaults] is listed once, not once per study.
+    assert_eq!(err.matches("alpha 1.5").count(), 1, "{err}");
+    assert!(!s.path("out").exists());
+}
+
+#[test]
+fn check_mode_treats_a_missing_data_file_as_a_plan_problem() {
+    let s = Scratch::with_plan("check");
+    let ok = s.batch(&["--check"]);
+    assert_eq!(exit_code(&ok), 0, "{}", stderr(&ok));
+    assert!(String::from_utf8_lossy(&ok.stdout).contains("3 studies, 4 study–target pairs"));
+    std::fs::remove_file(s.path("data/line_c.csv")).unwrap();
+    let missing = s.batch(&["--check"]);
+    assert_eq!(exit_code(&missing), 2);
+    assert!(
+        stderr(&missing).contains("study 'line-c': the data file"),
+        "{}",
+        stderr(&missing)
+    );
+    assert!(!s.path("forebear-batch").exists());
+}
+
+#[test]
+fn a_former_batch_output_is_replaced_only_with_force_and_a_foreign_folder_never() {
+    let s = Scratch::with_plan("force");
+    assert_eq!(exit_code(&s.batch(&["--out", "out"])), 0);
+    let again = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&again), 2);
+    assert!(
+        stderr(&again).contains("pass --force"),
+        "{}",
+        stderr(&again)
+    );
+    assert_eq!(exit_code(&s.batch(&["--out", "out", "--force"])), 0);
+    std::fs::write(s.path("out/notes.txt"), "mine").unwrap();
+    let foreign = s.batch(&["--out", "out", "--force"]);
+    assert_eq!(exit_code(&foreign), 2);
+    assert!(s.path("out/notes.txt").is_file(), "a user's file survives");
+    std::fs::create_dir_all(s.path("elsewhere")).unwrap();
+    std::fs::write(s.path("elsewhere/data.csv"), "a,b\n1,2\n").unwrap();
+    let other = s.batch(&["--out", "elsewhere", "--force"]);
+    assert_eq!(exit_code(&other), 2);
+    assert!(stderr(&other).contains("no summary.json written by forebear batch"));
+}
+
+#[test]
+fn the_example_nightly_plan_is_valid_and_names_existing_data() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/nightly-plan.toml");
+    let plan = forebear::batch::plan::Plan::load(&path).expect("the example plan is valid");
+    assert_eq!(plan.studies.len(), 2);
+    assert_eq!(plan.pairs().len(), 3);
+    assert!(plan.missing_data().is_empty());
+}
