@@ -1,6 +1,7 @@
 //! The analyze pipeline as library calls: read, validate, search the full data, run replicates,
 //! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
+use crate::data::checks::FileFacts;
 use crate::data::fingerprint::sha256_file;
 use crate::data::{read_csv, DataReport, LoadOptions, Table};
 use crate::error::{Error, Result};
@@ -55,15 +56,13 @@ pub fn prepare(
     let raw = read_csv(path, options)?;
     let (study, used, target) = Study::new(input, &raw)?;
     let (sha256, size_bytes) = sha256_file(path)?;
-    let (table, report) = raw.prepare(
-        &used,
-        target,
-        study.excluded.clone(),
-        size_bytes,
-        sha256,
-        options,
-    )?;
-    let study = study.without_constant(&report.constant_columns);
+    let left_out = (0..raw.names.len())
+        .filter(|j| !used.contains(j))
+        .map(|j| raw.names[j].clone())
+        .collect();
+    let facts = FileFacts { size_bytes, sha256 };
+    let (table, report) = raw.prepare(&used, target, left_out, facts, options)?;
+    let study = study.on_data(&report)?;
     progress.say(&format!(
         "read {} rows ({} used) and {} columns from {}",
         report.rows_read,
@@ -74,6 +73,11 @@ pub fn prepare(
     for column in &report.constant_columns {
         progress.say(&format!(
             "column '{column}' is constant on the rows used and is left out"
+        ));
+    }
+    for (column, original) in &report.duplicate_columns {
+        progress.say(&format!(
+            "column '{column}' repeats '{original}' exactly on the rows used and is left out"
         ));
     }
     let report = DataReport {

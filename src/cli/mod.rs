@@ -4,6 +4,7 @@ pub mod analyze;
 pub mod demo;
 pub mod dependence;
 pub mod merge;
+pub mod reader;
 
 use crate::analysis::Progress;
 use clap::{Parser, Subcommand};
