@@ -316,7 +316,7 @@ fn missing_error_policy_refuses_the_first_missing_cell() {
             "column 'y'",
             "--missing error",
             "--missing drop-rows",
-            "2 used cell(s)",
+            "2 used cells are missing",
         ],
     );
     let output = analyze(&s, &data, "y", &["--missing", "error", "--exclude", "x1,y"]);

@@ -295,12 +295,15 @@ impl RawTable {
         let total: usize = missing_by_column.values().sum();
         Err(Error::input(format!(
             "{}, line {}, column {}: the value is missing ({}) and --missing error is set; fill in \
-             every used cell, leave the column out, or use --missing drop-rows ({total} used \
-             cell(s) are missing in all)",
+             every used cell, leave the column out, or use --missing drop-rows ({})",
             self.file,
             self.lines[r],
             quoted(&self.names[j]),
-            options.describe_tokens()
+            options.describe_tokens(),
+            match total {
+                1 => "it is the only missing used cell".to_string(),
+                n => format!("{n} used cells are missing in all"),
+            }
         )))
     }
 }
@@ -356,14 +359,24 @@ fn advice(problem: CellProblem, options: &LoadOptions) -> String {
 /// `--exclude a,b,c`, or for very many columns a count and the first names.
 fn exclude_suggestion(names: &[&str]) -> String {
     if names.len() <= SUGGESTED {
-        return format!("--exclude {}", names.join(","));
+        return format!("--exclude {}", shell_word(&names.join(",")));
     }
     format!(
         "--exclude (all {} of them; the first {SUGGESTED}: {}), or name the columns to use with \
          --candidates",
         names.len(),
-        names[..SUGGESTED].join(",")
+        shell_word(&names[..SUGGESTED].join(","))
     )
+}
+
+/// The text as one word for a POSIX shell: as it is when it is plain, else in single quotes.
+fn shell_word(text: &str) -> String {
+    let plain = |c: char| c.is_ascii_alphanumeric() || "_.,-+/:@%".contains(c);
+    if !text.is_empty() && text.chars().all(plain) {
+        text.to_string()
+    } else {
+        format!("'{}'", text.replace('\'', "'\\''"))
+    }
 }
 
 /// Refuses a table with fewer than `needed` rows used, saying why they are needed and, when rows
@@ -567,5 +580,9 @@ mod tests {
         );
         assert!(hint.contains("c99") && !hint.contains("c100"), "{hint}");
         assert_eq!(exclude_suggestion(&["a", "b"]), "--exclude a,b");
+        assert_eq!(
+            exclude_suggestion(&["<b>", "it's"]),
+            "--exclude '<b>,it'\\''s'"
+        );
     }
 }

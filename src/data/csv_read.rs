@@ -100,11 +100,19 @@ impl Records {
             let offset = self.first_invalid_byte();
             let at = offset.map_or(String::new(), |(o, _)| format!(", byte {o}"));
             let shown = offset.map_or(String::new(), |(_, b)| format!(" (byte 0x{b:02X})"));
+            let (hint, binary) = encoding_hint(bytes);
+            // The text of a binary file says nothing to a reader: leave it out.
+            let value = if binary {
+                "the value".to_string()
+            } else {
+                format!(
+                    "the value {}",
+                    quoted(String::from_utf8_lossy(bytes).trim())
+                )
+            };
             Error::input(format!(
-                "{}{at}: the value {} is not valid UTF-8 text{shown}; {}",
-                place(),
-                quoted(String::from_utf8_lossy(bytes).trim()),
-                encoding_hint(bytes)
+                "{}{at}: {value} is not valid UTF-8 text{shown}; {hint}",
+                place()
             ))
         })
     }
@@ -157,7 +165,16 @@ impl Records {
                     j + 1
                 )));
             }
-            names.push(name.trim().to_string());
+            let name = name.trim();
+            if name.contains('\r') {
+                return Err(Error::input(format!(
+                    "{file}, line {line}, column {}: the column name {} holds a carriage return: the \
+                     file seems to end its lines with CR alone; save it with LF or CRLF line ends",
+                    j + 1,
+                    quoted(name)
+                )));
+            }
+            names.push(name.to_string());
         }
         if let Some(other) = foreign_delimiter(&names, delimiter) {
             return Err(Error::input(format!(
@@ -226,19 +243,33 @@ fn open_error(file: &str, error: &csv::Error) -> Error {
     Error::input(format!("cannot open data file '{file}': {reason}"))
 }
 
-/// What the bytes of a value that is not UTF-8 suggest about the file.
-fn encoding_hint(bytes: &[u8]) -> &'static str {
+/// What the bytes of a value that is not UTF-8 suggest about the file, and whether they look like
+/// a binary format rather than text in another encoding.
+fn encoding_hint(bytes: &[u8]) -> (&'static str, bool) {
     if bytes.starts_with(b"\xff\xfe") || bytes.starts_with(b"\xfe\xff") {
-        "the file looks like UTF-16; save it as UTF-8"
+        ("the file looks like UTF-16; save it as UTF-8", true)
     } else if bytes.starts_with(b"PK\x03\x04") {
-        "the file looks like a ZIP archive or a spreadsheet workbook; export the sheet as CSV (UTF-8)"
+        (
+            "the file looks like a ZIP archive or a spreadsheet workbook; export the sheet as CSV \
+             (UTF-8)",
+            true,
+        )
     } else if bytes.starts_with(b"\x1f\x8b") {
-        "the file looks compressed (gzip); decompress it first"
+        (
+            "the file looks compressed (gzip); decompress it first",
+            true,
+        )
     } else if bytes.starts_with(b"\xd0\xcf\x11\xe0") {
-        "the file looks like a legacy spreadsheet workbook; export the sheet as CSV (UTF-8)"
+        (
+            "the file looks like a legacy spreadsheet workbook; export the sheet as CSV (UTF-8)",
+            true,
+        )
     } else {
-        "the file seems to be saved in another encoding (such as Latin-1 or Windows-1252); save it \
-         as UTF-8"
+        (
+            "the file seems to be saved in another encoding (such as Latin-1 or Windows-1252); \
+             save it as UTF-8",
+            false,
+        )
     }
 }
 
@@ -333,10 +364,11 @@ mod tests {
 
     #[test]
     fn encoding_hints_name_the_likely_format() {
-        assert!(encoding_hint(b"\xff\xfex\0").contains("UTF-16"));
-        assert!(encoding_hint(b"PK\x03\x04rest").contains("spreadsheet"));
-        assert!(encoding_hint(b"\x1f\x8b\x08").contains("gzip"));
-        assert!(encoding_hint(b"caf\xe9").contains("Latin-1"));
+        assert!(encoding_hint(b"\xff\xfex\0").0.contains("UTF-16"));
+        assert!(encoding_hint(b"PK\x03\x04rest").0.contains("spreadsheet"));
+        assert!(encoding_hint(b"\x1f\x8b\x08").0.contains("gzip"));
+        let (hint, binary) = encoding_hint(b"caf\xe9");
+        assert!(hint.contains("Latin-1") && !binary);
     }
 
     #[test]

@@ -286,7 +286,7 @@ impl RawTable {
         let close = closest_names(name, &self.names);
         let hint = if !close.is_empty() {
             let close: Vec<String> = close.iter().map(|n| quoted(n)).collect();
-            format!("did you mean {}?", close.join(" or "))
+            format!("did you mean {}?", super::cells::or_list(&close))
         } else {
             const SHOWN: usize = 12;
             let listed: Vec<String> = self.names.iter().take(SHOWN).map(|n| quoted(n)).collect();
@@ -309,16 +309,25 @@ impl RawTable {
 /// Up to three names within a small edit distance of `wanted` (case ignored), closest first.
 pub fn closest_names(wanted: &str, names: &[String]) -> Vec<String> {
     let wanted_lower = wanted.to_lowercase();
-    let limit = (wanted.chars().count() / 3).max(2);
-    let mut scored: Vec<(usize, &String)> = names
+    let length = wanted.chars().count();
+    // Two edits turn any short name into any other: allow one for names of up to three letters.
+    let limit = (length / 3).max(if length <= 3 { 1 } else { 2 });
+    // Names that hold the wanted text come first, then the others by edit distance.
+    let mut scored: Vec<(bool, usize, &String)> = names
         .iter()
-        .map(|n| (edit_distance(&wanted_lower, &n.to_lowercase()), n))
-        .filter(|(d, n)| {
-            *d <= limit || (!wanted_lower.is_empty() && n.to_lowercase().contains(&wanted_lower))
+        .map(|n| {
+            let lower = n.to_lowercase();
+            let holds = !wanted_lower.is_empty() && lower.contains(&wanted_lower);
+            (!holds, edit_distance(&wanted_lower, &lower), n)
         })
+        .filter(|&(far, d, _)| d <= limit || !far)
         .collect();
     scored.sort();
-    scored.into_iter().take(3).map(|(_, n)| n.clone()).collect()
+    scored
+        .into_iter()
+        .take(3)
+        .map(|(_, _, n)| n.clone())
+        .collect()
 }
 
 /// Levenshtein distance (Levenshtein, Soviet Physics Doklady 1966) by the two-row dynamic programme.
@@ -359,6 +368,11 @@ mod tests {
             vec!["strength".to_string()]
         );
         assert!(closest_names("zzzzzz", &names).is_empty());
+        let short: Vec<String> = ["x1", "x2", "yield", "z"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        assert_eq!(closest_names("y", &short), ["yield", "z"]);
     }
 
     #[test]
