@@ -6,6 +6,7 @@ pub mod csv_read;
 pub mod fingerprint;
 pub mod load;
 pub mod table;
+mod unreadable;
 
 pub use load::{read_csv, LoadOptions, MissingPolicy, RawTable};
 pub use table::{DataReport, Table};
