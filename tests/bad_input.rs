@@ -14,6 +14,8 @@ struct Case {
     exit: i32,
     setup: Option<String>,
     messages: Vec<String>,
+    /// False for errors about a flag rather than the file (`file: not named`).
+    names_file: bool,
 }
 
 fn corpus() -> PathBuf {
@@ -33,6 +35,7 @@ fn cases() -> Vec<Case> {
                 exit: -1,
                 setup: None,
                 messages: Vec::new(),
+                names_file: true,
             };
             for line in text.lines().filter(|l| !l.trim().is_empty()) {
                 let (key, value) = line.split_once(": ").expect("key: value");
@@ -41,6 +44,7 @@ fn cases() -> Vec<Case> {
                     "exit" => case.exit = value.parse().expect("an exit code"),
                     "setup" => case.setup = Some(value.to_string()),
                     "message" => case.messages.push(value.to_string()),
+                    "file" => case.names_file = value != "not named",
                     other => panic!("{}: unknown key {other}", case.name),
                 }
             }

@@ -191,7 +191,7 @@ fn latin1_byte_is_named_by_its_offset_in_the_file() {
         &[
             "line 4",
             "column 'y'",
-            &format!("byte {offset}"),
+            &format!("byte offset {offset}"),
             "0xE9",
             "UTF-8",
         ],

@@ -98,7 +98,7 @@ impl Records {
         let bytes = &self.record[j];
         std::str::from_utf8(bytes).map_err(|_| {
             let offset = self.first_invalid_byte();
-            let at = offset.map_or(String::new(), |(o, _)| format!(", byte {o}"));
+            let at = offset.map_or(String::new(), |(o, _)| format!(", byte offset {o}"));
             let shown = offset.map_or(String::new(), |(_, b)| format!(" (byte 0x{b:02X})"));
             let (hint, binary) = encoding_hint(bytes);
             // The text of a binary file says nothing to a reader: leave it out.

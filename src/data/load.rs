@@ -194,8 +194,15 @@ pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
     let mut columns: Vec<Vec<f64>> = vec![Vec::new(); width];
     let mut issues: Vec<Option<ColumnIssues>> = vec![None; width];
     let mut lines = Vec::new();
+    let comma_clash = options.decimal_comma && options.delimiter == b',';
     while records.advance()? {
-        records.check_width(&names)?;
+        records.check_width(&names).map_err(|e| match comma_clash {
+            true => Error::input(format!(
+                "{e}; with --decimal-comma and commas between values, a number's comma must be \
+                 inside quotes, or the file needs another delimiter such as --delimiter ';'"
+            )),
+            false => e,
+        })?;
         let line = records.line();
         for (j, column) in columns.iter_mut().enumerate() {
             let text = records.text(j, || {
