@@ -3,6 +3,7 @@
 
 use crate::data::checks::FileFacts;
 use crate::data::fingerprint::sha256_file;
+use crate::data::load::read_header;
 use crate::data::{read_csv, DataReport, LoadOptions, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Finding, RunInfo};
@@ -53,8 +54,10 @@ pub fn prepare(
 ) -> Result<Prepared> {
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
+    // Settings are checked against the header before the rows are read: a misspelt target in a
+    // large file is reported at once.
+    let (study, used, target) = Study::new(input, &read_header(path, options)?)?;
     let raw = read_csv(path, options)?;
-    let (study, used, target) = Study::new(input, &raw)?;
     let (sha256, size_bytes) = sha256_file(path)?;
     let left_out = (0..raw.names.len())
         .filter(|j| !used.contains(j))

@@ -485,3 +485,23 @@ fn dependence_takes_the_reader_options_too() {
         &["--missing 'sometimes'", "drop-rows"],
     );
 }
+
+#[test]
+fn settings_are_checked_against_the_header_before_the_rows_are_read() {
+    let s = Scratch::new("header-first");
+    let mut lines: Vec<String> = delimited(&table(40), ",", ".")
+        .lines()
+        .map(String::from)
+        .collect();
+    lines[30] = "0.1,0.2".to_string(); // a ragged row that a full read would stop at
+    let data = s.write("late.csv", lines.join("\n"));
+    let output = analyze(&s, &data, "yy", &[]);
+    assert_input_error(
+        &output,
+        &s,
+        &["late.csv"],
+        &["target column 'yy'", "did you mean 'y'"],
+    );
+    let output = analyze(&s, &data, "y", &[]);
+    assert_input_error(&output, &s, &["late.csv"], &["line 31", "2 field(s)"]);
+}

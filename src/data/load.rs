@@ -167,9 +167,26 @@ pub struct RawTable {
     pub header_line: u64,
 }
 
-/// Reads a CSV file with a header row into raw numeric cells, one record at a time. A UTF-8
-/// byte-order mark and CRLF line endings are accepted; blank lines are skipped.
-pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
+/// Reads only the header of a CSV file: a raw table with the column names and no rows, enough to
+/// check settings against before the rows are read.
+pub fn read_header(path: &Path, options: &LoadOptions) -> Result<RawTable> {
+    let (_, file, names, header_line) = open_at_header(path, options)?;
+    Ok(RawTable {
+        file,
+        columns: vec![Vec::new(); names.len()],
+        issues: vec![None; names.len()],
+        names,
+        lines: Vec::new(),
+        header_line,
+    })
+}
+
+/// Opens the file and reads its header: the records after it, the file name for messages, the
+/// column names and the header's line.
+fn open_at_header(
+    path: &Path,
+    options: &LoadOptions,
+) -> Result<(Records, String, Vec<String>, u64)> {
     let file = path.display().to_string();
     if !path.exists() {
         return Err(Error::input(format!(
@@ -189,6 +206,13 @@ pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
     }
     let header_line = records.line();
     let names = records.header(options.delimiter)?;
+    Ok((records, file, names, header_line))
+}
+
+/// Reads a CSV file with a header row into raw numeric cells, one record at a time. A UTF-8
+/// byte-order mark and CRLF line endings are accepted; blank lines are skipped.
+pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
+    let (mut records, file, names, header_line) = open_at_header(path, options)?;
     let cells = CellReader::new(&options.missing_tokens, options.decimal_comma);
     let width = names.len();
     let mut columns: Vec<Vec<f64>> = vec![Vec::new(); width];
