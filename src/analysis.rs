@@ -2,7 +2,7 @@
 //! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
 use crate::data::checks::FileFacts;
-use crate::data::fingerprint::sha256_file;
+use crate::data::fingerprint::{content_index, sha256_file, ContentIndex};
 use crate::data::load::read_header;
 use crate::data::{read_csv, DataReport, LoadOptions, Table};
 use crate::error::{Error, Result};
@@ -41,6 +41,8 @@ pub struct Prepared {
     pub study: Study,
     /// The data path as given.
     pub data_path: String,
+    /// The content fingerprint of the whole file and its locating index.
+    pub content: ContentIndex,
     started: Instant,
     started_utc: String,
 }
@@ -59,6 +61,7 @@ pub fn prepare(
     let (study, used, target) = Study::new(input, &read_header(path, options)?)?;
     let raw = read_csv(path, options)?;
     let (sha256, size_bytes) = sha256_file(path)?;
+    let content = content_index(&raw);
     let left_out = (0..raw.names.len())
         .filter(|j| !used.contains(j))
         .map(|j| raw.names[j].clone())
@@ -87,6 +90,7 @@ pub fn prepare(
         file: path
             .file_name()
             .map_or_else(|| report.file.clone(), |f| f.to_string_lossy().into_owned()),
+        content_sha256: content.sha256.clone(),
         ..report
     };
     Ok(Prepared {
@@ -94,6 +98,7 @@ pub fn prepare(
         report,
         study,
         data_path: path.display().to_string(),
+        content,
         started,
         started_utc,
     })
@@ -139,7 +144,6 @@ impl Prepared {
         full: &ParentSearch,
         progress: &dyn Progress,
     ) -> Vec<ReplicateRecord> {
-        let plan = &self.study.resampling;
         if range.is_empty() {
             return Vec::new();
         }
@@ -147,15 +151,25 @@ impl Prepared {
             "running replicates {}..{} of {} ({})",
             range.start,
             range.end,
-            plan.count,
-            plan.kind.name()
+            self.study.resampling.count,
+            self.study.resampling.kind.name()
         ));
+        self.replicates_at(&range.collect::<Vec<u32>>(), full, progress)
+    }
+
+    /// Runs the listed replicates in parallel; records come back in the order listed.
+    pub fn replicates_at(
+        &self,
+        indices: &[u32],
+        full: &ParentSearch,
+        progress: &dyn Progress,
+    ) -> Vec<ReplicateRecord> {
         let done = AtomicU32::new(0);
-        let total = range.len() as u32;
+        let total = indices.len() as u32;
         let step = (total / 10).max(1);
-        range
-            .into_par_iter()
-            .map(|k| {
+        indices
+            .par_iter()
+            .map(|&k| {
                 let record =
                     run_replicate(&self.table, &self.study, k, &full.markov_boundary.steps);
                 let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
@@ -208,6 +222,16 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
     finding
 }
 
+/// A finished analysis: the finding and the content index of the data it was made from (which
+/// goes into the manifest, not into `result.json`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Analysed {
+    /// Everything found.
+    pub finding: Finding,
+    /// The analysed file's content fingerprint and locating index.
+    pub content: ContentIndex,
+}
+
 /// Runs the whole analysis of a CSV file: full-data search, every replicate, stability.
 pub fn analyze_file(
     path: &Path,
@@ -215,12 +239,16 @@ pub fn analyze_file(
     options: &LoadOptions,
     command_line: Vec<String>,
     progress: &dyn Progress,
-) -> Result<Finding> {
+) -> Result<Analysed> {
     let prepared = prepare(path, input, options, progress)?;
     let full = prepared.full_search(progress);
     let records = prepared.replicates(0..prepared.study.resampling.count, &full, progress);
+    let content = prepared.content.clone();
     let finding = prepared.finding(full, command_line);
-    Ok(attach_stability(finding, &records))
+    Ok(Analysed {
+        finding: attach_stability(finding, &records),
+        content,
+    })
 }
 
 /// Version of the partial-result layout.
@@ -233,6 +261,8 @@ pub struct Partial {
     pub schema: String,
     /// The full-data finding, without stability.
     pub finding: Finding,
+    /// The content index of the data (for the manifest of the merged dossier).
+    pub content: ContentIndex,
     /// The half-open replicate range [start, end) this part holds.
     pub range: [u32; 2],
     /// The replicate records, in index order.
@@ -259,10 +289,12 @@ pub fn analyze_part(
     }
     let full = prepared.full_search(progress);
     let records = prepared.replicates(range.clone(), &full, progress);
+    let content = prepared.content.clone();
     let finding = prepared.finding(full, command_line);
     Ok(Partial {
         schema: PARTIAL_SCHEMA.into(),
         finding,
+        content,
         range: [range.start, range.end],
         records,
     })
@@ -271,7 +303,7 @@ pub fn analyze_part(
 /// Combines partial results of one study into the finding a single run would have produced.
 /// Parts must share the full-data finding (same data, settings, seed, tool) and cover the plan's
 /// replicates exactly once.
-pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> Result<Finding> {
+pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> Result<Analysed> {
     let (first_name, first) = parts
         .first()
         .ok_or_else(|| Error::input("merge needs at least one part"))?;
@@ -282,7 +314,7 @@ pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> 
                 part.schema
             )));
         }
-        if part.finding.digest != first.finding.digest {
+        if part.finding.digest != first.finding.digest || part.content != first.content {
             return Err(Error::input(format!(
                 "{name} belongs to another study than {first_name}: {}; parts must come from the same \
                  data, settings and seed",
@@ -324,7 +356,10 @@ pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> 
         data_path: first.finding.run.data_path.clone(),
         command_line,
     };
-    Ok(attach_stability(finding, &records))
+    Ok(Analysed {
+        finding: attach_stability(finding, &records),
+        content: first.content.clone(),
+    })
 }
 
 fn describe_difference(a: &Finding, b: &Finding) -> String {

@@ -11,13 +11,25 @@ use std::collections::BTreeMap;
 /// Version of the `result.json` layout.
 pub const SCHEMA: &str = "forebear.result/1";
 
+/// Version of the method: every computation that affects results. It changes whenever any such
+/// computation changes (`tests/method_version.rs` holds the digests that pin it), so that `verify`
+/// can tell "another build of the same method" from "another method".
+pub const METHOD_VERSION: &str = "forebear-method/2";
+
 /// Tool identity.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct ToolInfo {
     /// Program name.
     pub name: String,
-    /// Crate version.
+    /// Crate version (excluded from the digest: builds of one method give one digest).
     pub version: String,
+    /// The git commit this build was made from, `-modified` when the tree differed; empty when
+    /// built outside a checkout (excluded from the digest).
+    #[serde(default)]
+    pub build: String,
+    /// [`METHOD_VERSION`] of the build that produced the result (part of the digest).
+    #[serde(default)]
+    pub method: String,
 }
 
 impl ToolInfo {
@@ -26,7 +38,26 @@ impl ToolInfo {
         ToolInfo {
             name: "forebear".into(),
             version: env!("CARGO_PKG_VERSION").into(),
+            build: env!("FOREBEAR_GIT_COMMIT").into(),
+            method: METHOD_VERSION.into(),
         }
+    }
+
+    /// `forebear 0.1.0 (commit 1a2b3c4d5e6f, forebear-method/1)`.
+    pub fn describe(&self) -> String {
+        let build = if self.build.is_empty() {
+            "not built from a checkout".to_string()
+        } else {
+            format!("commit {}", short_commit(&self.build))
+        };
+        format!("{} {} ({build}, {})", self.name, self.version, self.method)
+    }
+}
+
+fn short_commit(build: &str) -> String {
+    match build.split_once('-') {
+        Some((commit, rest)) => format!("{}-{rest}", &commit[..commit.len().min(12)]),
+        None => build.chars().take(12).collect(),
     }
 }
 

@@ -18,3 +18,4 @@ pub mod rng;
 pub mod search;
 pub mod study;
 pub mod timefmt;
+pub mod verify;

@@ -30,7 +30,10 @@ fn main() {
     let argv: Vec<String> = std::env::args_os()
         .map(|a| a.to_string_lossy().into_owned())
         .collect();
-    let cli = forebear::cli::Cli::parse();
+    let cli = match forebear::cli::Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(error) => usage_error(error),
+    };
     let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, argv));
     match outcome {
         Ok(Ok(())) => {}
@@ -40,6 +43,41 @@ fn main() {
         }
         Err(_) => std::process::exit(3),
     }
+}
+
+/// Help and version go to stdout as clap writes them; a usage error becomes the contract's one
+/// line on stderr with exit code 2, pointing at `--help` instead of repeating the usage.
+fn usage_error(error: clap::Error) -> ! {
+    use clap::error::ErrorKind;
+    if matches!(
+        error.kind(),
+        ErrorKind::DisplayHelp
+            | ErrorKind::DisplayVersion
+            | ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand
+    ) {
+        error.exit();
+    }
+    let rendered = error.render().to_string();
+    let message: Vec<&str> = rendered
+        .lines()
+        .map(str::trim)
+        .take_while(|l| !l.starts_with("Usage:"))
+        .filter(|l| !l.is_empty() && !l.starts_with("For more information"))
+        .collect();
+    let message = message.join(" ");
+    let message = message.strip_prefix("error: ").unwrap_or(&message);
+    use clap::CommandFactory;
+    let command = std::env::args().skip(1).find(|name| {
+        forebear::cli::Cli::command()
+            .find_subcommand(name)
+            .is_some()
+    });
+    let help = command.map_or_else(
+        || "forebear --help".to_string(),
+        |c| format!("forebear {c} --help"),
+    );
+    eprintln!("forebear: error: {message}; see '{help}'");
+    std::process::exit(2);
 }
 
 /// The contract is one line per error; a stray line break inside a message must not break it.

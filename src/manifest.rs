@@ -1,16 +1,34 @@
-//! Canonical JSON and digests.
+//! Canonical JSON, digests, and the manifest that binds a dossier to its data, settings, results
+//! and rendered files.
 //!
 //! Canonical JSON: keys sorted (serde_json's map is ordered), no insignificant whitespace, numbers
 //! as serde_json prints them (shortest round-trip form of each f64, which is a function of its bits).
 //! The result digest covers everything in `result.json` except run metadata: the `run` object, the
-//! `digest` itself and the data file's name (`data.file`), so that the same bytes analysed under
-//! another name or path give the same digest.
+//! `digest` itself; the data file's name, byte hash and size (`data.file`, `data.sha256`,
+//! `data.size_bytes`), so that the same content analysed under another name or path, or re-saved
+//! with other line endings or quoting, gives the same digest (the content hash
+//! `data.content_sha256` is part of it, and the manifest binds the exact bytes); and the crate version and build commit
+//! (`tool.version`, `tool.build`), so that every build of one method version gives one digest; the
+//! method version (`tool.method`) is part of it.
 
-use serde::Serialize;
+use crate::analysis::Analysed;
+use crate::data::fingerprint::{sha256_text, ContentIndex};
+use crate::data::LoadOptions;
+use crate::finding::{Finding, ToolInfo};
+use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
+use std::collections::BTreeMap;
 
 /// JSON pointers excluded from the result digest.
-pub const DIGEST_EXCLUSIONS: [&str; 3] = ["/run", "/digest", "/data/file"];
+pub const DIGEST_EXCLUSIONS: [&str; 7] = [
+    "/run",
+    "/digest",
+    "/data/file",
+    "/data/sha256",
+    "/data/size_bytes",
+    "/tool/version",
+    "/tool/build",
+];
 
 /// The canonical JSON text of a value.
 pub fn canonical_json<T: Serialize>(value: &T) -> String {
@@ -40,10 +58,287 @@ fn remove_pointer(tree: &mut serde_json::Value, pointer: &str) {
     }
 }
 
+/// Version of the `manifest.json` layout.
+pub const MANIFEST_SCHEMA: &str = "forebear.manifest/1";
+
+/// File name of the manifest inside a dossier folder.
+pub const MANIFEST_FILE: &str = "manifest.json";
+
+/// Everything a reviewer needs to check a dossier: which build and method made it, from which
+/// bytes and content, under which settings, with which results, and the hash of every file.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct Manifest {
+    /// Layout version.
+    pub schema: String,
+    /// The build that wrote the dossier, with its method version.
+    pub tool: ToolInfo,
+    /// The analysed file.
+    pub data: ManifestData,
+    /// The validated settings.
+    pub settings: ManifestSettings,
+    /// The result digests.
+    pub results: ManifestResults,
+    /// SHA-256 of every other file of the dossier, by file name.
+    pub files: BTreeMap<String, String>,
+    /// The command lines.
+    pub command: ManifestCommand,
+    /// When the dossier was generated (UTC, RFC 3339).
+    pub generated_utc: String,
+    /// SHA-256 of the canonical JSON of this manifest without the seal: an edit of the manifest
+    /// that does not recompute it is detected.
+    pub seal: String,
+}
+
+/// The analysed file.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct ManifestData {
+    /// File name (without folders).
+    pub file: String,
+    /// Size in bytes.
+    pub size_bytes: u64,
+    /// SHA-256 of the bytes.
+    pub sha256: String,
+    /// The content fingerprint and the index that locates a difference.
+    pub content: ContentIndex,
+}
+
+/// The settings as they are hashed.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct ManifestSettings {
+    /// `{"reader": …, "study": …}`: the reader options and the validated study settings.
+    pub canonical: serde_json::Value,
+    /// SHA-256 of the canonical JSON text of `canonical`.
+    pub sha256: String,
+}
+
+/// The result digests.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct ManifestResults {
+    /// The digest of `result.json`'s findings.
+    pub digest: String,
+    /// The digest of every replicate record, by replicate index.
+    pub replicates: Vec<String>,
+}
+
+/// How the dossier was made and how to make it again.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct ManifestCommand {
+    /// The command line as it was typed.
+    pub original: Vec<String>,
+    /// A command that reproduces the dossier into the folder `rerun`.
+    pub reproduce: String,
+}
+
+/// The settings of a finding as hashed: the reader options and the validated study.
+pub fn settings_value(finding: &Finding) -> serde_json::Value {
+    serde_json::json!({
+        "reader": LoadOptions::from_report(&finding.data),
+        "study": finding.settings,
+    })
+}
+
+/// SHA-256 of the canonical JSON of [`settings_value`].
+pub fn settings_sha256(finding: &Finding) -> String {
+    sha256_text(&canonical_json(&settings_value(finding)))
+}
+
+impl Manifest {
+    /// The manifest of a dossier whose other files are `files` (name, contents).
+    pub fn new(analysed: &Analysed, files: &[(&str, String)]) -> Manifest {
+        let finding = &analysed.finding;
+        let mut manifest = Manifest {
+            schema: MANIFEST_SCHEMA.into(),
+            tool: finding.tool.clone(),
+            data: ManifestData {
+                file: finding.data.file.clone(),
+                size_bytes: finding.data.size_bytes,
+                sha256: finding.data.sha256.clone(),
+                content: analysed.content.clone(),
+            },
+            settings: ManifestSettings {
+                canonical: settings_value(finding),
+                sha256: settings_sha256(finding),
+            },
+            results: ManifestResults {
+                digest: finding.digest.clone(),
+                replicates: finding
+                    .stability
+                    .as_ref()
+                    .map(|s| s.replicate_digests.clone())
+                    .unwrap_or_default(),
+            },
+            files: files
+                .iter()
+                .map(|(name, text)| (name.to_string(), sha256_text(text)))
+                .collect(),
+            command: ManifestCommand {
+                original: finding.run.command_line.clone(),
+                reproduce: crate::report::markdown::reproduce_command(finding),
+            },
+            generated_utc: crate::timefmt::now_rfc3339(),
+            seal: String::new(),
+        };
+        manifest.seal = manifest.computed_seal();
+        manifest
+    }
+
+    /// The seal this manifest should carry.
+    pub fn computed_seal(&self) -> String {
+        let mut tree = serde_json::to_value(self).expect("a manifest is plain data");
+        remove_pointer(&mut tree, "/seal");
+        sha256_text(&serde_json::to_string(&tree).expect("a JSON value always serialises"))
+    }
+
+    /// The manifest's text as written.
+    pub fn to_text(&self) -> String {
+        serde_json::to_string_pretty(self).expect("a manifest is plain data") + "\n"
+    }
+}
+
+/// One place where two JSON trees differ.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct Difference {
+    /// JSON pointer (RFC 6901) of the differing value.
+    pub pointer: String,
+    /// The recorded value, compact JSON (shortened), or `absent`.
+    pub recorded: String,
+    /// The recomputed value, likewise.
+    pub recomputed: String,
+}
+
+impl std::fmt::Display for Difference {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "{}: recorded {}, re-run {}",
+            self.pointer, self.recorded, self.recomputed
+        )
+    }
+}
+
+/// The differences between a recorded and a recomputed tree, in document order, at most `limit`.
+/// Object keys are visited in `order` first (the layout's own order, for the top level), then
+/// alphabetically; pointers in `ignore` are skipped.
+pub fn differences(
+    recorded: &serde_json::Value,
+    recomputed: &serde_json::Value,
+    order: &[&str],
+    ignore: &[&str],
+    limit: usize,
+) -> Vec<Difference> {
+    let mut found = Vec::new();
+    walk(recorded, recomputed, "", order, ignore, limit, &mut found);
+    found
+}
+
+fn walk(
+    a: &serde_json::Value,
+    b: &serde_json::Value,
+    pointer: &str,
+    order: &[&str],
+    ignore: &[&str],
+    limit: usize,
+    found: &mut Vec<Difference>,
+) {
+    use serde_json::Value;
+    if found.len() >= limit || ignore.contains(&pointer) || a == b {
+        return;
+    }
+    let child = |key: &str| format!("{pointer}/{}", key.replace('~', "~0").replace('/', "~1"));
+    match (a, b) {
+        (Value::Object(x), Value::Object(y)) => {
+            let mut keys: Vec<&String> = x.keys().chain(y.keys()).collect();
+            keys.sort_by_key(|k| (order.iter().position(|o| o == k).unwrap_or(order.len()), *k));
+            keys.dedup();
+            for key in keys {
+                match (x.get(key), y.get(key)) {
+                    (Some(p), Some(q)) => walk(p, q, &child(key), &[], ignore, limit, found),
+                    (p, q) => push(found, child(key), p, q, ignore, limit),
+                }
+            }
+        }
+        (Value::Array(x), Value::Array(y)) if short_scalar_lists(x, y) => {
+            push(found, pointer.to_string(), Some(a), Some(b), ignore, limit)
+        }
+        (Value::Array(x), Value::Array(y)) => {
+            for (i, (p, q)) in x.iter().zip(y).enumerate() {
+                walk(p, q, &child(&i.to_string()), &[], ignore, limit, found);
+            }
+            if x.len() != y.len() {
+                push(
+                    found,
+                    format!("{pointer}/length"),
+                    Some(&x.len().into()),
+                    Some(&y.len().into()),
+                    ignore,
+                    limit,
+                );
+            }
+        }
+        _ => push(found, pointer.to_string(), Some(a), Some(b), ignore, limit),
+    }
+}
+
+/// Lists of names or numbers short enough to show whole: "[a, b, c] versus [a, b]" says more
+/// than "element 2 is absent".
+fn short_scalar_lists(x: &[serde_json::Value], y: &[serde_json::Value]) -> bool {
+    let scalar = |v: &serde_json::Value| !(v.is_array() || v.is_object());
+    x.len().max(y.len()) <= 8 && x.iter().chain(y).all(scalar)
+}
+
+fn push(
+    found: &mut Vec<Difference>,
+    pointer: String,
+    a: Option<&serde_json::Value>,
+    b: Option<&serde_json::Value>,
+    ignore: &[&str],
+    limit: usize,
+) {
+    if found.len() < limit && !ignore.contains(&pointer.as_str()) {
+        found.push(Difference {
+            pointer,
+            recorded: shown(a),
+            recomputed: shown(b),
+        });
+    }
+}
+
+fn shown(value: Option<&serde_json::Value>) -> String {
+    const LIMIT: usize = 80;
+    let Some(value) = value else {
+        return "absent".into();
+    };
+    let text = serde_json::to_string(value).expect("a JSON value always serialises");
+    if text.chars().count() > LIMIT {
+        format!("{}…", text.chars().take(LIMIT).collect::<String>())
+    } else {
+        text
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
     use serde_json::json;
+
+    #[test]
+    fn differences_name_the_first_differing_pointer_in_layout_order() {
+        let recorded = json!({"a": 1, "z": {"k": [[1], [2], [3]], "m": [1, 2]}, "run": 5});
+        let recomputed = json!({"a": 2, "z": {"k": [[1], [9]], "m": [1]}, "run": 6});
+        let found = differences(&recorded, &recomputed, &["z", "a"], &["/run"], 10);
+        let pointers: Vec<&str> = found.iter().map(|d| d.pointer.as_str()).collect();
+        assert_eq!(pointers, vec!["/z/k/1", "/z/k/length", "/z/m", "/a"]);
+        assert_eq!(found[0].to_string(), "/z/k/1: recorded [2], re-run [9]");
+        assert_eq!(found[2].to_string(), "/z/m: recorded [1,2], re-run [1]");
+        assert_eq!(differences(&recorded, &recomputed, &[], &[], 1).len(), 1);
+    }
+
+    #[test]
+    fn pointer_keys_are_escaped_as_rfc_6901_says() {
+        // RFC 6901, section 3: '~' is written '~0' and '/' is written '~1'.
+        let found = differences(&json!({"a/b~": 1}), &json!({"a/b~": 2}), &[], &[], 5);
+        assert_eq!(found[0].pointer, "/a~1b~0");
+    }
 
     #[test]
     fn canonical_json_sorts_keys_at_every_depth() {

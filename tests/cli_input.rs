@@ -621,7 +621,19 @@ fn clap_usage_errors_exit_2() {
             "{args:?}: {}",
             stderr_of(&output)
         );
-        assert!(!stderr_of(&output).contains("panicked"));
+        let stderr = stderr_of(&output);
+        assert!(!stderr.contains("panicked"));
+        if !args.is_empty() {
+            // The contract's one line, pointing at the help of the command that was typed.
+            assert_eq!(stderr.trim_end().lines().count(), 1, "{args:?}: {stderr}");
+            assert!(stderr.starts_with("forebear: error: "), "{stderr}");
+            let help = if args[0] == "analyze" {
+                "'forebear analyze --help'"
+            } else {
+                "'forebear --help'"
+            };
+            assert!(stderr.contains(help), "{args:?}: {stderr}");
+        }
     }
     assert_eq!(s.entries(), vec!["data.csv"]);
     assert_success(&run(["--help"]));

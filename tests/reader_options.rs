@@ -505,3 +505,55 @@ fn settings_are_checked_against_the_header_before_the_rows_are_read() {
     let output = analyze(&s, &data, "y", &[]);
     assert_input_error(&output, &s, &["late.csv"], &["line 31", "2 field(s)"]);
 }
+
+#[test]
+fn a_dossier_read_with_every_reader_option_verifies_from_its_record() {
+    let s = Scratch::new("verify-reader");
+    let mut text = String::from("id;x1;x2;y;x1_again;z\n");
+    for (i, r) in table(60).iter().enumerate() {
+        let y = if i == 9 {
+            "NA".to_string()
+        } else {
+            format!("{:.4}", r[2])
+        };
+        let cells = [
+            format!("{:.4}", r[0]),
+            format!("{:.4}", r[1]),
+            y,
+            format!("{:.4}", r[0]),
+        ];
+        let cells: Vec<String> = cells.iter().map(|c| c.replace('.', ",")).collect();
+        text.push_str(&format!("lot-{i};{};{:.4}\n", cells.join(";"), r[3]).replace(".", ","));
+    }
+    let data = s.write("lots.csv", text);
+    let flags = [
+        "--delimiter",
+        ";",
+        "--decimal-comma",
+        "--candidates",
+        "x1,x2,x1_again,z",
+    ];
+    let output = analyze(
+        &s,
+        &data,
+        "y",
+        &[&flags[..], &["--replicates", "2"]].concat(),
+    );
+    assert_success(&output);
+    let result = result_json(&s.path("out"));
+    assert_eq!(result["data"]["rows_dropped"], 1);
+    assert_eq!(
+        result["data"]["duplicate_columns"],
+        serde_json::json!({"x1_again": "x1"})
+    );
+    let out = s.path("out");
+    let output = run([
+        "verify",
+        out.to_str().unwrap(),
+        "--data",
+        data.to_str().unwrap(),
+    ]);
+    assert_success(&output);
+    let stdout = String::from_utf8_lossy(&output.stdout);
+    assert_eq!(stdout.lines().last(), Some("VERIFIED"), "{stdout}");
+}

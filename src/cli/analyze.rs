@@ -17,7 +17,8 @@ pub struct AnalyzeArgs {
     /// The outcome column whose direct causes are sought.
     #[arg(long)]
     pub target: String,
-    /// Output folder for result.json, dossier.md, dossier.html, stability.csv and trace.csv.
+    /// Output folder for result.json, dossier.md, dossier.html, stability.csv, trace.csv and
+    /// manifest.json.
     #[arg(long, default_value = "forebear-output")]
     pub out: PathBuf,
     /// Study seed for every random tie-break and resample.
@@ -156,12 +157,13 @@ pub fn analyze_into(
 ) -> Result<()> {
     // Refuse an unusable output folder before the work, not after it.
     crate::report::check_output_folder(out, force)?;
-    let finding = analyze_file(data, input, options, argv, progress)?;
-    crate::report::write_dossier(&finding, out, force)?;
+    let analysed = analyze_file(data, input, options, argv, progress)?;
+    crate::report::write_dossier(&analysed, out, force)?;
     progress.say(&format!(
-        "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv)",
+        "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json)",
         out.display()
     ));
+    let finding = &analysed.finding;
     println!(
         "{}: {} — {}",
         finding.target,

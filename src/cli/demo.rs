@@ -63,5 +63,10 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         "demo output is in {}/ (one folder per target; open dossier.html)",
         args.out.display()
     );
+    println!(
+        "a reviewer checks a dossier with: forebear verify {} --data {}",
+        args.out.join(DEMO_TARGETS[0]).display(),
+        data.display()
+    );
     Ok(())
 }

@@ -46,8 +46,9 @@ pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
         parts.push((file.display().to_string(), part));
     }
     progress.say(&format!("merging {} parts", parts.len()));
-    let finding = merge_parts(parts, argv)?;
-    crate::report::write_dossier(&finding, &args.out, args.force)?;
+    let analysed = merge_parts(parts, argv)?;
+    crate::report::write_dossier(&analysed, &args.out, args.force)?;
+    let finding = &analysed.finding;
     println!(
         "{}: {} — {}",
         finding.target,

@@ -3,8 +3,10 @@
 pub mod analyze;
 pub mod demo;
 pub mod dependence;
+pub mod fingerprint;
 pub mod merge;
 pub mod reader;
+pub mod verify;
 
 use crate::analysis::Progress;
 use clap::{Parser, Subcommand};
@@ -36,6 +38,10 @@ pub enum Command {
     Demo(demo::DemoArgs),
     /// Combine partial results (from `analyze --replicate-range`) into one dossier.
     Merge(merge::MergeArgs),
+    /// Check a dossier against the data: files, fingerprints, method version, then a re-run.
+    Verify(verify::VerifyArgs),
+    /// Print the SHA-256 of a data file's bytes and of its parsed content, and its shape.
+    Fingerprint(fingerprint::FingerprintArgs),
 }
 
 /// Progress on stderr, unless `--quiet`.
@@ -80,5 +86,7 @@ pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, &progress),
         Command::Merge(args) => merge::run(args, argv, &progress),
+        Command::Verify(args) => verify::run(args, argv, &progress),
+        Command::Fingerprint(args) => fingerprint::run(args),
     }
 }

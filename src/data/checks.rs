@@ -62,6 +62,7 @@ impl RawTable {
             file: self.file.clone(),
             size_bytes: facts.size_bytes,
             sha256: facts.sha256,
+            content_sha256: String::new(),
             rows_read,
             rows_used,
             rows_dropped: rows_read - rows_used,

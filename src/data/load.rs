@@ -45,18 +45,39 @@ impl MissingPolicy {
     }
 }
 
-/// Settings of the reader. Each is recorded in the [`DataReport`], so that a run can be repeated
-/// from its result ([`LoadOptions::from_report`]).
-#[derive(Clone, Debug, PartialEq)]
+/// Settings of the reader. Each is recorded in the [`DataReport`] (and in the manifest's
+/// settings), so that a run can be repeated from its result ([`LoadOptions::from_report`]).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct LoadOptions {
-    /// The byte between fields: `,` (default), `;`, tab or `|`.
+    /// The byte between fields: `,` (default), `;`, tab or `|`; written as the character.
+    #[serde(default = "comma", with = "delimiter_serde")]
     pub delimiter: u8,
     /// Read `3,14` as 3.14 (and refuse `3.14`).
+    #[serde(default)]
     pub decimal_comma: bool,
     /// Cell texts (after trimming spaces) that mean "missing".
     pub missing_tokens: Vec<String>,
     /// What to do with rows missing a used value.
+    #[serde(default)]
     pub missing_policy: MissingPolicy,
+}
+
+fn comma() -> u8 {
+    b','
+}
+
+/// The delimiter in JSON as the character itself (`","`, `"\t"`), not as a byte value.
+mod delimiter_serde {
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(delimiter: &u8, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(&(*delimiter as char).to_string())
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(deserializer: D) -> Result<u8, D::Error> {
+        let text = String::deserialize(deserializer)?;
+        super::parse_delimiter(&text).map_err(serde::de::Error::custom)
+    }
 }
 
 impl Default for LoadOptions {

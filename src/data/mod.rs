@@ -2,6 +2,7 @@
 
 pub mod cells;
 pub mod checks;
+pub mod compare;
 pub mod csv_read;
 pub mod fingerprint;
 pub mod load;

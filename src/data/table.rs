@@ -69,6 +69,10 @@ pub struct DataReport {
     pub size_bytes: u64,
     /// SHA-256 of the file's bytes, lower-case hex.
     pub sha256: String,
+    /// SHA-256 of the parsed content in canonical form (see `data::fingerprint`): equal for a file
+    /// re-saved with other line endings, quoting or number formatting.
+    #[serde(default)]
+    pub content_sha256: String,
     /// Data rows read (header excluded).
     pub rows_read: usize,
     /// Rows used by the analysis.

@@ -10,7 +10,6 @@ use crate::error::{Error, Result};
 use crate::finding::Finding;
 use minijinja::value::Value;
 use minijinja::{context, Environment};
-use sha2::{Digest, Sha256};
 
 const TEMPLATE: &str = include_str!("../../templates/dossier.md");
 
@@ -145,10 +144,10 @@ fn run_date(finding: &Finding) -> String {
     finding.run.started_utc.chars().take(10).collect()
 }
 
-/// SHA-256 of the canonical JSON of the validated settings.
+/// SHA-256 of the canonical JSON of the settings (reader options and validated study), as the
+/// manifest records it.
 pub fn settings_sha256(finding: &Finding) -> String {
-    let text = crate::manifest::canonical_json(&finding.settings);
-    crate::data::fingerprint::hex(&Sha256::digest(text.as_bytes()))
+    crate::manifest::settings_sha256(finding)
 }
 
 /// Members of the target's boundary that are in no candidate parent set.
@@ -186,6 +185,14 @@ pub fn reproduce_command(finding: &Finding) -> String {
     }
     if !s.excluded.is_empty() {
         parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
+    }
+    let tokens = &finding.data.missing_tokens;
+    if *tokens != crate::data::LoadOptions::default().missing_tokens {
+        // `=` keeps a list that starts with an empty entry (",NA") attached to its flag.
+        parts.push(format!(
+            "--missing-tokens={}",
+            shell_quote(&tokens.join(","))
+        ));
     }
     parts.push("--out rerun".to_string());
     one_line(&parts.join(" "))

@@ -6,9 +6,12 @@ pub mod json;
 pub mod markdown;
 pub mod tables;
 
+use crate::analysis::Analysed;
 use crate::error::{Error, Result};
 use crate::finding::Finding;
+use crate::manifest::{Manifest, MANIFEST_FILE};
 use std::path::{Path, PathBuf};
+use std::sync::Mutex;
 
 /// One output format.
 pub trait Renderer {
@@ -50,12 +53,93 @@ const SIGNED_FILES: [&str; 2] = ["result.json", "partial.json"];
 /// any point leaves no partial output. An existing `dir` is replaced only if it is empty, or if it
 /// holds a previous forebear result and nothing else and `force` is set (see
 /// [`check_output_folder`]).
-pub fn write_dossier(finding: &Finding, dir: &Path, force: bool) -> Result<()> {
-    let rendered: Vec<(&'static str, String)> = renderers()
+/// The manifest (`manifest.json`) is written with them and holds the SHA-256 of every other file.
+pub fn write_dossier(analysed: &Analysed, dir: &Path, force: bool) -> Result<()> {
+    let mut files = render_all(&analysed.finding)?;
+    let manifest = Manifest::new(analysed, &files);
+    files.push((MANIFEST_FILE, manifest.to_text()));
+    write_files_atomically(dir, &files, force)
+}
+
+/// Every file of the dossier except the manifest, rendered, in writing order.
+pub fn render_all(finding: &Finding) -> Result<Vec<(&'static str, String)>> {
+    renderers()
         .iter()
         .map(|r| r.render(finding).map(|text| (r.file_name(), text)))
-        .collect::<Result<_>>()?;
-    write_files_atomically(dir, &rendered, force)
+        .collect()
+}
+
+/// Staging folders of this process that a termination signal must remove; the lock is also held
+/// while a finished staging folder is moved into place, so a signal never interrupts the swap.
+static STAGING: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+/// On SIGINT or SIGTERM, removes this process's staging folders before exiting (128 + signal), so
+/// an interrupted run leaves neither a partial dossier nor a stray staging folder. SIGKILL cannot
+/// be caught: its leftovers are removed by the next run into the same folder.
+#[cfg(unix)]
+fn remove_staging_on_signal() {
+    use signal_hook::consts::{SIGINT, SIGTERM};
+    static INSTALL: std::sync::Once = std::sync::Once::new();
+    INSTALL.call_once(|| {
+        let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM]) else {
+            return;
+        };
+        std::thread::spawn(move || {
+            if let Some(signal) = signals.forever().next() {
+                let staging = STAGING.lock().unwrap_or_else(|e| e.into_inner());
+                for path in staging.iter() {
+                    let _ = std::fs::remove_dir_all(path);
+                }
+                std::process::exit(128 + signal);
+            }
+        });
+    });
+}
+
+#[cfg(not(unix))]
+fn remove_staging_on_signal() {}
+
+/// Test hook: `FOREBEAR_WRITE_PAUSE_MS` pauses after each staged file, so that a test can stop the
+/// process in the middle of writing. Unset in normal use.
+fn pause_for_tests() {
+    if let Some(ms) = std::env::var("FOREBEAR_WRITE_PAUSE_MS")
+        .ok()
+        .and_then(|v| v.parse::<u64>().ok())
+    {
+        std::thread::sleep(std::time::Duration::from_millis(ms));
+    }
+}
+
+/// Removes staging folders of `dir` left by runs that were killed (their process is gone).
+fn remove_stale_staging(dir: &Path) {
+    let Some(name) = dir.file_name().map(|n| n.to_string_lossy().into_owned()) else {
+        return;
+    };
+    let prefix = format!(".{name}.partial-");
+    let Ok(entries) = std::fs::read_dir(parent_of(dir)) else {
+        return;
+    };
+    for entry in entries.flatten() {
+        let file_name = entry.file_name().to_string_lossy().into_owned();
+        let Some(pid) = file_name
+            .strip_prefix(&prefix)
+            .and_then(|p| p.parse::<u32>().ok())
+        else {
+            continue;
+        };
+        if pid != std::process::id() && !process_is_running(pid) {
+            let _ = std::fs::remove_dir_all(entry.path());
+        }
+    }
+}
+
+/// Whether a process id is alive; where that cannot be told, assume it is (keep its folder).
+fn process_is_running(pid: u32) -> bool {
+    if cfg!(target_os = "linux") {
+        Path::new(&format!("/proc/{pid}")).exists()
+    } else {
+        true
+    }
 }
 
 /// Writes `files` (name, contents) into `dir` as one step, as described at [`write_dossier`].
@@ -69,20 +153,34 @@ pub fn write_files_atomically(dir: &Path, files: &[(&str, String)], force: bool)
             parent.display()
         ))
     })?;
+    remove_stale_staging(dir);
     let staging = sibling(dir, "partial");
     // A staging folder of this name can only be left over from a killed run with the same id.
     let _ = std::fs::remove_dir_all(&staging);
+    remove_staging_on_signal();
+    STAGING
+        .lock()
+        .unwrap_or_else(|e| e.into_inner())
+        .push(staging.clone());
     let result = (|| {
         std::fs::create_dir(&staging)
             .map_err(|e| Error::input(format!("cannot write into '{}': {e}", parent.display())))?;
         for (name, text) in files {
             std::fs::write(staging.join(name), text)
                 .map_err(|e| Error::internal(format!("cannot write '{name}': {e}")))?;
+            pause_for_tests();
         }
-        swap_into_place(&staging, dir)
+        let mut registered = STAGING.lock().unwrap_or_else(|e| e.into_inner());
+        let swapped = swap_into_place(&staging, dir);
+        registered.retain(|p| p != &staging);
+        swapped
     })();
     if result.is_err() {
         let _ = std::fs::remove_dir_all(&staging);
+        STAGING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .retain(|p| p != &staging);
     }
     result
 }

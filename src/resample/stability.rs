@@ -106,6 +106,10 @@ pub struct Stability {
     pub full_data_outcome_stable: bool,
     /// Digest of every replicate record, by replicate index.
     pub replicate_digests: Vec<String>,
+    /// Every replicate record, by replicate index, so that a re-run can name the first field of a
+    /// replicate that differs.
+    #[serde(default)]
+    pub records: Vec<ReplicateRecord>,
 }
 
 /// Runs replicate `k` of `plan` on `table` and condenses it into a record.
@@ -292,6 +296,7 @@ pub fn aggregate(
         full_data_outcome_frequency: share(full_count),
         full_data_outcome_stable: share(full_count) >= threshold,
         replicate_digests: records.iter().map(|r| r.digest.clone()).collect(),
+        records: records.iter().map(|&r| r.clone()).collect(),
     }
 }
 

@@ -1,0 +1,52 @@
+//! `forebear fingerprint DATA`: both fingerprints of a data file and its shape.
+
+use crate::data::fingerprint::{content_index, sha256_file};
+use crate::data::read_csv;
+use crate::error::{Error, Result};
+use clap::Args;
+use std::path::PathBuf;
+
+/// Arguments of `fingerprint`.
+#[derive(Debug, Args)]
+pub struct FingerprintArgs {
+    /// The CSV file.
+    pub data: PathBuf,
+    /// How the file is read, as for `analyze` (it decides the parsed content).
+    #[command(flatten)]
+    pub reader: super::reader::ReaderArgs,
+    /// Print JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `fingerprint`.
+pub fn run(args: FingerprintArgs) -> Result<()> {
+    let options = args.reader.load_options()?;
+    let table = read_csv(&args.data, &options)?;
+    let (bytes, size) = sha256_file(&args.data)?;
+    let content = content_index(&table);
+    if args.json {
+        let value = serde_json::json!({
+            "file": args.data.display().to_string(),
+            "size_bytes": size,
+            "sha256": bytes,
+            "content_sha256": content.sha256,
+            "rows": content.rows,
+            "columns": content.columns.len(),
+            "reader": options,
+        });
+        let text = serde_json::to_string_pretty(&value)
+            .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
+        println!("{text}");
+    } else {
+        println!("file            {}", args.data.display());
+        println!("bytes sha256    {bytes}");
+        println!("content sha256  {}", content.sha256);
+        println!(
+            "shape           {} data rows × {} columns, {size} bytes",
+            content.rows,
+            content.columns.len()
+        );
+    }
+    Ok(())
+}

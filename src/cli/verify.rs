@@ -1,0 +1,77 @@
+//! `forebear verify DIR --data DATA [--replicates-sample K] [--json]`
+
+use crate::analysis::Progress;
+use crate::error::{Error, Result};
+use crate::verify::{render_text, verify, Request};
+use clap::Args;
+use std::path::PathBuf;
+
+/// Arguments of `verify`.
+#[derive(Debug, Args)]
+pub struct VerifyArgs {
+    /// The dossier folder (the one holding manifest.json).
+    pub dir: PathBuf,
+    /// The data file received with the dossier.
+    #[arg(long)]
+    pub data: PathBuf,
+    /// Re-run only K replicates, chosen by a seed, besides the full-data search: a quick spot
+    /// check, labelled as such.
+    #[arg(long, value_name = "K")]
+    pub replicates_sample: Option<u32>,
+    /// Seed that chooses the spot check's replicates (default: derived from the manifest).
+    #[arg(long, value_name = "N", requires = "replicates_sample")]
+    pub sample_seed: Option<u64>,
+    /// Re-run a dossier made by another method version and list every difference.
+    #[arg(long)]
+    pub allow_other_version: bool,
+    /// Print the report as JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `verify`: prints the report (verdict on the last line); a mismatch is exit code 1.
+pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+    if args.replicates_sample == Some(0) {
+        return Err(Error::input(
+            "--replicates-sample 0 re-runs no replicate; give at least 1, or leave the flag out to \
+             re-run them all",
+        ));
+    }
+    let request = Request {
+        dir: args.dir,
+        data: args.data,
+        replicates_sample: args.replicates_sample,
+        sample_seed: args.sample_seed,
+        allow_other_version: args.allow_other_version,
+        command_line: argv,
+    };
+    let report = match verify(&request, progress) {
+        Ok(report) => report,
+        Err(e @ Error::Mismatch(_)) => {
+            println!("MISMATCH");
+            return Err(e);
+        }
+        Err(e) => return Err(e),
+    };
+    if args.json {
+        let text = serde_json::to_string_pretty(&report)
+            .map_err(|e| Error::internal(format!("verification report: {e}")))?;
+        println!("{text}");
+    } else {
+        print!("{}", render_text(&report));
+    }
+    if report.verified() {
+        Ok(())
+    } else {
+        let failed: Vec<&str> = report
+            .checks
+            .iter()
+            .filter(|c| c.status == crate::verify::Status::Fail)
+            .map(|c| c.name.as_str())
+            .collect();
+        Err(Error::Mismatch(format!(
+            "verification found differences ({})",
+            failed.join(", ")
+        )))
+    }
+}

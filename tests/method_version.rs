@@ -1,0 +1,101 @@
+//! Pins `METHOD_VERSION` to what the method computes. `verify` trusts that two builds with the same
+//! method version give the same digest for the same data, settings and seed; this test makes that
+//! true. If it fails after a change that alters results (any number, set, order or text in
+//! `result.json` other than run facts), bump `METHOD_VERSION` in `src/finding.rs` and record the new
+//! digests here under the new version — never edit the digests of a released version.
+//!
+//! The pinned digests are regression values of this project (no outside source); the computations
+//! behind them are checked against outside references in the other test files.
+
+use std::path::Path;
+use std::process::{Command, Stdio};
+
+/// (method version, analysis, digest of its result).
+const PINNED: [(&str, &str, &str); 4] = [
+    (
+        "forebear-method/1",
+        "demo crush_strength, complementary pairs ×10, rank scaling",
+        "84c41b3b92a04946d0fa0d33ae4dd4b2f22509b11cc76ba6d4dccacec09408cd",
+    ),
+    (
+        "forebear-method/1",
+        "demo pore_density, bootstrap ×4, standardize scaling, seed 7",
+        "f3b74179fb435032befb43bf2696bdca344028d9d13b783809aca202ae215e3b",
+    ),
+    // Version 2: the data record gained the reader settings (delimiter, decimal comma, missing
+    // policy) and the duplicate columns, and "#N/A" joined the default missing tokens; every
+    // statistic of these two results is as under version 1.
+    (
+        "forebear-method/2",
+        "demo crush_strength, complementary pairs ×10, rank scaling",
+        "973531c11f749dd9bc5486472a3d72941883b8cd833a9924d9d295364c68add6",
+    ),
+    (
+        "forebear-method/2",
+        "demo pore_density, bootstrap ×4, standardize scaling, seed 7",
+        "7ce897daa45222109517a2046f8bbf336ab930b65875dcb353dc28d18f08bbdc",
+    ),
+];
+
+fn digest(data: &Path, out: &Path, args: &[&str]) -> String {
+    let status = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(["--quiet", "analyze"])
+        .arg(data)
+        .arg("--out")
+        .arg(out)
+        .args(args)
+        .stdout(Stdio::null())
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let result: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("result.json")).unwrap()).unwrap();
+    result["digest"].as_str().unwrap().to_string()
+}
+
+#[test]
+fn method_version_names_exactly_these_results() {
+    let dir = std::env::temp_dir().join(format!("forebear-method-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let data = dir.join("filter_discs.csv");
+    std::fs::write(&data, forebear::demo::DEMO_CSV).unwrap();
+    let computed = [
+        digest(
+            &data,
+            &dir.join("a"),
+            &["--target", "crush_strength", "--replicates", "10"],
+        ),
+        digest(
+            &data,
+            &dir.join("b"),
+            &[
+                "--target",
+                "pore_density",
+                "--resample",
+                "bootstrap",
+                "--replicates",
+                "4",
+                "--scaling",
+                "standardize",
+                "--seed",
+                "7",
+            ],
+        ),
+    ];
+    let current = forebear::finding::METHOD_VERSION;
+    let pinned: Vec<&(&str, &str, &str)> = PINNED.iter().filter(|p| p.0 == current).collect();
+    assert_eq!(
+        pinned.len(),
+        computed.len(),
+        "no digests are pinned for method version {current}; record these: {computed:?}"
+    );
+    for ((_, what, expected), got) in pinned.iter().zip(&computed) {
+        assert_eq!(
+            got, expected,
+            "{what}: the results changed under method version {current}; if the change is meant, \
+             bump METHOD_VERSION and pin the new digests"
+        );
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
