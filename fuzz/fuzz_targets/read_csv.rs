@@ -31,7 +31,8 @@ mod forebear_fuzz_support {
 
     /// One file per fuzzing process, rewritten for every input.
     fn path() -> PathBuf {
-        let dir = std::env::var_os("FOREBEAR_FUZZ_DIR").map_or_else(std::env::temp_dir, PathBuf::from);
+        let dir =
+            std::env::var_os("FOREBEAR_FUZZ_DIR").map_or_else(std::env::temp_dir, PathBuf::from);
         dir.join(format!("forebear-fuzz-{}.csv", std::process::id()))
     }
 
@@ -52,8 +53,7 @@ mod forebear_fuzz_support {
         };
         if small {
             let full = prepared.full_search(&Silent);
-            let records =
-                prepared.replicates(0..prepared.study.resampling.count, &full, &Silent);
+            let records = prepared.replicates(0..prepared.study.resampling.count, &full, &Silent);
             let finding = prepared.finding(full, Vec::new());
             let _ = forebear::analysis::attach_stability(finding, &records);
         }
