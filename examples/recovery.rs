@@ -269,8 +269,8 @@ impl NodeResult {
 fn load_table(path: &Path) -> Result<Table, String> {
     let raw = read_csv(path, &LoadOptions::default()).map_err(|e| e.to_string())?;
     let mut columns = Vec::new();
-    for (name, cells) in raw.names.iter().zip(&raw.columns) {
-        let values: Option<Vec<f64>> = cells.iter().copied().collect();
+    for (j, name) in raw.names.iter().enumerate() {
+        let values: Option<Vec<f64>> = raw.column_cells(j).collect();
         let values = values.ok_or_else(|| format!("column '{name}' has missing cells"))?;
         if values.iter().all(|&v| v == values[0]) {
             return Err(format!("column '{name}' is constant"));

@@ -1,7 +1,9 @@
 //! The analyze pipeline as library calls: read, validate, search the full data, run replicates,
 //! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
+use crate::data::checks::FileFacts;
 use crate::data::fingerprint::{content_index, sha256_file, ContentIndex};
+use crate::data::load::read_header;
 use crate::data::{read_csv, DataReport, LoadOptions, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Finding, RunInfo};
@@ -54,19 +56,19 @@ pub fn prepare(
 ) -> Result<Prepared> {
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
+    // Settings are checked against the header before the rows are read: a misspelt target in a
+    // large file is reported at once.
+    let (study, used, target) = Study::new(input, &read_header(path, options)?)?;
     let raw = read_csv(path, options)?;
-    let (study, used, target) = Study::new(input, &raw)?;
     let (sha256, size_bytes) = sha256_file(path)?;
     let content = content_index(&raw);
-    let (table, report) = raw.prepare(
-        &used,
-        target,
-        study.excluded.clone(),
-        size_bytes,
-        sha256,
-        options,
-    )?;
-    let study = study.without_constant(&report.constant_columns);
+    let left_out = (0..raw.names.len())
+        .filter(|j| !used.contains(j))
+        .map(|j| raw.names[j].clone())
+        .collect();
+    let facts = FileFacts { size_bytes, sha256 };
+    let (table, report) = raw.prepare(&used, target, left_out, facts, options)?;
+    let study = study.on_data(&report)?;
     progress.say(&format!(
         "read {} rows ({} used) and {} columns from {}",
         report.rows_read,
@@ -77,6 +79,11 @@ pub fn prepare(
     for column in &report.constant_columns {
         progress.say(&format!(
             "column '{column}' is constant on the rows used and is left out"
+        ));
+    }
+    for (column, original) in &report.duplicate_columns {
+        progress.say(&format!(
+            "column '{column}' repeats '{original}' exactly on the rows used and is left out"
         ));
     }
     let report = DataReport {

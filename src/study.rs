@@ -1,7 +1,9 @@
 //! Validated study settings. A [`Study`] is built only by [`Study::new`], which checks every value
 //! against the data's header; search code takes it as given and never re-validates.
 
+use crate::data::checks::{require_rows, MIN_ROWS_PER_SAMPLE, MIN_ROWS_REASON};
 use crate::data::load::RawTable;
+use crate::data::DataReport;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
@@ -14,6 +16,9 @@ pub struct StudyInput {
     pub target: String,
     /// Columns never to consider (neither as candidates nor in members' boundaries).
     pub exclude: Vec<String>,
+    /// When given, the only columns considered besides the target; every other column is left
+    /// out as if excluded.
+    pub candidates: Option<Vec<String>>,
     /// Study seed for every keyed random draw.
     pub seed: u64,
     /// Predictor scaling.
@@ -37,6 +42,7 @@ impl StudyInput {
         StudyInput {
             target: target.to_string(),
             exclude: Vec::new(),
+            candidates: None,
             seed: 1,
             scaling: Scaling::Rank,
             alpha: 0.05,
@@ -46,16 +52,15 @@ impl StudyInput {
             stability_threshold: 0.6,
         }
     }
-}
 
-impl StudyInput {
-    /// The input that rebuilds `study` from the same file: re-running with it gives an equal
-    /// [`Study`] when the data are the same.
+    /// The input that gives `study` again: with the same data, `Study::new` and
+    /// [`Study::on_data`] on it return a study equal to `study`.
     pub fn replaying(study: &Study) -> StudyInput {
         let plan = &study.resampling;
         StudyInput {
             target: study.target.clone(),
             exclude: study.excluded.clone(),
+            candidates: study.candidates_named.clone(),
             seed: study.seed,
             scaling: study.scaling,
             alpha: study.alpha,
@@ -76,6 +81,9 @@ pub struct Study {
     pub candidates: Vec<String>,
     /// Columns excluded by the user.
     pub excluded: Vec<String>,
+    /// The columns named by `--candidates`, as given (absent: every column not excluded).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub candidates_named: Option<Vec<String>>,
     /// Study seed.
     pub seed: u64,
     /// Predictor scaling.
@@ -118,13 +126,32 @@ impl Study {
         }
         let resampling =
             ResamplePlan::new(input.resample, input.replicates, input.fraction, input.seed)?;
+        let named = match &input.candidates {
+            None => None,
+            Some(names) => Some(named_candidates(names, &input.exclude, target, raw)?),
+        };
         let used: Vec<usize> = (0..raw.names.len())
             .filter(|j| !excluded_positions.contains(j))
+            .filter(|&j| j == target || named.as_ref().is_none_or(|n| n.contains(&j)))
             .collect();
-        if used.len() < 2 {
+        if used.len() < 3 {
+            let have: Vec<String> = used
+                .iter()
+                .filter(|&&j| j != target)
+                .map(|&j| format!("'{}'", raw.names[j]))
+                .collect();
             return Err(Error::input(format!(
-                "{}: no candidate columns remain besides the target '{}'",
-                raw.file, input.target
+                "{}: {} candidate column(s) remain besides the target '{}'{}, but the search needs \
+                 at least 2 ({CANDIDATES_REASON}); {}",
+                raw.file,
+                have.len(),
+                input.target,
+                if have.is_empty() { String::new() } else { format!(" ({})", have.join(", ")) },
+                if input.candidates.is_some() {
+                    "name more columns with --candidates"
+                } else {
+                    "exclude fewer columns or add candidate columns to the file"
+                }
             )));
         }
         let study = Study {
@@ -138,6 +165,7 @@ impl Study {
                 .iter()
                 .map(|&j| raw.names[j].clone())
                 .collect(),
+            candidates_named: input.candidates.clone(),
             seed: input.seed,
             scaling: input.scaling,
             alpha: input.alpha,
@@ -147,9 +175,228 @@ impl Study {
         Ok((study, used, target))
     }
 
-    /// Drops candidates that the data step excluded as constant.
-    pub fn without_constant(mut self, constant: &[String]) -> Study {
-        self.candidates.retain(|c| !constant.contains(c));
-        self
+    /// Drops the candidates that the data step left out (constant, or repeating another column)
+    /// and checks that enough candidates and rows remain for the search.
+    pub fn on_data(mut self, report: &DataReport) -> Result<Study> {
+        let dropped = |c: &String| {
+            report.constant_columns.contains(c) || report.duplicate_columns.contains_key(c)
+        };
+        let left_out: Vec<String> = self
+            .candidates
+            .iter()
+            .filter(|c| dropped(c))
+            .map(|c| match report.duplicate_columns.get(c) {
+                Some(original) => format!("'{c}' repeats '{original}'"),
+                None => format!("'{c}' is constant"),
+            })
+            .collect();
+        self.candidates.retain(|c| !dropped(c));
+        if self.candidates.len() < 2 {
+            return Err(Error::input(format!(
+                "{}: only {} usable candidate column(s) remain besides the target '{}' ({}), but \
+                 the search needs at least 2 ({CANDIDATES_REASON}); add candidate columns that vary",
+                report.file,
+                self.candidates.len(),
+                self.target,
+                left_out.join(", ")
+            )));
+        }
+        let (needed, why) = self.rows_needed();
+        require_rows(report, needed, &why)?;
+        Ok(self)
+    }
+
+    /// The fewest rows the full data may have for every sample of this study to be searchable,
+    /// and why.
+    pub fn rows_needed(&self) -> (usize, String) {
+        let m = MIN_ROWS_PER_SAMPLE;
+        let plan = &self.resampling;
+        if plan.count == 0 {
+            return (m, MIN_ROWS_REASON.to_string());
+        }
+        match plan.kind {
+            PlanKind::ComplementaryPairs => (
+                2 * m,
+                format!(
+                    "each complementary-pairs replicate uses half of the rows, and {MIN_ROWS_REASON}"
+                ),
+            ),
+            PlanKind::Subsample => {
+                let mut n = (m as f64 / plan.fraction).ceil() as usize;
+                while ((plan.fraction * n as f64).floor() as usize) < m {
+                    n += 1;
+                }
+                (
+                    n,
+                    format!(
+                        "each subsample replicate uses ⌊{} × n⌋ rows, and {MIN_ROWS_REASON}",
+                        plan.fraction
+                    ),
+                )
+            }
+            PlanKind::Bootstrap => (
+                BOOTSTRAP_MIN_ROWS,
+                format!(
+                    "a bootstrap replicate draws n rows with replacement, and its rows' neighbours \
+                     must be other original rows, which fewer than {BOOTSTRAP_MIN_ROWS} rows leave \
+                     to chance"
+                ),
+            ),
+        }
+    }
+}
+
+/// Why the search needs two candidates.
+const CANDIDATES_REASON: &str = "parents are recognised as two or more members of the target's \
+     Markov boundary that are independent of each other";
+
+/// Rows a bootstrap study needs: with n rows, a replicate draws a single distinct row with
+/// probability n^(1 − n), about 5·10⁻²⁵ at 20 rows.
+const BOOTSTRAP_MIN_ROWS: usize = 20;
+
+/// Positions of the columns named by `--candidates`, checked against the header, the target and
+/// `--exclude`.
+fn named_candidates(
+    names: &[String],
+    exclude: &[String],
+    target: usize,
+    raw: &RawTable,
+) -> Result<Vec<usize>> {
+    if names.is_empty() {
+        return Err(Error::input(
+            "--candidates names no column; give at least two, as in --candidates x1,x2",
+        ));
+    }
+    let mut positions = Vec::new();
+    for name in names {
+        let j = raw.require_column(name, "candidate")?;
+        if j == target {
+            return Err(Error::input(format!(
+                "the target '{name}' cannot also be a candidate; remove it from --candidates"
+            )));
+        }
+        if exclude.contains(name) {
+            return Err(Error::input(format!(
+                "column '{name}' is named by both --candidates and --exclude; name it in one of them"
+            )));
+        }
+        positions.push(j);
+    }
+    Ok(positions)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::data::checks::FileFacts;
+    use crate::data::{LoadOptions, MissingPolicy};
+
+    /// Six columns over 40 rows: y, three varying candidates, a constant one and a copy of x1.
+    fn raw() -> RawTable {
+        let names = ["x1", "k", "x2", "y", "x1_copy", "z"];
+        let x1: Vec<f64> = (0..40).map(|r| f64::from(r * 7 % 40)).collect();
+        let x2: Vec<f64> = (0..40).map(|r| f64::from(r * 11 % 40)).collect();
+        let y: Vec<f64> = (0..40).map(|r| x1[r] + x2[r]).collect();
+        let z: Vec<f64> = (0..40).map(|r| f64::from(r * 13 % 17)).collect();
+        let columns = [x1.clone(), vec![5.0; 40], x2, y, x1, z];
+        RawTable::from_cells(
+            "study.csv",
+            names.iter().map(|s| s.to_string()).collect(),
+            columns
+                .iter()
+                .map(|c| c.iter().map(|&v| Some(v)).collect())
+                .collect(),
+        )
+    }
+
+    fn run(input: &StudyInput, options: &LoadOptions) -> (Study, DataReport) {
+        let raw = raw();
+        let (study, used, target) = Study::new(input, &raw).unwrap();
+        let left_out = (0..raw.names.len())
+            .filter(|j| !used.contains(j))
+            .map(|j| raw.names[j].clone())
+            .collect();
+        let (_, report) = raw
+            .prepare(&used, target, left_out, FileFacts::default(), options)
+            .unwrap();
+        (study.on_data(&report).unwrap(), report)
+    }
+
+    #[test]
+    fn replaying_a_study_and_its_reader_options_gives_the_same_study_and_report() {
+        let mut input = StudyInput::for_target("y");
+        input.candidates = Some(vec!["z".into(), "x1".into(), "k".into(), "x1_copy".into()]);
+        input.exclude = vec!["x2".into()];
+        input.seed = 9;
+        input.scaling = Scaling::Standardize;
+        input.resample = PlanKind::Subsample;
+        input.fraction = Some(0.7);
+        input.replicates = 12;
+        let options = LoadOptions {
+            delimiter: b';',
+            decimal_comma: true,
+            missing_policy: MissingPolicy::Error,
+            ..LoadOptions::from_token_list("-1,NA")
+        };
+        let (study, report) = run(&input, &options);
+        assert_eq!(study.candidates, ["x1", "z"], "file order, usable only");
+        assert_eq!(report.constant_columns, ["k"]);
+        assert_eq!(report.duplicate_columns["x1_copy"], "x1");
+        assert_eq!(report.excluded_columns, ["x2"]);
+
+        let replayed_options = LoadOptions::from_report(&report);
+        assert_eq!(replayed_options, options);
+        let (again, again_report) = run(&StudyInput::replaying(&study), &replayed_options);
+        assert_eq!(again, study);
+        assert_eq!(again_report, report);
+
+        // Through the JSON of result.json too.
+        let study_json: Study =
+            serde_json::from_str(&serde_json::to_string(&study).unwrap()).unwrap();
+        let report_json: DataReport =
+            serde_json::from_str(&serde_json::to_string(&report).unwrap()).unwrap();
+        assert_eq!(
+            run(
+                &StudyInput::replaying(&study_json),
+                &LoadOptions::from_report(&report_json)
+            ),
+            (study, report)
+        );
+    }
+
+    #[test]
+    fn replaying_a_default_study_keeps_the_defaults() {
+        let (study, report) = run(&StudyInput::for_target("y"), &LoadOptions::default());
+        assert_eq!(study.candidates_named, None);
+        assert!(!serde_json::to_string(&study)
+            .unwrap()
+            .contains("candidates_named"));
+        let input = StudyInput::replaying(&study);
+        assert_eq!(input.fraction, None);
+        assert_eq!(run(&input, &LoadOptions::from_report(&report)).0, study);
+        assert_eq!(LoadOptions::from_report(&report), LoadOptions::default());
+    }
+
+    #[test]
+    fn reports_of_older_results_read_with_default_reader_options() {
+        let old = r#"{"file":"a.csv","size_bytes":1,"sha256":"00","rows_read":3,"rows_used":3,
+            "rows_dropped":0,"missing_by_column":{},"constant_columns":[],"excluded_columns":[],
+            "missing_tokens":["","NA","NaN","null"]}"#;
+        let report: DataReport = serde_json::from_str(old).unwrap();
+        let options = LoadOptions::from_report(&report);
+        assert_eq!(options.delimiter, b',');
+        assert!(!options.decimal_comma);
+        assert_eq!(options.missing_policy, MissingPolicy::DropRows);
+        assert_eq!(options.missing_tokens, ["", "NA", "NaN", "null"]);
+    }
+
+    #[test]
+    fn rows_needed_follow_the_resampling_plan() {
+        let (mut study, _) = run(&StudyInput::for_target("y"), &LoadOptions::default());
+        assert_eq!(study.rows_needed().0, 6);
+        study.resampling = ResamplePlan::new(PlanKind::Subsample, 10, Some(0.3), 1).unwrap();
+        assert_eq!(study.rows_needed().0, 10);
+        study.resampling = ResamplePlan::new(PlanKind::ComplementaryPairs, 0, None, 1).unwrap();
+        assert_eq!(study.rows_needed().0, 3);
     }
 }

@@ -441,3 +441,51 @@ fn the_example_nightly_plan_is_valid_and_names_existing_data() {
     assert_eq!(plan.pairs().len(), 3);
     assert!(plan.missing_data().is_empty());
 }
+
+#[test]
+fn reader_and_candidate_keys_of_a_plan_reach_the_analysis_and_bad_ones_are_rejected() {
+    let s = Scratch::with_plan("reader-keys");
+    // line_c re-saved with ';' between values and decimal commas.
+    let text = std::fs::read_to_string(s.path("data/line_c.csv")).unwrap();
+    let european: String = text.replace(',', ";").replace('.', ",");
+    std::fs::write(s.path("data/line_c.csv"), european).unwrap();
+    let plan = PLAN.replace(
+        "seed = 3\n",
+        "seed = 3\ndelimiter = \";\"\ndecimal_comma = true\nmissing = \"error\"\n\
+         candidates = [\"kiln_peak_temp\", \"pore_density\", \"binder_fraction\"]\n",
+    );
+    std::fs::write(s.path("plan.toml"), &plan).unwrap();
+    let run = s.batch(&["--out", "out"]);
+    assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
+    let result: Value = serde_json::from_str(
+        &std::fs::read_to_string(s.path("out/line-c/crush_strength/result.json")).unwrap(),
+    )
+    .unwrap();
+    assert_eq!(
+        result["settings"]["candidates"],
+        serde_json::json!(["kiln_peak_temp", "binder_fraction", "pore_density"])
+    );
+    let verify = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(["--quiet", "verify"])
+        .arg(s.path("out/line-c/crush_strength"))
+        .arg("--data")
+        .arg(s.path("data/line_c.csv"))
+        .output()
+        .unwrap();
+    assert_eq!(
+        verify.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&verify.stdout)
+    );
+    std::fs::write(
+        s.path("plan.toml"),
+        plan.replace("missing = \"error\"", "missing = \"ignore\"")
+            .replace("delimiter = \";\"", "delimiter = \"#\""),
+    )
+    .unwrap();
+    let bad = s.batch(&["--out", "out2"]);
+    assert_eq!(exit_code(&bad), 2);
+    assert!(stderr(&bad).contains("'line-c'"), "{}", stderr(&bad));
+    assert!(!s.path("out2").exists());
+}

@@ -25,10 +25,12 @@ fn table(file: &str) -> Table {
         .join("tests/data")
         .join(file);
     let raw = read_csv(&path, &LoadOptions::default()).unwrap_or_else(|e| panic!("{file}: {e}"));
-    let columns = raw
-        .columns
-        .iter()
-        .map(|c| c.iter().map(|v| v.expect("no missing cells")).collect())
+    let columns = (0..raw.names.len())
+        .map(|j| {
+            raw.column_cells(j)
+                .map(|v| v.expect("no missing cells"))
+                .collect()
+        })
         .collect();
     Table::from_columns(raw.names.clone(), columns)
 }

@@ -22,7 +22,7 @@ pub const RESERVED_NAMES: [&str; 3] = ["index.html", "index.md", "summary.json"]
 /// Keys of a study table besides the settings.
 const STUDY_KEYS: [&str; 3] = ["name", "data", "targets"];
 /// Keys of `[defaults]`, also allowed in every `[[study]]` as overrides.
-const SETTING_KEYS: [&str; 9] = [
+const SETTING_KEYS: [&str; 13] = [
     "seed",
     "replicates",
     "resample",
@@ -31,7 +31,11 @@ const SETTING_KEYS: [&str; 9] = [
     "stability_threshold",
     "scaling",
     "exclude",
+    "candidates",
     "missing_tokens",
+    "missing",
+    "delimiter",
+    "decimal_comma",
 ];
 
 /// One problem of a plan file.
@@ -55,7 +59,11 @@ pub(super) struct SettingsTable {
     pub(super) stability_threshold: Option<f64>,
     pub(super) scaling: Option<String>,
     pub(super) exclude: Option<Vec<String>>,
+    pub(super) candidates: Option<Vec<String>>,
     pub(super) missing_tokens: Option<Vec<String>>,
+    pub(super) missing: Option<String>,
+    pub(super) delimiter: Option<String>,
+    pub(super) decimal_comma: Option<bool>,
 }
 
 impl SettingsTable {
@@ -71,7 +79,11 @@ impl SettingsTable {
             stability_threshold: self.stability_threshold.or(d.stability_threshold),
             scaling: self.scaling.or(d.scaling),
             exclude: self.exclude.or(d.exclude),
+            candidates: self.candidates.or(d.candidates),
             missing_tokens: self.missing_tokens.or(d.missing_tokens),
+            missing: self.missing.or(d.missing),
+            delimiter: self.delimiter.or(d.delimiter),
+            decimal_comma: self.decimal_comma.or(d.decimal_comma),
         }
     }
 }

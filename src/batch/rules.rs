@@ -113,11 +113,12 @@ pub(super) fn check_study(
     if c.problems.len() > before {
         return None;
     }
-    let load = match &settings.missing_tokens {
-        // Through the command line's own parser, so reader options added later keep their
-        // defaults here too.
-        Some(tokens) => LoadOptions::from_token_list(&tokens.join(",")),
-        None => LoadOptions::default(),
+    let load = match reader_options(&settings) {
+        Ok(load) => load,
+        Err(message) => {
+            c.at(Some(head.name.span()), format!("{place}: {message}"));
+            return None;
+        }
     };
     Some(PlannedStudy {
         name,
@@ -126,6 +127,24 @@ pub(super) fn check_study(
         targets,
         load,
         settings: input,
+    })
+}
+
+/// The reader options of a study, through the command line's own parsers (same names, same
+/// checks, same messages without the flags' dashes).
+fn reader_options(s: &SettingsTable) -> std::result::Result<LoadOptions, String> {
+    let plain = |e: crate::error::Error| e.to_string().replace("--", "");
+    let mut load = LoadOptions::default();
+    if let Some(delimiter) = &s.delimiter {
+        load.delimiter = crate::data::load::parse_delimiter(delimiter).map_err(plain)?;
+    }
+    if let Some(policy) = &s.missing {
+        load.missing_policy = crate::data::MissingPolicy::parse(policy).map_err(plain)?;
+    }
+    load.decimal_comma = s.decimal_comma.unwrap_or(false);
+    Ok(match &s.missing_tokens {
+        Some(tokens) => load.with_token_list(&tokens.join(",")),
+        None => load,
     })
 }
 
@@ -202,6 +221,7 @@ pub(super) fn check_settings(
     Ok(StudyInput {
         target: String::new(),
         exclude,
+        candidates: s.candidates.clone(),
         seed,
         scaling,
         alpha,

@@ -48,15 +48,13 @@ pub struct AnalyzeArgs {
     /// Columns to leave out entirely (comma-separated).
     #[arg(long, value_name = "COLS")]
     pub exclude: Vec<String>,
-    /// Cell texts that mean "missing" (comma-separated; replaces the default list; an empty entry,
-    /// as in ",NA", stands for empty cells). Rows missing a value in a used column are dropped.
-    #[arg(
-        long,
-        value_name = "TOKENS",
-        default_value = ",NA,NaN,null",
-        allow_hyphen_values = true
-    )]
-    pub missing_tokens: String,
+    /// The only columns to consider besides the target (comma-separated); every other column is
+    /// left out, as with --exclude.
+    #[arg(long, value_name = "COLS")]
+    pub candidates: Option<Vec<String>>,
+    /// How the file is read.
+    #[command(flatten)]
+    pub reader: super::reader::ReaderArgs,
     /// Replace an existing output folder that holds a previous forebear result.
     #[arg(long)]
     pub force: bool,
@@ -68,6 +66,7 @@ impl AnalyzeArgs {
         Ok(StudyInput {
             target: self.target.clone(),
             exclude: super::split_names(&self.exclude),
+            candidates: self.candidates.as_deref().map(super::split_names),
             seed: self.seed,
             scaling: parse_scaling(&self.scaling)?,
             alpha: self.alpha,
@@ -84,8 +83,8 @@ impl AnalyzeArgs {
     }
 
     /// Reader options.
-    pub fn load_options(&self) -> LoadOptions {
-        LoadOptions::from_token_list(&self.missing_tokens)
+    pub fn load_options(&self) -> Result<LoadOptions> {
+        self.reader.load_options()
     }
 }
 
@@ -120,7 +119,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         let part = crate::analysis::analyze_part(
             &args.data,
             &input,
-            &args.load_options(),
+            &args.load_options()?,
             range,
             argv,
             progress,
@@ -138,7 +137,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
     analyze_into(
         &args.data,
         &input,
-        &args.load_options(),
+        &args.load_options()?,
         &args.out,
         args.force,
         argv,

@@ -1,7 +1,8 @@
 //! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n.
 
+use crate::data::checks::FileFacts;
 use crate::data::fingerprint::sha256_file;
-use crate::data::{read_csv, LoadOptions};
+use crate::data::read_csv;
 use crate::error::{Error, Result};
 use crate::search::SearchData;
 use clap::Args;
@@ -27,14 +28,9 @@ pub struct DependenceArgs {
     /// Predictor scaling: rank, standardize or none.
     #[arg(long, default_value = "rank")]
     pub scaling: String,
-    /// Cell texts that mean "missing" (comma-separated, as for `analyze`).
-    #[arg(
-        long,
-        value_name = "TOKENS",
-        default_value = ",NA,NaN,null",
-        allow_hyphen_values = true
-    )]
-    pub missing_tokens: String,
+    /// How the file is read.
+    #[command(flatten)]
+    pub reader: super::reader::ReaderArgs,
     /// Print JSON instead of text.
     #[arg(long)]
     pub json: bool,
@@ -43,7 +39,7 @@ pub struct DependenceArgs {
 /// Runs `dependence`.
 pub fn run(args: DependenceArgs) -> Result<()> {
     let scaling = super::analyze::parse_scaling(&args.scaling)?;
-    let options = LoadOptions::from_token_list(&args.missing_tokens);
+    let options = args.reader.load_options()?;
     let raw = read_csv(&args.data, &options)?;
     let response = raw.require_column(&args.response, "response")?;
     let on = super::split_names(&args.on);
@@ -67,7 +63,18 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         }
     }
     let (sha, size) = sha256_file(&args.data)?;
-    let (table, report) = raw.prepare(&used, response, Vec::new(), size, sha, &options)?;
+    let facts = FileFacts {
+        size_bytes: size,
+        sha256: sha,
+    };
+    let (table, report) = raw.prepare(&used, response, Vec::new(), facts, &options)?;
+    if let Some((c, original)) = report.duplicate_columns.iter().next() {
+        return Err(Error::input(format!(
+            "{}, column '{c}': the column repeats '{original}' exactly on the rows used; name only \
+             one of them",
+            report.file
+        )));
+    }
     if let Some(c) = report.constant_columns.first() {
         return Err(Error::input(format!(
             "{}, column '{c}': the column is constant on the rows used, so it carries no information; \

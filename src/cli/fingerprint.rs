@@ -1,7 +1,7 @@
 //! `forebear fingerprint DATA`: both fingerprints of a data file and its shape.
 
 use crate::data::fingerprint::{content_index, sha256_file};
-use crate::data::{read_csv, LoadOptions};
+use crate::data::read_csv;
 use crate::error::{Error, Result};
 use clap::Args;
 use std::path::PathBuf;
@@ -11,14 +11,9 @@ use std::path::PathBuf;
 pub struct FingerprintArgs {
     /// The CSV file.
     pub data: PathBuf,
-    /// Cell texts that mean "missing", as for `analyze` (they decide the parsed content).
-    #[arg(
-        long,
-        value_name = "TOKENS",
-        default_value = ",NA,NaN,null",
-        allow_hyphen_values = true
-    )]
-    pub missing_tokens: String,
+    /// How the file is read, as for `analyze` (it decides the parsed content).
+    #[command(flatten)]
+    pub reader: super::reader::ReaderArgs,
     /// Print JSON instead of text.
     #[arg(long)]
     pub json: bool,
@@ -26,7 +21,7 @@ pub struct FingerprintArgs {
 
 /// Runs `fingerprint`.
 pub fn run(args: FingerprintArgs) -> Result<()> {
-    let options = LoadOptions::from_token_list(&args.missing_tokens);
+    let options = args.reader.load_options()?;
     let table = read_csv(&args.data, &options)?;
     let (bytes, size) = sha256_file(&args.data)?;
     let content = content_index(&table);
@@ -38,7 +33,7 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
             "content_sha256": content.sha256,
             "rows": content.rows,
             "columns": content.columns.len(),
-            "missing_tokens": options.missing_tokens,
+            "reader": options,
         });
         let text = serde_json::to_string_pretty(&value)
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;

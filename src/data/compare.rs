@@ -161,8 +161,9 @@ fn first_row_difference(
     let line = line_of(start).unwrap_or(0);
     let place = match columns.as_slice() {
         [j] => {
-            let value =
-                table.columns[*j][start].map_or_else(|| "missing".to_string(), |v| format!("{v}"));
+            let value = table
+                .cell(*j, start)
+                .map_or_else(|| "missing".to_string(), |v| format!("{v}"));
             format!(
                 "first at data row {} (line {line}), column '{}', where the received file holds {value}",
                 start + 1,
@@ -192,15 +193,13 @@ mod tests {
     use crate::data::fingerprint::content_index;
 
     fn table(names: &[&str], rows: &[Vec<f64>]) -> RawTable {
-        RawTable {
-            file: "t.csv".into(),
-            names: names.iter().map(|s| s.to_string()).collect(),
-            columns: (0..names.len())
+        RawTable::from_cells(
+            "t.csv",
+            names.iter().map(|s| s.to_string()).collect(),
+            (0..names.len())
                 .map(|j| rows.iter().map(|r| Some(r[j])).collect())
                 .collect(),
-            lines: (0..rows.len() as u64).map(|r| r + 2).collect(),
-            header_line: 1,
-        }
+        )
     }
 
     fn rows(n: usize) -> Vec<Vec<f64>> {

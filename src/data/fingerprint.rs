@@ -108,7 +108,7 @@ pub fn content_index(raw: &RawTable) -> ContentIndex {
     for r in 0..n_rows {
         let mut row = Sha256::new();
         for (j, block) in blocks.iter_mut().enumerate() {
-            let (bytes, len) = cell_bytes(raw.columns[j][r]);
+            let (bytes, len) = cell_bytes(raw.cell(j, r));
             whole.update(&bytes[..len]);
             row.update(&bytes[..len]);
             block.update(&bytes[..len]);
@@ -147,15 +147,13 @@ mod tests {
     use super::*;
 
     fn raw(names: &[&str], rows: &[&[Option<f64>]]) -> RawTable {
-        RawTable {
-            file: "t.csv".into(),
-            names: names.iter().map(|s| s.to_string()).collect(),
-            columns: (0..names.len())
+        RawTable::from_cells(
+            "t.csv",
+            names.iter().map(|s| s.to_string()).collect(),
+            (0..names.len())
                 .map(|j| rows.iter().map(|r| r[j]).collect())
                 .collect(),
-            lines: (0..rows.len() as u64).map(|r| r + 2).collect(),
-            header_line: 1,
-        }
+        )
     }
 
     #[test]

@@ -1,26 +1,26 @@
 //! The validated table: named, finite, non-constant numeric columns with no missing values.
 
-use ndarray::{Array2, ShapeBuilder};
+use super::load::MissingPolicy;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
-/// Named numeric columns, stored column-major so that each column is one contiguous slice.
+/// Named numeric columns, each one contiguous vector (moved, not copied, from the reader).
 #[derive(Clone, Debug)]
 pub struct Table {
     names: Vec<String>,
-    values: Array2<f64>,
+    columns: Vec<Vec<f64>>,
 }
 
 impl Table {
     /// Builds a table from columns of equal length. Callers guarantee finiteness.
     pub fn from_columns(names: Vec<String>, columns: Vec<Vec<f64>>) -> Self {
         let rows = columns.first().map_or(0, Vec::len);
-        debug_assert!(columns.iter().all(|c| c.len() == rows));
-        debug_assert_eq!(names.len(), columns.len());
-        let flat: Vec<f64> = columns.into_iter().flatten().collect();
-        let values = Array2::from_shape_vec((rows, names.len()).f(), flat)
-            .expect("column lengths were checked");
-        Table { names, values }
+        assert!(
+            columns.iter().all(|c| c.len() == rows),
+            "columns of equal length"
+        );
+        assert_eq!(names.len(), columns.len(), "one name per column");
+        Table { names, columns }
     }
 
     /// Column names in file order.
@@ -30,12 +30,12 @@ impl Table {
 
     /// Number of rows.
     pub fn n_rows(&self) -> usize {
-        self.values.nrows()
+        self.columns.first().map_or(0, Vec::len)
     }
 
     /// Number of columns.
     pub fn n_cols(&self) -> usize {
-        self.values.ncols()
+        self.columns.len()
     }
 
     /// Position of a column by exact name.
@@ -45,10 +45,7 @@ impl Table {
 
     /// One column as a contiguous slice.
     pub fn column(&self, index: usize) -> &[f64] {
-        self.values
-            .column(index)
-            .to_slice()
-            .expect("column-major storage keeps columns contiguous")
+        &self.columns[index]
     }
 
     /// A new table holding the given rows, in the given order (repeats allowed).
@@ -86,8 +83,26 @@ pub struct DataReport {
     pub missing_by_column: BTreeMap<String, usize>,
     /// Columns excluded because they are constant over the rows used.
     pub constant_columns: Vec<String>,
-    /// Columns excluded by the settings.
+    /// Columns left out by the settings (`--exclude`, or not named by `--candidates`), in file
+    /// order.
     pub excluded_columns: Vec<String>,
     /// The missing-value tokens in force.
     pub missing_tokens: Vec<String>,
+    /// The delimiter the file was read with (the character itself).
+    #[serde(default = "comma")]
+    pub delimiter: String,
+    /// Whether numbers were read with a decimal comma.
+    #[serde(default)]
+    pub decimal_comma: bool,
+    /// What was done with rows missing a used value.
+    #[serde(default)]
+    pub missing_policy: MissingPolicy,
+    /// Columns excluded because they repeat an earlier column (or the target) exactly on the rows
+    /// used: each dropped column with the column it repeats.
+    #[serde(default)]
+    pub duplicate_columns: BTreeMap<String, String>,
+}
+
+fn comma() -> String {
+    ",".to_string()
 }

@@ -186,6 +186,21 @@ pub fn reproduce_command(finding: &Finding) -> String {
     if !s.excluded.is_empty() {
         parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
     }
+    if let Some(named) = &s.candidates_named {
+        parts.push(format!("--candidates {}", shell_quote(&named.join(","))));
+    }
+    let data = &finding.data;
+    match data.delimiter.as_str() {
+        "," => {}
+        "\t" => parts.push("--delimiter tab".to_string()),
+        other => parts.push(format!("--delimiter {}", shell_quote(other))),
+    }
+    if data.decimal_comma {
+        parts.push("--decimal-comma".to_string());
+    }
+    if data.missing_policy != crate::data::MissingPolicy::DropRows {
+        parts.push(format!("--missing {}", data.missing_policy.name()));
+    }
     let tokens = &finding.data.missing_tokens;
     if *tokens != crate::data::LoadOptions::default().missing_tokens {
         // `=` keeps a list that starts with an empty entry (",NA") attached to its flag.

@@ -1,0 +1,381 @@
+//! Records of a delimited text file (RFC 4180: quoted fields, doubled quotes, line breaks inside
+//! quotes), streamed one at a time, with the byte-level checks every line goes through: UTF-8
+//! (a leading byte-order mark, Unicode Standard §23.8, is skipped), one field per column, names.
+
+use super::cells::{is_number_text, one_line, quoted};
+use crate::error::{Error, Result};
+use std::collections::BTreeMap;
+use std::fs::File;
+use std::io::{Read, Seek, SeekFrom};
+use std::path::{Path, PathBuf};
+
+/// The delimiters the reader accepts, with the name `--delimiter` takes for each.
+pub const DELIMITERS: [(u8, &str); 4] = [(b',', ","), (b';', ";"), (b'\t', "tab"), (b'|', "|")];
+
+/// The name of a delimiter in a message: `','`, `';'`, `tab`, `'|'`.
+pub fn delimiter_name(delimiter: u8) -> String {
+    match delimiter {
+        b'\t' => "tab".to_string(),
+        d => format!("'{}'", d as char),
+    }
+}
+
+/// A file read record by record.
+pub struct Records {
+    reader: csv::Reader<File>,
+    record: csv::ByteRecord,
+    path: PathBuf,
+    file: String,
+}
+
+impl Records {
+    /// Opens `path` (shown as `file` in messages) for records separated by `delimiter`.
+    pub fn open(path: &Path, file: &str, delimiter: u8) -> Result<Records> {
+        // Headers are read as an ordinary record so that every line, the first included, goes
+        // through the same byte-level checks. Records end at '\n' only: with the reader's default
+        // CRLF terminator, every record after the first of a CRLF file reports the line before its
+        // own. The '\r' left at the end of the last field is removed with the surrounding spaces.
+        let reader = csv::ReaderBuilder::new()
+            .has_headers(false)
+            .flexible(true)
+            .delimiter(delimiter)
+            .terminator(csv::Terminator::Any(b'\n'))
+            .from_path(path)
+            .map_err(|e| open_error(file, &e))?;
+        Ok(Records {
+            reader,
+            record: csv::ByteRecord::new(),
+            path: path.to_path_buf(),
+            file: file.to_string(),
+        })
+    }
+
+    /// Reads the next record that is not a blank line; `false` at the end of the file.
+    pub fn advance(&mut self) -> Result<bool> {
+        loop {
+            let more = self
+                .reader
+                .read_byte_record(&mut self.record)
+                .map_err(|error| {
+                    let what = match error.kind() {
+                        csv::ErrorKind::Io(e) => {
+                            format!("cannot be read: {}", one_line(&e.to_string()))
+                        }
+                        _ => one_line(&error.to_string()),
+                    };
+                    match error.position() {
+                        Some(p) => {
+                            Error::input(format!("{}, line {}: {what}", self.file, p.line()))
+                        }
+                        None => Error::input(format!("data file '{}' {what}", self.file)),
+                    }
+                })?;
+            let blank = self.record.len() == 1 && self.record[0].trim_ascii().is_empty();
+            if !more || !blank {
+                return Ok(more);
+            }
+        }
+    }
+
+    /// The current record.
+    pub fn record(&self) -> &csv::ByteRecord {
+        &self.record
+    }
+
+    /// The file line on which the current record starts (1-based).
+    pub fn line(&self) -> u64 {
+        self.record.position().map_or(0, |p| p.line())
+    }
+
+    /// The file line on which the next record starts: one past the current record's last line.
+    pub fn next_line(&self) -> u64 {
+        self.reader.position().line()
+    }
+
+    /// Field `j` of the current record as text, or an error naming the byte offset of the first
+    /// byte that is not UTF-8. `place` is the line-and-column prefix of the message.
+    pub fn text(&self, j: usize, place: impl FnOnce() -> String) -> Result<&str> {
+        let bytes = &self.record[j];
+        std::str::from_utf8(bytes).map_err(|_| {
+            let offset = self.first_invalid_byte();
+            let at = offset.map_or(String::new(), |(o, _)| format!(", byte offset {o}"));
+            let shown = offset.map_or(String::new(), |(_, b)| format!(" (byte 0x{b:02X})"));
+            let (hint, binary) = encoding_hint(bytes);
+            // The text of a binary file says nothing to a reader: leave it out.
+            let value = if binary {
+                "the value".to_string()
+            } else {
+                format!(
+                    "the value {}",
+                    quoted(String::from_utf8_lossy(bytes).trim())
+                )
+            };
+            Error::input(format!(
+                "{}{at}: {value} is not valid UTF-8 text{shown}; {hint}",
+                place()
+            ))
+        })
+    }
+
+    /// Offset in the file, and value, of the first byte of the current record that does not
+    /// belong to a UTF-8 sequence. Read afresh from the file: only an error takes this path.
+    fn first_invalid_byte(&self) -> Option<(u64, u8)> {
+        let start = self.record.position()?.byte();
+        let mut file = File::open(&self.path).ok()?;
+        file.seek(SeekFrom::Start(start)).ok()?;
+        let mut pending: Vec<u8> = Vec::new();
+        let mut consumed = start;
+        let mut block = vec![0u8; 1 << 16];
+        loop {
+            let read = file.read(&mut block).ok()?;
+            if read == 0 {
+                return None;
+            }
+            pending.extend_from_slice(&block[..read]);
+            match std::str::from_utf8(&pending) {
+                Ok(_) => {
+                    consumed += pending.len() as u64;
+                    pending.clear();
+                }
+                Err(e) if e.error_len().is_some() => {
+                    let at = e.valid_up_to();
+                    return Some((consumed + at as u64, pending[at]));
+                }
+                Err(e) => {
+                    // An incomplete sequence at the end of the block: keep it for the next one.
+                    let at = e.valid_up_to();
+                    consumed += at as u64;
+                    pending.drain(..at);
+                }
+            }
+        }
+    }
+
+    /// Reads the header from the current record: trimmed, non-empty, distinct UTF-8 names.
+    pub fn header(&self, delimiter: u8) -> Result<Vec<String>> {
+        let line = self.line();
+        let file = &self.file;
+        let mut names = Vec::with_capacity(self.record.len());
+        for j in 0..self.record.len() {
+            let name = self.text(j, || format!("{file}, line {line}, column {}", j + 1))?;
+            if name.contains('\0') {
+                return Err(Error::input(format!(
+                    "{file}, line {line}, column {}: the column name holds zero bytes, as text saved \
+                     as UTF-16 does; save the file as UTF-8",
+                    j + 1
+                )));
+            }
+            let name = name.trim();
+            if name.contains('\r') {
+                return Err(Error::input(format!(
+                    "{file}, line {line}, column {}: the column name {} holds a carriage return: the \
+                     file seems to end its lines with CR alone; save it with LF or CRLF line ends",
+                    j + 1,
+                    quoted(name)
+                )));
+            }
+            names.push(name.to_string());
+        }
+        if let Some(other) = foreign_delimiter(&names, delimiter) {
+            return Err(Error::input(format!(
+                "{file}, line {line}: the header is the single name {} and seems to use {} between \
+                 names, not {}; read it with --delimiter {}",
+                quoted(&names[0]),
+                delimiter_name(other),
+                plural_name(delimiter),
+                flag_value(other)
+            )));
+        }
+        check_names(&names, file, line, delimiter)?;
+        Ok(names)
+    }
+
+    /// A row must have exactly one field per column.
+    pub fn check_width(&self, names: &[String]) -> Result<()> {
+        let record = &self.record;
+        let (fields, width, line) = (record.len(), names.len(), self.line());
+        let file = &self.file;
+        let open_quote = self.open_quote_hint();
+        if fields < width {
+            return Err(Error::input(format!(
+                "{file}, line {line}: the row has {fields} field(s) but the header has {width} \
+                 columns, so column {} has no value; give every row one value per column (an empty \
+                 cell marks a missing value){open_quote}",
+                quoted(&names[fields])
+            )));
+        }
+        if fields > width {
+            let extra = String::from_utf8_lossy(&record[width]);
+            return Err(Error::input(format!(
+                "{file}, line {line}: the row has {fields} fields but the header has {width} \
+                 columns, so the value {} after the last column {} has no column; check for an \
+                 unquoted delimiter inside a value{open_quote}",
+                quoted(extra.trim()),
+                quoted(&names[width - 1])
+            )));
+        }
+        Ok(())
+    }
+
+    /// When a field of the current record holds a line break, the likeliest cause of a bad row is
+    /// a quote that was opened and never closed: say where the value starts and ends.
+    pub fn open_quote_hint(&self) -> String {
+        if !self.record.iter().any(|f| f.contains(&b'\n')) {
+            return String::new();
+        }
+        let last = self.next_line().saturating_sub(1).max(self.line());
+        format!(
+            " (a quoted value runs from line {} to line {last}: check for a quote (\") that is \
+             not closed)",
+            self.line()
+        )
+    }
+}
+
+fn open_error(file: &str, error: &csv::Error) -> Error {
+    let reason = match error.kind() {
+        csv::ErrorKind::Io(e) if e.kind() == std::io::ErrorKind::PermissionDenied => {
+            "permission denied; make it readable (chmod u+r) or copy it somewhere readable"
+                .to_string()
+        }
+        _ => one_line(&error.to_string()),
+    };
+    Error::input(format!("cannot open data file '{file}': {reason}"))
+}
+
+/// What the bytes of a value that is not UTF-8 suggest about the file, and whether they look like
+/// a binary format rather than text in another encoding.
+fn encoding_hint(bytes: &[u8]) -> (&'static str, bool) {
+    if bytes.starts_with(b"\xff\xfe") || bytes.starts_with(b"\xfe\xff") {
+        ("the file looks like UTF-16; save it as UTF-8", true)
+    } else if bytes.starts_with(b"PK\x03\x04") {
+        (
+            "the file looks like a ZIP archive or a spreadsheet workbook; export the sheet as CSV \
+             (UTF-8)",
+            true,
+        )
+    } else if bytes.starts_with(b"\x1f\x8b") {
+        (
+            "the file looks compressed (gzip); decompress it first",
+            true,
+        )
+    } else if bytes.starts_with(b"\xd0\xcf\x11\xe0") {
+        (
+            "the file looks like a legacy spreadsheet workbook; export the sheet as CSV (UTF-8)",
+            true,
+        )
+    } else {
+        (
+            "the file seems to be saved in another encoding (such as Latin-1 or Windows-1252); \
+             save it as UTF-8",
+            false,
+        )
+    }
+}
+
+/// Another accepted delimiter, when the whole header is one name holding it.
+fn foreign_delimiter(names: &[String], delimiter: u8) -> Option<u8> {
+    let [only] = names else { return None };
+    DELIMITERS
+        .iter()
+        .map(|&(d, _)| d)
+        .filter(|&d| d != delimiter)
+        .max_by_key(|&d| only.bytes().filter(|&b| b == d).count())
+        .filter(|&d| only.as_bytes().contains(&d))
+}
+
+fn plural_name(delimiter: u8) -> &'static str {
+    match delimiter {
+        b',' => "commas",
+        b';' => "semicolons",
+        b'\t' => "tabs",
+        _ => "'|' characters",
+    }
+}
+
+/// How to write a delimiter after `--delimiter` in a shell.
+fn flag_value(delimiter: u8) -> &'static str {
+    match delimiter {
+        b',' => "','",
+        b';' => "';'",
+        b'\t' => "tab",
+        _ => "'|'",
+    }
+}
+
+fn check_names(names: &[String], file: &str, line: u64, delimiter: u8) -> Result<()> {
+    let filled: Vec<&String> = names.iter().filter(|n| !n.is_empty()).collect();
+    let numeric =
+        |n: &str| is_number_text(n) || (delimiter != b',' && is_number_text(&n.replace(',', ".")));
+    if !filled.is_empty() && filled.iter().all(|n| numeric(n)) {
+        let j = names.iter().position(|n| !n.is_empty()).unwrap_or(0);
+        return Err(Error::input(format!(
+            "{file}, line {line}, column {}: the first row holds the number {} where a column name \
+             is expected; add a header row of column names",
+            j + 1,
+            quoted(&names[j])
+        )));
+    }
+    if let Some(j) = names.iter().position(String::is_empty) {
+        let hint = if j + 1 == names.len() && names.len() > 1 {
+            format!(
+                " (is there a {} at the end of the header?)",
+                delimiter_name(delimiter)
+            )
+        } else {
+            String::new()
+        };
+        return Err(Error::input(format!(
+            "{file}, line {line}, column {}: the column name is empty; give every column a name{hint}",
+            j + 1
+        )));
+    }
+    let mut seen = BTreeMap::new();
+    for (j, name) in names.iter().enumerate() {
+        if let Some(first) = seen.insert(name.as_str(), j) {
+            return Err(Error::input(format!(
+                "{file}, line {line}: the column name {} appears twice (columns {} and {}); give \
+                 every column its own name",
+                quoted(name),
+                first + 1,
+                j + 1
+            )));
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn names(list: &[&str]) -> Vec<String> {
+        list.iter().map(|s| s.to_string()).collect()
+    }
+
+    #[test]
+    fn a_header_of_one_name_holding_another_delimiter_is_recognised() {
+        assert_eq!(foreign_delimiter(&names(&["a;b;c"]), b','), Some(b';'));
+        assert_eq!(foreign_delimiter(&names(&["a\tb"]), b','), Some(b'\t'));
+        assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), b';'), Some(b','));
+        assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), b','), None);
+        assert_eq!(foreign_delimiter(&names(&["plain"]), b','), None);
+    }
+
+    #[test]
+    fn encoding_hints_name_the_likely_format() {
+        assert!(encoding_hint(b"\xff\xfex\0").0.contains("UTF-16"));
+        assert!(encoding_hint(b"PK\x03\x04rest").0.contains("spreadsheet"));
+        assert!(encoding_hint(b"\x1f\x8b\x08").0.contains("gzip"));
+        let (hint, binary) = encoding_hint(b"caf\xe9");
+        assert!(hint.contains("Latin-1") && !binary);
+    }
+
+    #[test]
+    fn unreadable_file_message_says_what_to_do() {
+        let error = csv::Error::from(std::io::Error::from(std::io::ErrorKind::PermissionDenied));
+        let message = open_error("locked.csv", &error).to_string();
+        assert!(message.contains("'locked.csv'"), "{message}");
+        assert!(message.contains("permission denied"), "{message}");
+    }
+}

@@ -1,0 +1,166 @@
+//! Helpers shared by the integration tests that run the real binary on files (each test file uses
+//! a part of them).
+#![allow(dead_code)]
+
+use std::ffi::OsStr;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+/// A fresh folder under the system temp dir, removed when dropped.
+pub struct Scratch {
+    pub dir: PathBuf,
+}
+
+impl Scratch {
+    pub fn new(test: &str) -> Scratch {
+        static COUNTER: AtomicUsize = AtomicUsize::new(0);
+        let n = COUNTER.fetch_add(1, Ordering::Relaxed);
+        let dir = std::env::temp_dir().join(format!("forebear-{test}-{}-{n}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        Scratch { dir }
+    }
+
+    pub fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
+        let path = self.dir.join(name);
+        std::fs::write(&path, bytes).unwrap();
+        path
+    }
+
+    pub fn path(&self, name: &str) -> PathBuf {
+        self.dir.join(name)
+    }
+
+    /// Names in the folder, sorted (hidden staging folders included).
+    pub fn entries(&self) -> Vec<String> {
+        let mut names: Vec<String> = std::fs::read_dir(&self.dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.dir);
+    }
+}
+
+/// Runs the forebear binary with `args`.
+pub fn run<I, S>(args: I) -> Output
+where
+    I: IntoIterator<Item = S>,
+    S: AsRef<OsStr>,
+{
+    Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+/// `forebear analyze DATA --target TARGET --out SCRATCH/out --replicates 0 EXTRA...` (resampling
+/// only when `extra` asks for it).
+pub fn analyze(scratch: &Scratch, data: &Path, target: &str, extra: &[&str]) -> Output {
+    let out = scratch.path("out");
+    let mut args: Vec<&OsStr> = vec![OsStr::new("analyze"), data.as_os_str()];
+    args.extend([
+        OsStr::new("--target"),
+        OsStr::new(target),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    if !extra.contains(&"--replicates") {
+        args.extend([OsStr::new("--replicates"), OsStr::new("0")]);
+    }
+    args.extend(extra.iter().map(OsStr::new));
+    run(args)
+}
+
+pub fn stderr_of(output: &Output) -> String {
+    String::from_utf8_lossy(&output.stderr).into_owned()
+}
+
+/// Asserts the contract for bad input: exit 2, one line starting with "forebear: error:", every
+/// `needle` present, no panic, nothing on stdout, and nothing in the scratch folder but `inputs`.
+pub fn assert_input_error(
+    output: &Output,
+    scratch: &Scratch,
+    inputs: &[&str],
+    needles: &[&str],
+) -> String {
+    let stderr = stderr_of(output);
+    assert_eq!(
+        output.status.code(),
+        Some(2),
+        "exit code 2 expected; stderr: {stderr}"
+    );
+    assert!(!stderr.contains("panicked"), "no panic: {stderr}");
+    let lines: Vec<&str> = stderr.lines().collect();
+    assert_eq!(lines.len(), 1, "one line on stderr: {stderr:?}");
+    let line = lines[0];
+    assert!(line.starts_with("forebear: error: "), "prefix: {line}");
+    for needle in needles {
+        assert!(
+            line.contains(needle),
+            "stderr should mention {needle:?}: {line}"
+        );
+    }
+    assert!(output.stdout.is_empty(), "nothing on stdout");
+    let mut expected: Vec<String> = inputs.iter().map(|s| s.to_string()).collect();
+    expected.sort();
+    assert_eq!(
+        scratch.entries(),
+        expected,
+        "no output or staging folder left behind"
+    );
+    line.to_string()
+}
+
+pub fn assert_success(output: &Output) {
+    assert_eq!(
+        output.status.code(),
+        Some(0),
+        "stderr: {}",
+        stderr_of(output)
+    );
+}
+
+pub fn result_json(dir: &Path) -> serde_json::Value {
+    let text = std::fs::read_to_string(dir.join("result.json")).expect("result.json exists");
+    serde_json::from_str(&text).expect("result.json parses")
+}
+
+/// An invented table of `rows` rows as columns x1, x2, y, z: y depends on x1 and x2, z is
+/// unrelated. Deterministic (xorshift, Marsaglia 2003).
+pub fn table(rows: usize) -> Vec<[f64; 4]> {
+    let mut state: u64 = 0x2545_f491_4f6c_dd1d;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64
+    };
+    (0..rows)
+        .map(|_| {
+            let (x1, x2, z, e) = (next(), next(), next(), next());
+            [x1, x2, x1 + x2 * x2 + 0.1 * e, z]
+        })
+        .collect()
+}
+
+/// `rows` as text with `delimiter` between values and `point` as decimal separator.
+pub fn delimited(rows: &[[f64; 4]], delimiter: &str, point: &str) -> String {
+    let mut text = ["x1", "x2", "y", "z"].join(delimiter) + "\n";
+    for r in rows {
+        let cells: Vec<String> = r
+            .iter()
+            .map(|v| format!("{v:.4}").replace('.', point))
+            .collect();
+        text.push_str(&cells.join(delimiter));
+        text.push('\n');
+    }
+    text
+}
