@@ -1,0 +1,304 @@
+//! The checks that need no re-run: the manifest's seal, the dossier's files, the settings, the
+//! data against both fingerprints, and the method version.
+
+use super::report::{check, Check, Status};
+use super::rerun::SHOWN_DIFFERENCES;
+use super::Request;
+use crate::data::compare::describe_difference;
+use crate::data::fingerprint::{content_index, sha256_text};
+use crate::data::{read_csv, LoadOptions};
+use crate::error::{Error, Result};
+use crate::finding::{Finding, METHOD_VERSION};
+use crate::manifest::{differences, Manifest, MANIFEST_FILE};
+use crate::study::Study;
+use std::path::Path;
+
+pub(super) fn read_manifest(dir: &Path) -> Result<Manifest> {
+    if !dir.is_dir() {
+        return Err(Error::input(format!(
+            "the dossier folder '{}' does not exist or is not a folder",
+            dir.display()
+        )));
+    }
+    let path = dir.join(MANIFEST_FILE);
+    let text = std::fs::read_to_string(&path).map_err(|e| {
+        Error::input(format!(
+            "'{}' cannot be read ({e}); verify needs the dossier folder that `forebear analyze` \
+             wrote, with its {MANIFEST_FILE}",
+            path.display()
+        ))
+    })?;
+    let manifest: Manifest = serde_json::from_str(&text).map_err(|e| {
+        Error::Mismatch(format!(
+            "{}, line {}, column {}: not a forebear manifest ({e}); it was damaged or edited, so \
+             the dossier cannot be verified",
+            path.display(),
+            e.line(),
+            e.column()
+        ))
+    })?;
+    Ok(manifest)
+}
+
+pub(super) fn check_seal(manifest: &Manifest) -> Check {
+    let computed = manifest.computed_seal();
+    if computed == manifest.seal {
+        check(
+            "manifest",
+            Status::Pass,
+            vec![format!(
+                "manifest.json is intact (seal {})",
+                short(&manifest.seal)
+            )],
+        )
+    } else {
+        check(
+            "manifest",
+            Status::Fail,
+            vec![format!(
+                "manifest.json was edited after generation: its seal is {} but its content hashes \
+                 to {}",
+                short(&manifest.seal),
+                short(&computed)
+            )],
+        )
+    }
+}
+
+/// Checks every file the manifest lists; returns the recorded finding when `result.json` reads.
+pub(super) fn check_files(dir: &Path, manifest: &Manifest) -> (Check, Option<Finding>) {
+    let mut problems = Vec::new();
+    for (name, recorded) in &manifest.files {
+        match std::fs::read(dir.join(name)) {
+            Err(e) => problems.push(format!("{name} is missing or unreadable ({e})")),
+            Ok(bytes) => {
+                let actual = sha256_bytes(&bytes);
+                if &actual != recorded {
+                    problems.push(format!(
+                        "{name} was edited after generation (SHA-256 recorded {}, now {})",
+                        short(recorded),
+                        short(&actual)
+                    ));
+                }
+            }
+        }
+    }
+    let recorded = std::fs::read_to_string(dir.join("result.json"))
+        .ok()
+        .and_then(|text| serde_json::from_str::<Finding>(&text).ok());
+    if recorded.is_none() && manifest.files.contains_key("result.json") {
+        problems.push("result.json does not read as a forebear result".into());
+    }
+    let names: Vec<&str> = manifest.files.keys().map(String::as_str).collect();
+    let status = if problems.is_empty() {
+        Status::Pass
+    } else {
+        Status::Fail
+    };
+    let details = if problems.is_empty() {
+        vec![format!(
+            "{} files match the manifest: {}",
+            names.len(),
+            names.join(", ")
+        )]
+    } else {
+        problems
+    };
+    (check("dossier files", status, details), recorded)
+}
+
+fn sha256_bytes(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    crate::data::fingerprint::hex(&sha2::Sha256::digest(bytes))
+}
+
+pub(super) fn check_settings(manifest: &Manifest, recorded: Option<&Finding>) -> Check {
+    let mut problems = Vec::new();
+    let computed = sha256_text(&crate::manifest::canonical_json(
+        &manifest.settings.canonical,
+    ));
+    if computed != manifest.settings.sha256 {
+        problems.push(format!(
+            "the settings in manifest.json were changed: they hash to {}, but {} is recorded",
+            short(&computed),
+            short(&manifest.settings.sha256)
+        ));
+    }
+    if let Some(finding) = recorded {
+        let from_result = crate::manifest::settings_value(finding);
+        for d in differences(
+            &from_result,
+            &manifest.settings.canonical,
+            &[],
+            &[],
+            SHOWN_DIFFERENCES,
+        ) {
+            problems.push(format!(
+                "settings differ between result.json and manifest.json at {}: {} in result.json, {} \
+                 in manifest.json",
+                d.pointer, d.recorded, d.recomputed
+            ));
+        }
+        if finding.digest != manifest.results.digest {
+            problems.push(format!(
+                "result.json's digest {} is not the manifest's {}",
+                short(&finding.digest),
+                short(&manifest.results.digest)
+            ));
+        }
+    }
+    if problems.is_empty() {
+        check(
+            "settings",
+            Status::Pass,
+            vec![format!(
+                "settings hash {} matches; seed {}",
+                short(&manifest.settings.sha256),
+                manifest
+                    .settings
+                    .canonical
+                    .pointer("/study/seed")
+                    .map_or_else(|| "?".into(), |s| s.to_string())
+            )],
+        )
+    } else {
+        check("settings", Status::Fail, problems)
+    }
+}
+
+/// The reader options recorded in the manifest.
+pub(super) fn recorded_reader(manifest: &Manifest) -> std::result::Result<LoadOptions, String> {
+    let reader = manifest
+        .settings
+        .canonical
+        .get("reader")
+        .cloned()
+        .unwrap_or_default();
+    serde_json::from_value(reader)
+        .map_err(|e| format!("the recorded reader options do not read: {e}"))
+}
+
+pub(super) fn recorded_study(manifest: &Manifest) -> std::result::Result<Study, String> {
+    let study = manifest
+        .settings
+        .canonical
+        .get("study")
+        .cloned()
+        .unwrap_or_default();
+    serde_json::from_value(study)
+        .map_err(|e| format!("the recorded study settings do not read: {e}"))
+}
+
+pub(super) fn check_data(
+    request: &Request,
+    manifest: &Manifest,
+    bytes_sha256: &str,
+) -> Result<Check> {
+    let recorded = &manifest.data;
+    let shape = format!(
+        "{} data rows × {} columns",
+        recorded.content.rows,
+        recorded.content.columns.len()
+    );
+    if bytes_sha256 == recorded.sha256 {
+        return Ok(check(
+            "data",
+            Status::Pass,
+            vec![format!(
+                "bytes identical to the analysed file '{}' (SHA-256 {}; {shape})",
+                recorded.file,
+                short(bytes_sha256)
+            )],
+        ));
+    }
+    let options = match recorded_reader(manifest) {
+        Ok(options) => options,
+        Err(why) => return Ok(check("data", Status::Fail, vec![why])),
+    };
+    let bytes_differ = format!(
+        "the bytes differ from the analysed file '{}' (SHA-256 recorded {}, received {})",
+        recorded.file,
+        short(&recorded.sha256),
+        short(bytes_sha256)
+    );
+    let table = match read_csv(&request.data, &options) {
+        Ok(table) => table,
+        Err(e) => {
+            return Ok(check(
+                "data",
+                Status::Fail,
+                vec![
+                    bytes_differ,
+                    format!("the received file cannot be read the way the analysed file was: {e}"),
+                ],
+            ))
+        }
+    };
+    let received = content_index(&table);
+    if received.sha256 == recorded.content.sha256 {
+        return Ok(check(
+            "data",
+            Status::Note,
+            vec![
+                bytes_differ,
+                format!(
+                    "same content, different bytes: the parsed column names and values are \
+                     identical (content SHA-256 {}; {shape}), so the file was re-saved (line endings, \
+                     quoting or number formatting) without changing the data",
+                    short(&received.sha256)
+                ),
+            ],
+        ));
+    }
+    let mut details = vec![
+        bytes_differ,
+        format!(
+            "different data: the content SHA-256 is {}, the analysed file's {}",
+            short(&received.sha256),
+            short(&recorded.content.sha256)
+        ),
+    ];
+    details.extend(describe_difference(&recorded.content, &received, &table));
+    Ok(check("data", Status::Fail, details))
+}
+
+pub(super) fn check_tool(manifest: &Manifest, allow_other_version: bool) -> Check {
+    let this = crate::finding::ToolInfo::current();
+    let theirs = &manifest.tool;
+    if theirs.method == METHOD_VERSION {
+        let same_build = theirs.version == this.version && theirs.build == this.build;
+        let details = vec![if same_build {
+            format!("same method version {METHOD_VERSION}, and the same build")
+        } else {
+            format!(
+                "same method version {METHOD_VERSION}; another build (dossier: {}; this: {})",
+                theirs.describe(),
+                this.describe()
+            )
+        }];
+        return check("tool", Status::Pass, details);
+    }
+    let mut details = vec![format!(
+        "the dossier was produced by {} with method version '{}', but this is {} with method \
+         version {METHOD_VERSION}",
+        theirs.describe(),
+        theirs.method,
+        this.describe()
+    )];
+    if allow_other_version {
+        details.push(
+            "--allow-other-version: re-running anyway; every difference is listed below".into(),
+        );
+    } else {
+        details.push(format!(
+            "install forebear {} to verify this dossier, or pass --allow-other-version to see \
+             every difference this version finds",
+            theirs.version
+        ));
+    }
+    check("tool", Status::Fail, details)
+}
+
+pub(super) fn short(hash: &str) -> String {
+    hash.chars().take(16).collect()
+}

@@ -1,0 +1,98 @@
+//! Verification of a dossier against the data a reviewer received: the dossier's files against
+//! its manifest, the data against both fingerprints, the method version, and a re-run of the
+//! analysis whose digests are compared with the recorded ones. Every check says what it found; the
+//! verdict is `VERIFIED` only when every check passed (notes allowed).
+
+mod checks;
+mod report;
+mod rerun;
+
+pub use report::{render_text, Check, Report, SpotCheck, Status, REPORT_SCHEMA};
+pub use rerun::sample_replicates;
+
+use crate::analysis::Progress;
+use crate::data::fingerprint::sha256_file;
+use crate::error::Result;
+use checks::{check_data, check_files, check_seal, check_settings, check_tool, read_manifest};
+use report::check;
+use std::path::PathBuf;
+
+/// What to verify and how.
+#[derive(Clone, Debug)]
+pub struct Request {
+    /// The dossier folder.
+    pub dir: PathBuf,
+    /// The data file the reviewer received.
+    pub data: PathBuf,
+    /// Re-run only this many replicates (a spot check) besides the full-data search.
+    pub replicates_sample: Option<u32>,
+    /// Seed of the spot check's choice of replicates (default: derived from the manifest's seal).
+    pub sample_seed: Option<u64>,
+    /// Re-run even when the dossier was made by another method version, and list every difference.
+    pub allow_other_version: bool,
+    /// The verify command line, for nothing but the record.
+    pub command_line: Vec<String>,
+}
+
+/// Runs every check. Errors are bad usage or unreadable input (exit code 2); a mismatch is a
+/// report whose verdict is `MISMATCH`.
+pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
+    let manifest = read_manifest(&request.dir)?;
+    let data_bytes = sha256_file(&request.data)?;
+    let mut checks = Vec::new();
+    checks.push(check_seal(&manifest));
+    let (files, recorded) = check_files(&request.dir, &manifest);
+    checks.push(files);
+    checks.push(check_settings(&manifest, recorded.as_ref()));
+    let data = check_data(request, &manifest, &data_bytes.0)?;
+    let data_ok = data.status != Status::Fail;
+    checks.push(data);
+    let tool = check_tool(&manifest, request.allow_other_version);
+    let tool_ok = tool.status != Status::Fail;
+    checks.push(tool);
+    let mut spot_check = None;
+    if data_ok && (tool_ok || request.allow_other_version) {
+        let (rerun, spot) = rerun::rerun(request, &manifest, recorded.as_ref(), progress);
+        spot_check = spot;
+        checks.push(rerun);
+    } else {
+        let why = if data_ok {
+            "the dossier was made by another method version"
+        } else {
+            "the data differ from the analysed data"
+        };
+        checks.push(check(
+            "re-run",
+            Status::Skipped,
+            vec![format!("not run: {why}")],
+        ));
+    }
+    let verified = checks
+        .iter()
+        .all(|c| matches!(c.status, Status::Pass | Status::Note));
+    Ok(Report {
+        schema: REPORT_SCHEMA.into(),
+        dossier: request.dir.display().to_string(),
+        data: request.data.display().to_string(),
+        verified_by: crate::finding::ToolInfo::current().describe(),
+        produced_by: manifest.tool.describe(),
+        checks,
+        spot_check,
+        verdict: if verified { "VERIFIED" } else { "MISMATCH" }.into(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn spot_check_samples_distinct_replicates_reproducibly() {
+        let a = sample_replicates(100, 7, 42);
+        assert_eq!(a, sample_replicates(100, 7, 42));
+        assert_eq!(a.len(), 7);
+        assert!(a.windows(2).all(|w| w[0] < w[1]) && a.iter().all(|&k| k < 100));
+        assert_ne!(a, sample_replicates(100, 7, 43));
+        assert_eq!(sample_replicates(5, 9, 1), vec![0, 1, 2, 3, 4]);
+    }
+}

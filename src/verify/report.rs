@@ -1,0 +1,108 @@
+//! The verification report: one check per step, the verdict, and its text for a reviewer.
+
+use serde::Serialize;
+
+/// Version of the verification report layout (`verify --json`).
+pub const REPORT_SCHEMA: &str = "forebear.verification/1";
+
+/// The result of one check.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Status {
+    /// Matches.
+    Pass,
+    /// Matches, with something the reviewer should know.
+    Note,
+    /// Does not match.
+    Fail,
+    /// Not run because an earlier check failed.
+    Skipped,
+}
+
+/// One check and what it found.
+#[derive(Clone, Debug, Serialize)]
+pub struct Check {
+    /// What was checked.
+    pub name: String,
+    /// The finding.
+    pub status: Status,
+    /// Sentences for the reviewer.
+    pub details: Vec<String>,
+}
+
+/// Which replicates a spot check re-ran.
+#[derive(Clone, Debug, Serialize)]
+pub struct SpotCheck {
+    /// The replicates re-run, ascending.
+    pub replicates: Vec<u32>,
+    /// The number of replicates in the plan.
+    pub of: u32,
+    /// The seed that chose them.
+    pub sample_seed: u64,
+}
+
+/// The verification report.
+#[derive(Clone, Debug, Serialize)]
+pub struct Report {
+    /// Layout version.
+    pub schema: String,
+    /// The dossier folder as given.
+    pub dossier: String,
+    /// The data file as given.
+    pub data: String,
+    /// The build that verified.
+    pub verified_by: String,
+    /// The build that produced the dossier.
+    pub produced_by: String,
+    /// Every check in order.
+    pub checks: Vec<Check>,
+    /// Set when only some replicates were re-run.
+    pub spot_check: Option<SpotCheck>,
+    /// `VERIFIED` or `MISMATCH`.
+    pub verdict: String,
+}
+
+impl Report {
+    /// Whether every check passed.
+    pub fn verified(&self) -> bool {
+        self.verdict == "VERIFIED"
+    }
+}
+
+pub(super) fn check(name: &str, status: Status, details: Vec<String>) -> Check {
+    Check {
+        name: name.into(),
+        status,
+        details,
+    }
+}
+
+/// The report as text for a reviewer to paste: one block per check, the verdict on the last line.
+pub fn render_text(report: &Report) -> String {
+    let mut out = format!(
+        "forebear verification of '{}' against '{}'\nproduced by {}\nverified by {}\n\n",
+        report.dossier, report.data, report.produced_by, report.verified_by
+    );
+    for c in &report.checks {
+        let label = match c.status {
+            Status::Pass => "ok",
+            Status::Note => "ok (note)",
+            Status::Fail => "MISMATCH",
+            Status::Skipped => "skipped",
+        };
+        out.push_str(&format!("{:<14} {label}\n", c.name));
+        for d in &c.details {
+            out.push_str(&format!("    {}\n", d.replace('\n', " ")));
+        }
+    }
+    if let Some(s) = &report.spot_check {
+        out.push_str(&format!(
+            "\nSPOT CHECK ONLY: {} of {} replicates re-run (sample seed {}); a full verification re-runs all.\n",
+            s.replicates.len(),
+            s.of,
+            s.sample_seed
+        ));
+    }
+    out.push_str(&format!("\n{}\n", report.verdict));
+    out
+}
