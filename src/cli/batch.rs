@@ -19,7 +19,7 @@ use std::time::Instant;
 pub struct BatchArgs {
     /// The plan file (TOML; see examples/nightly-plan.toml).
     pub plan: PathBuf,
-    /// Output folder: DIR/<study>/<target>/ dossiers, DIR/index.html, DIR/index.md,
+    /// Output folder: DIR/STUDY/TARGET/ dossiers, DIR/index.html, DIR/index.md,
     /// DIR/summary.json.
     #[arg(long, default_value = "forebear-batch")]
     pub out: PathBuf,

@@ -53,6 +53,7 @@ const SIGNED_FILES: [&str; 2] = ["result.json", "partial.json"];
 /// any point leaves no partial output. An existing `dir` is replaced only if it is empty, or if it
 /// holds a previous forebear result and nothing else and `force` is set (see
 /// [`check_output_folder`]).
+///
 /// The manifest (`manifest.json`) is written with them and holds the SHA-256 of every other file.
 pub fn write_dossier(analysed: &Analysed, dir: &Path, force: bool) -> Result<()> {
     let mut files = render_all(&analysed.finding)?;

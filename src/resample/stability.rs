@@ -69,7 +69,7 @@ pub struct ErrorBound {
     pub p: usize,
     /// The threshold π_thr.
     pub threshold: f64,
-    /// E[V] ≤ q² / ((2π_thr − 1)·p); `None` when p = 0.
+    /// E\[V\] ≤ q² / ((2π_thr − 1)·p); `None` when p = 0.
     pub expected_false_members: Option<f64>,
     /// The conditions under which the bound holds.
     pub assumptions: Vec<String>,
@@ -329,7 +329,7 @@ fn spread(full_trace: &[Step], records: &[&ReplicateRecord]) -> Vec<StepSpread> 
         .collect()
 }
 
-/// Meinshausen and Bühlmann (JRSS-B 2010), Theorem 1: E[V] ≤ q² / ((2π_thr − 1)·p) for
+/// Meinshausen and Bühlmann (JRSS-B 2010), Theorem 1: E\[V\] ≤ q² / ((2π_thr − 1)·p) for
 /// π_thr ∈ (1/2, 1], with q the expected number of selected variables per replicate.
 pub fn error_bound(q: f64, p: usize, threshold: f64) -> ErrorBound {
     ErrorBound {
