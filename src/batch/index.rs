@@ -7,7 +7,6 @@ use super::drift::{sets, Change};
 use super::{Entry, Status, Summary};
 use crate::error::{Error, Result};
 use crate::report::html::CONTENT_SECURITY_POLICY;
-use crate::report::markdown::escape_markdown;
 use minijinja::value::Serde;
 use minijinja::{context, Environment, Value};
 use serde::Serialize;
@@ -128,18 +127,7 @@ fn page_context(summary: &Summary) -> Value {
 /// `index.md`.
 pub fn render_markdown(summary: &Summary) -> Result<String> {
     let mut env = Environment::new();
-    syntax(&mut env);
-    env.set_formatter(|out, _state, value| {
-        let text = if value.is_safe() {
-            value.to_string()
-        } else if value.is_none() || value.is_undefined() {
-            "—".to_string()
-        } else {
-            escape_markdown(&value.to_string())
-        };
-        out.write_str(&text)
-            .map_err(|e| minijinja::Error::new(minijinja::ErrorKind::WriteFailure, e.to_string()))
-    });
+    crate::report::markdown::markdown_environment(&mut env);
     let text = render(env, "batch-index.md", MARKDOWN_TEMPLATE, summary)?;
     Ok(format!("{}\n", text.trim_end()))
 }
@@ -147,21 +135,10 @@ pub fn render_markdown(summary: &Summary) -> Result<String> {
 /// `index.html`.
 pub fn render_html(summary: &Summary) -> Result<String> {
     let mut env = Environment::new();
-    syntax(&mut env);
+    crate::report::markdown::template_syntax(&mut env);
     env.add_global("css", Value::from_safe_string(CSS.to_string()));
     env.add_global("csp", CONTENT_SECURITY_POLICY);
     render(env, "batch-index.html", HTML_TEMPLATE, summary)
-}
-
-fn syntax(env: &mut Environment) {
-    env.set_syntax(
-        minijinja::syntax::SyntaxConfig::builder()
-            .trim_blocks(true)
-            .lstrip_blocks(true)
-            .keep_trailing_newline(true)
-            .build()
-            .expect("static syntax settings"),
-    );
 }
 
 fn render(

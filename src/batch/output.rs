@@ -14,25 +14,9 @@ use std::path::{Path, PathBuf};
 /// the schema `forebear.batch/1`, and every other entry is an index file or a study folder that
 /// summary lists. Anything else is refused even with `force`, since replacing would delete it.
 pub fn check_output(dir: &Path, force: bool) -> Result<()> {
-    if dir.file_name().is_none() {
-        return Err(Error::input(format!(
-            "the output folder '{}' has no name of its own; give --out a new folder such as 'nightly'",
-            dir.display()
-        )));
-    }
-    if !dir.exists() {
+    let Some(entries) = crate::report::existing_entries(dir, "nightly")? else {
         return Ok(());
-    }
-    if !dir.is_dir() {
-        return Err(Error::input(format!(
-            "the output path '{}' exists and is not a folder; choose another --out",
-            dir.display()
-        )));
-    }
-    let entries = list(dir)?;
-    if entries.is_empty() {
-        return Ok(());
-    }
+    };
     let refuse = |why: String| {
         Err(Error::input(format!(
             "the output folder '{}' {why}, which replacing the folder would delete; choose another \
@@ -61,15 +45,6 @@ pub fn check_output(dir: &Path, force: bool) -> Result<()> {
         )));
     }
     Ok(())
-}
-
-fn list(dir: &Path) -> Result<Vec<String>> {
-    std::fs::read_dir(dir)
-        .and_then(|d| {
-            d.map(|e| e.map(|e| e.file_name().to_string_lossy().into_owned()))
-                .collect()
-        })
-        .map_err(|e| Error::input(format!("cannot read the folder '{}': {e}", dir.display())))
 }
 
 /// Reads `dir/summary.json` of a former batch output, with the SHA-256 of its text. `flag` names

@@ -50,25 +50,7 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
 
 fn environment() -> Result<Environment<'static>> {
     let mut env = Environment::new();
-    env.set_syntax(
-        minijinja::syntax::SyntaxConfig::builder()
-            .trim_blocks(true)
-            .lstrip_blocks(true)
-            .keep_trailing_newline(true)
-            .build()
-            .expect("static syntax settings"),
-    );
-    env.set_formatter(|out, _state, value| {
-        let text = if value.is_safe() {
-            value.to_string()
-        } else if value.is_none() || value.is_undefined() {
-            "—".to_string()
-        } else {
-            escape_markdown(&value.to_string())
-        };
-        out.write_str(&text)
-            .map_err(|e| minijinja::Error::new(minijinja::ErrorKind::WriteFailure, e.to_string()))
-    });
+    markdown_environment(&mut env);
     env.add_filter("fixed", fixed);
     env.add_filter("tn", |v: f64| fixed(v, Some(3)));
     env.add_filter("pval", p_value);
@@ -137,6 +119,35 @@ fn names(list: Vec<String>) -> String {
     } else {
         list.join(", ")
     }
+}
+
+/// The template syntax of every output: block tags leave no blank lines behind.
+pub fn template_syntax(env: &mut Environment<'_>) {
+    env.set_syntax(
+        minijinja::syntax::SyntaxConfig::builder()
+            .trim_blocks(true)
+            .lstrip_blocks(true)
+            .keep_trailing_newline(true)
+            .build()
+            .expect("static syntax settings"),
+    );
+}
+
+/// The template settings every Markdown output shares: [`template_syntax`], and every printed
+/// value Markdown-escaped unless marked safe (none and undefined print as a dash).
+pub fn markdown_environment(env: &mut Environment<'_>) {
+    template_syntax(env);
+    env.set_formatter(|out, _state, value| {
+        let text = if value.is_safe() {
+            value.to_string()
+        } else if value.is_none() || value.is_undefined() {
+            "—".to_string()
+        } else {
+            escape_markdown(&value.to_string())
+        };
+        out.write_str(&text)
+            .map_err(|e| minijinja::Error::new(minijinja::ErrorKind::WriteFailure, e.to_string()))
+    });
 }
 
 /// The UTC day of the analysis (the only run fact in the dossier's text).

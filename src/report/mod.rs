@@ -232,35 +232,9 @@ pub fn check_output_folder(dir: &Path, force: bool) -> Result<()> {
 }
 
 fn check_replaceable(dir: &Path, also_ours: &[&str], force: bool) -> Result<()> {
-    if dir.file_name().is_none() {
-        return Err(Error::input(format!(
-            "the output folder '{}' has no name of its own; give --out a new folder such as 'results'",
-            dir.display()
-        )));
-    }
-    if !dir.exists() {
+    let Some(entries) = existing_entries(dir, "results")? else {
         return Ok(());
-    }
-    if !dir.is_dir() {
-        return Err(Error::input(format!(
-            "the output path '{}' exists and is not a folder; choose another --out",
-            dir.display()
-        )));
-    }
-    let entries: Vec<String> = std::fs::read_dir(dir)
-        .and_then(|d| {
-            d.map(|e| e.map(|e| e.file_name().to_string_lossy().into_owned()))
-                .collect()
-        })
-        .map_err(|e| {
-            Error::input(format!(
-                "cannot read the output folder '{}': {e}",
-                dir.display()
-            ))
-        })?;
-    if entries.is_empty() {
-        return Ok(());
-    }
+    };
     let foreign = entries.iter().find(|name| {
         !DOSSIER_NAMES.contains(&name.as_str()) && !also_ours.contains(&name.as_str())
     });
@@ -288,6 +262,39 @@ fn check_replaceable(dir: &Path, also_ours: &[&str], force: bool) -> Result<()> 
         )));
     }
     Ok(())
+}
+
+/// The entries of an output folder that may be replaced, or `None` when there is nothing to replace
+/// (the folder does not exist or is empty). Refuses a path without a name of its own (`example`
+/// is the folder name suggested instead) and a path that is not a folder.
+pub(crate) fn existing_entries(dir: &Path, example: &str) -> Result<Option<Vec<String>>> {
+    if dir.file_name().is_none() {
+        return Err(Error::input(format!(
+            "the output folder '{}' has no name of its own; give --out a new folder such as '{example}'",
+            dir.display()
+        )));
+    }
+    if !dir.exists() {
+        return Ok(None);
+    }
+    if !dir.is_dir() {
+        return Err(Error::input(format!(
+            "the output path '{}' exists and is not a folder; choose another --out",
+            dir.display()
+        )));
+    }
+    let entries: Vec<String> = std::fs::read_dir(dir)
+        .and_then(|d| {
+            d.map(|e| e.map(|e| e.file_name().to_string_lossy().into_owned()))
+                .collect()
+        })
+        .map_err(|e| {
+            Error::input(format!(
+                "cannot read the output folder '{}': {e}",
+                dir.display()
+            ))
+        })?;
+    Ok((!entries.is_empty()).then_some(entries))
 }
 
 /// Whether `path` is a JSON file that forebear wrote (its `schema` names a forebear layout).
