@@ -80,7 +80,7 @@ pub fn analyze(scratch: &Scratch, data: &Path, target: &str, extra: &[&str]) -> 
 }
 
 pub fn stderr_of(output: &Output) -> String {
-    String::from_utf8_lossy(&output.stderr).into_owned()
+    String::from_utf8(output.stderr.clone()).expect("stderr is UTF-8")
 }
 
 /// Asserts the contract for bad input: exit 2, one line starting with "forebear: error:", every
@@ -108,7 +108,11 @@ pub fn assert_input_error(
             "stderr should mention {needle:?}: {line}"
         );
     }
-    assert!(output.stdout.is_empty(), "nothing on stdout");
+    assert!(
+        output.stdout.is_empty(),
+        "nothing on stdout: {:?}",
+        String::from_utf8_lossy(&output.stdout)
+    );
     let mut expected: Vec<String> = inputs.iter().map(|s| s.to_string()).collect();
     expected.sort();
     assert_eq!(
