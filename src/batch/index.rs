@@ -13,7 +13,10 @@ use serde::Serialize;
 
 const MARKDOWN_TEMPLATE: &str = include_str!("../../templates/batch-index.md");
 const HTML_TEMPLATE: &str = include_str!("../../templates/batch-index.html");
-const CSS: &str = include_str!("../../templates/batch-index.css");
+const CSS: &str = concat!(
+    include_str!("../../templates/palette.css"),
+    include_str!("../../templates/batch-index.css")
+);
 
 /// One row of the index: a (study, target) pair.
 #[derive(Serialize)]

@@ -1,5 +1,5 @@
 //! `dossier.html`: the Markdown dossier turned into HTML with pulldown-cmark, in a self-contained
-//! shell (inline CSS from `templates/dossier.css`, inline SVG figures, no script, no fonts, no
+//! shell (inline CSS from `templates/palette.css` and `templates/dossier.css`, inline SVG figures, no script, no fonts, no
 //! network). Raw HTML in the Markdown is printed as text, never as markup; the only markup not
 //! produced by pulldown-cmark are the figures, put where the template wrote a figure marker (an
 //! HTML comment, which escaped user text cannot form since `<` is always escaped).
@@ -11,7 +11,10 @@ use crate::error::Result;
 use crate::finding::Finding;
 use pulldown_cmark::{CowStr, Event, HeadingLevel, Options, Parser, Tag};
 
-const CSS: &str = include_str!("../../templates/dossier.css");
+const CSS: &str = concat!(
+    include_str!("../../templates/palette.css"),
+    include_str!("../../templates/dossier.css")
+);
 
 /// Level-2 sections (counted from 1) that start a new printed page.
 const PAGE_BREAK_BEFORE: [usize; 6] = [3, 6, 10, 11, 13, 15];
