@@ -123,7 +123,13 @@ impl Prepared {
             self.study.target,
             candidates.len()
         ));
-        let search = local_parents(&data, target, &candidates, self.study.alpha);
+        let search = local_parents(
+            &data,
+            target,
+            &candidates,
+            self.study.alpha,
+            &self.study.selection,
+        );
         progress.say(&format!(
             "'{}' on the full data: {} (Markov boundary: {})",
             search.target,

@@ -7,6 +7,7 @@ use crate::data::DataReport;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
+use crate::search::SelectionRule;
 use serde::{Deserialize, Serialize};
 
 /// Settings as the user gave them (flags now, a TOML file later).
@@ -33,6 +34,8 @@ pub struct StudyInput {
     pub fraction: Option<f64>,
     /// π_thr: the frequency at which a finding counts as stable.
     pub stability_threshold: f64,
+    /// How forward selections decide (stopping rule, selection level, permutations).
+    pub selection: SelectionRule,
 }
 
 impl StudyInput {
@@ -50,6 +53,7 @@ impl StudyInput {
             resample: PlanKind::ComplementaryPairs,
             fraction: None,
             stability_threshold: 0.6,
+            selection: SelectionRule::calibrated(),
         }
     }
 
@@ -68,6 +72,7 @@ impl StudyInput {
             resample: plan.kind,
             fraction: (plan.kind == PlanKind::Subsample).then_some(plan.fraction),
             stability_threshold: study.stability_threshold,
+            selection: study.selection,
         }
     }
 }
@@ -94,6 +99,10 @@ pub struct Study {
     pub resampling: ResamplePlan,
     /// π_thr for the `stable` flags.
     pub stability_threshold: f64,
+    /// How forward selections decide. Results of method versions before `forebear-method/3` used
+    /// the natural stopping rule, which is what they read as.
+    #[serde(default = "SelectionRule::natural")]
+    pub selection: SelectionRule,
 }
 
 impl Study {
@@ -123,6 +132,9 @@ impl Study {
                  Bühlmann (2010) needs a threshold above one half",
                 input.stability_threshold
             )));
+        }
+        if let Some(problem) = input.selection.problems().into_iter().next() {
+            return Err(Error::input(problem));
         }
         let resampling =
             ResamplePlan::new(input.resample, input.replicates, input.fraction, input.seed)?;
@@ -171,6 +183,7 @@ impl Study {
             alpha: input.alpha,
             resampling,
             stability_threshold: input.stability_threshold,
+            selection: input.selection,
         };
         Ok((study, used, target))
     }

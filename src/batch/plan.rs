@@ -22,13 +22,16 @@ pub const RESERVED_NAMES: [&str; 3] = ["index.html", "index.md", "summary.json"]
 /// Keys of a study table besides the settings.
 const STUDY_KEYS: [&str; 3] = ["name", "data", "targets"];
 /// Keys of `[defaults]`, also allowed in every `[[study]]` as overrides.
-const SETTING_KEYS: [&str; 13] = [
+const SETTING_KEYS: [&str; 16] = [
     "seed",
     "replicates",
     "resample",
     "fraction",
     "alpha",
     "stability_threshold",
+    "stopping_rule",
+    "selection_alpha",
+    "permutations",
     "scaling",
     "exclude",
     "candidates",
@@ -57,6 +60,9 @@ pub(super) struct SettingsTable {
     pub(super) fraction: Option<f64>,
     pub(super) alpha: Option<f64>,
     pub(super) stability_threshold: Option<f64>,
+    pub(super) stopping_rule: Option<String>,
+    pub(super) selection_alpha: Option<f64>,
+    pub(super) permutations: Option<u32>,
     pub(super) scaling: Option<String>,
     pub(super) exclude: Option<Vec<String>>,
     pub(super) candidates: Option<Vec<String>>,
@@ -77,6 +83,9 @@ impl SettingsTable {
             fraction: self.fraction.or(d.fraction),
             alpha: self.alpha.or(d.alpha),
             stability_threshold: self.stability_threshold.or(d.stability_threshold),
+            stopping_rule: self.stopping_rule.or(d.stopping_rule),
+            selection_alpha: self.selection_alpha.or(d.selection_alpha),
+            permutations: self.permutations.or(d.permutations),
             scaling: self.scaling.or(d.scaling),
             exclude: self.exclude.or(d.exclude),
             candidates: self.candidates.or(d.candidates),

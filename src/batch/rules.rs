@@ -5,6 +5,8 @@ use super::plan::{Collector, PlannedStudy, Problem, SettingsTable, StudyHead, RE
 use crate::data::LoadOptions;
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
+use crate::search::{SelectionRule, StoppingRule};
+use clap::ValueEnum;
 use crate::study::StudyInput;
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -192,6 +194,25 @@ pub(super) fn check_settings(
         ));
         ok = false;
     }
+    let stopping_rule = match s.stopping_rule.as_deref() {
+        None => base.selection.stopping_rule,
+        Some(name) => StoppingRule::from_str(name, false).unwrap_or_else(|_| {
+            problem(format!(
+                "stopping_rule '{name}' is not known; use calibrated or natural"
+            ));
+            ok = false;
+            base.selection.stopping_rule
+        }),
+    };
+    let selection = SelectionRule {
+        stopping_rule,
+        alpha: s.selection_alpha.unwrap_or(base.selection.alpha),
+        permutations: s.permutations.unwrap_or(base.selection.permutations),
+    };
+    for p in selection.problems() {
+        problem(p);
+        ok = false;
+    }
     let seed = s.seed.unwrap_or(base.seed);
     let replicates = s.replicates.unwrap_or(base.replicates);
     if let Err(e) = ResamplePlan::new(resample, replicates, s.fraction, seed) {
@@ -229,6 +250,7 @@ pub(super) fn check_settings(
         resample,
         fraction: s.fraction,
         stability_threshold: threshold,
+        selection,
     })
 }
 

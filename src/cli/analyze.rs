@@ -5,6 +5,8 @@ use crate::data::LoadOptions;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::PlanKind;
+use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA};
+use crate::search::{SelectionRule, StoppingRule};
 use crate::study::StudyInput;
 use clap::Args;
 use std::path::{Path, PathBuf};
@@ -42,6 +44,16 @@ pub struct AnalyzeArgs {
     /// Frequency at which a finding counts as stable, in (0.5, 1].
     #[arg(long, default_value_t = 0.6)]
     pub stability_threshold: f64,
+    /// When forward selection admits a column: calibrated (a permutation test at
+    /// --selection-alpha, then a shrink phase) or natural (any positive T_n, the published rule).
+    #[arg(long, value_enum, default_value_t = StoppingRule::Calibrated)]
+    pub stopping_rule: StoppingRule,
+    /// Level of the selection tests of the calibrated rule.
+    #[arg(long, default_value_t = DEFAULT_SELECTION_ALPHA, allow_negative_numbers = true)]
+    pub selection_alpha: f64,
+    /// Most permutations per selection test (fewer when the decision is certain earlier).
+    #[arg(long, default_value_t = DEFAULT_PERMUTATIONS)]
+    pub permutations: u32,
     /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`.
     #[arg(long, value_name = "A..B")]
     pub replicate_range: Option<String>,
@@ -79,6 +91,11 @@ impl AnalyzeArgs {
             })?,
             fraction: self.fraction,
             stability_threshold: self.stability_threshold,
+            selection: SelectionRule {
+                stopping_rule: self.stopping_rule,
+                alpha: self.selection_alpha,
+                permutations: self.permutations,
+            },
         })
     }
 

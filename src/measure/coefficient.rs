@@ -47,6 +47,33 @@ impl TargetRanks {
         TargetRanks { at_most, at_least }
     }
 
+    /// The ranks of the response that row i takes from row `source[i]` (a permuted response,
+    /// possibly with repeats): R and L recounted over the drawn values, in O(n) from the ranks of
+    /// the original response (R_i identifies the value of row i among the values present).
+    pub fn permuted(&self, source: &[u32], counts: &mut Vec<u32>) -> TargetRanks {
+        let n = self.n();
+        counts.clear();
+        counts.resize(n + 1, 0);
+        for &s in source {
+            counts[self.at_most[s as usize] as usize] += 1;
+        }
+        // counts[v] becomes the number of drawn values whose rank code is at most v.
+        let mut running = 0;
+        for c in counts.iter_mut() {
+            running += *c;
+            *c = running;
+        }
+        let mut at_most = Vec::with_capacity(n);
+        let mut at_least = Vec::with_capacity(n);
+        for &s in source {
+            let code = self.at_most[s as usize] as usize;
+            at_most.push(counts[code]);
+            // values ≥ this one: all drawn values minus those whose code is below this code
+            at_least.push(n as u32 - counts[code - 1]);
+        }
+        TargetRanks { at_most, at_least }
+    }
+
     /// Number of rows.
     pub fn n(&self) -> usize {
         self.at_most.len()

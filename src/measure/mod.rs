@@ -2,6 +2,7 @@
 
 pub mod coefficient;
 pub mod neighbors;
+pub mod permutation;
 pub mod ranks;
 pub mod scaling;
 pub mod xi;

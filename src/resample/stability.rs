@@ -127,7 +127,7 @@ pub fn run_replicate(table: &Table, study: &Study, k: u32, full_trace: &[Step]) 
         .iter()
         .filter_map(|c| sub.index_of(c))
         .collect();
-    let search = local_parents(&data, t, &cand, study.alpha);
+    let search = local_parents(&data, t, &cand, study.alpha, &study.selection);
     let trace_values = trace_values_on(&data, t, full_trace);
     record(k, drawn.rows.len(), &search, trace_values)
 }

@@ -1,10 +1,15 @@
-//! Forward stepwise selection with the natural stopping rule (Azadkia and Chatterjee 2021, FOCI):
-//! from S = ∅, add the candidate maximising T_n(Y, X_j | S); stop as soon as the best value is ≤ 0.
-//! Within a step every candidate's T_n shares one denominator, so the choice and the stop are
-//! decided on exact integer numerators.
+//! Forward stepwise selection (Azadkia and Chatterjee 2021, FOCI): from S = ∅, add the candidate
+//! maximising T_n(Y, X_j | S). The natural stopping rule stops as soon as the best value is ≤ 0;
+//! the calibrated rule also stops when the permutation test of the step does not reject at the
+//! selection level (`measure::permutation`), then runs the shrink phase (`search::shrink`).
+//! Within a step every candidate's T_n shares one denominator, so the choice is decided on exact
+//! integer numerators.
 
+use super::rule::SelectionRule;
+use super::shrink::{shrink, ShrinkTest};
 use super::SearchData;
 use crate::measure::neighbors::ConditioningSpace;
+use crate::measure::permutation::{max_statistic_test, Observed, PermutationTest};
 use crate::measure::TargetRanks;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -35,16 +40,29 @@ pub struct Step {
     pub chosen: Option<String>,
     /// Best value minus runner-up value (absent with a single candidate).
     pub margin: Option<f64>,
+    /// The permutation test of the step's largest T_n (calibrated rule; absent under the natural
+    /// rule, and when the best value is not positive and no critical value was asked for).
+    #[serde(default)]
+    pub test: Option<PermutationTest>,
 }
 
 /// Why a selection ended.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum StopReason {
-    /// The natural stopping rule: the best T_n at the last step was ≤ 0.
+    /// The best T_n at the last step was ≤ 0 (the natural stopping rule; the calibrated rule
+    /// stops there too).
     NoPositiveGain {
         /// The best value at the last step.
         best_t_n: f64,
+    },
+    /// Calibrated rule: the best T_n at the last step was positive, but its permutation test did
+    /// not reject conditional independence at the selection level.
+    NotSignificant {
+        /// The best value at the last step.
+        best_t_n: f64,
+        /// Its p-value.
+        p_value: f64,
     },
     /// The response is empirically a function of the selected set: the denominator of T_n is zero,
     /// so no candidate can add information.
@@ -60,16 +78,112 @@ pub enum StopReason {
 pub struct Selection {
     /// The response column.
     pub response: String,
-    /// Selected columns in selection order: the estimated Markov boundary.
+    /// Selected columns in selection order, without those the shrink phase removed: the estimated
+    /// Markov boundary.
     pub selected: Vec<String>,
     /// Every step, including the one that stopped.
     pub steps: Vec<Step>,
-    /// Why the selection ended.
+    /// Why the forward phase ended.
     pub stop: StopReason,
+    /// The shrink phase (calibrated rule): every test of a member given the other members.
+    #[serde(default)]
+    pub shrink: Vec<ShrinkTest>,
+    /// Members the shrink phase removed, in the order removed.
+    #[serde(default)]
+    pub removed: Vec<String>,
 }
 
-/// Runs forward selection for `response` over `candidates` (column positions).
-pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) -> Selection {
+/// One step of a selection, evaluated: every candidate's numerator (best first) over the shared
+/// denominator, and the permutation test of the best.
+pub struct StepEvaluation {
+    /// The shared denominator (positive).
+    pub denominator: i128,
+    /// Candidates with their numerators, best first; equal numerators in candidate order.
+    pub scored: Vec<(usize, i128)>,
+    /// The test of the largest T_n: under the calibrated rule when it is positive, or always with
+    /// `exhaustive`.
+    pub test: Option<PermutationTest>,
+}
+
+/// Evaluates the candidates `remaining` given `selected` for `response`; `None` when the
+/// response is a function of `selected` (the denominator of T_n is zero).
+pub fn evaluate_step(
+    data: &SearchData,
+    response: usize,
+    ranks: &TargetRanks,
+    selected: &[usize],
+    remaining: &[usize],
+    rule: &SelectionRule,
+    exhaustive: bool,
+) -> Option<StepEvaluation> {
+    // The selected columns, prepared once, give the conditioning set's neighbours and, extended by
+    // one column, every candidate's: the same as `data.neighbours` on each space (the keys are
+    // those `data.neighbours` uses). Spaces it does not pay to prepare are searched afresh.
+    let prepared = match selected.is_empty() {
+        true => None,
+        false => ConditioningSpace::prepare(&data.space(selected)),
+    };
+    let conditioning = (!selected.is_empty()).then(|| match &prepared {
+        Some(prepared) => prepared
+            .neighbourhood()
+            .choose(&data.neighbour_key(response, selected)),
+        None => data.neighbours(response, selected),
+    });
+    let denominator = ranks.denominator(conditioning.as_deref());
+    if denominator == 0 {
+        return None;
+    }
+    let mut scored: Vec<(usize, i128, Vec<u32>)> = remaining
+        .par_iter()
+        .map(|&j| {
+            let mut space = selected.to_vec();
+            space.push(j);
+            let joint = match &prepared {
+                Some(prepared) => prepared
+                    .extended(data.space(&[j])[0])
+                    .choose(&data.neighbour_key(response, &space)),
+                None => data.neighbours(response, &space),
+            };
+            let numerator = ranks.numerator(conditioning.as_deref(), &joint);
+            (j, numerator, joint)
+        })
+        .collect();
+    // Best first; equal numerators keep candidate order (stable sort).
+    scored.sort_by_key(|&(_, numerator, _)| std::cmp::Reverse(numerator));
+    let best_num = scored[0].1;
+    let test = (rule.is_calibrated() && (best_num > 0 || exhaustive)).then(|| {
+        let observed = Observed {
+            ranks,
+            conditioning: conditioning.as_deref(),
+            joints: scored.iter().map(|(_, _, joint)| joint.as_slice()).collect(),
+            numerator: best_num,
+            denominator,
+        };
+        let pools = (!selected.is_empty()).then(|| data.permutation_pools(selected));
+        max_statistic_test(
+            &observed,
+            pools.as_ref(),
+            &data.permutation_key("selection", response, selected, None),
+            &rule.test_plan(exhaustive),
+        )
+    });
+    Some(StepEvaluation {
+        denominator,
+        scored: scored.into_iter().map(|(j, num, _)| (j, num)).collect(),
+        test,
+    })
+}
+
+/// Runs forward selection for `response` over `candidates` (column positions) under `rule`. With
+/// `exhaustive`, every permutation test makes all its draws, so that the step that stops reports
+/// the value a candidate would have had to exceed (used for the target's own selection).
+pub fn forward_select(
+    data: &SearchData,
+    response: usize,
+    candidates: &[usize],
+    rule: &SelectionRule,
+    exhaustive: bool,
+) -> Selection {
     let ranks = TargetRanks::new(data.raw(response));
     let mut selected: Vec<usize> = Vec::new();
     let mut remaining: Vec<usize> = candidates
@@ -87,45 +201,24 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
                 StopReason::CandidatesExhausted
             };
         }
-        // The selected columns, prepared once, give the conditioning set's neighbours and, extended
-        // by one column, every candidate's: the same as `data.neighbours` on each space (the keys
-        // are those `data.neighbours` uses). Spaces it does not pay to prepare are searched afresh.
-        let prepared = match selected.is_empty() {
-            true => None,
-            false => ConditioningSpace::prepare(&data.space(&selected)),
-        };
-        let conditioning = (!selected.is_empty()).then(|| match &prepared {
-            Some(prepared) => prepared
-                .neighbourhood()
-                .choose(&data.neighbour_key(response, &selected)),
-            None => data.neighbours(response, &selected),
-        });
-        let denominator = ranks.denominator(conditioning.as_deref());
-        if denominator == 0 {
+        let Some(evaluation) =
+            evaluate_step(data, response, &ranks, &selected, &remaining, rule, exhaustive)
+        else {
             break StopReason::ResponseIsFunctionOfSelected;
-        }
-        let mut scored: Vec<(usize, i128)> = remaining
-            .par_iter()
-            .map(|&j| {
-                let mut space = selected.clone();
-                space.push(j);
-                let joint = match &prepared {
-                    Some(prepared) => prepared
-                        .extended(data.space(&[j])[0])
-                        .choose(&data.neighbour_key(response, &space)),
-                    None => data.neighbours(response, &space),
-                };
-                (j, ranks.numerator(conditioning.as_deref(), &joint))
-            })
-            .collect();
-        // Best first; equal numerators keep candidate order (stable sort).
-        scored.sort_by_key(|&(_, numerator)| std::cmp::Reverse(numerator));
+        };
+        let StepEvaluation {
+            denominator,
+            scored,
+            test,
+        } = evaluation;
         let value = |num: i128| num as f64 / denominator as f64;
         let (best, best_num) = scored[0];
         let margin = scored
             .get(1)
             .map(|&(_, second)| value(best_num) - value(second));
-        let gains = best_num > 0;
+        let positive = best_num > 0;
+        let significant = test.as_ref().is_none_or(|t| t.p_value <= rule.alpha);
+        let admitted = positive && significant;
         steps.push(Step {
             step: steps.len() + 1,
             conditioning: selected.iter().map(|&j| name(j)).collect(),
@@ -138,22 +231,35 @@ pub fn forward_select(data: &SearchData, response: usize, candidates: &[usize]) 
                     numerator: num,
                 })
                 .collect(),
-            chosen: gains.then(|| name(best)),
+            chosen: admitted.then(|| name(best)),
             margin,
+            test: test.clone(),
         });
-        if !gains {
+        if !positive {
             break StopReason::NoPositiveGain {
                 best_t_n: value(best_num),
             };
         }
+        if !significant {
+            break StopReason::NotSignificant {
+                best_t_n: value(best_num),
+                p_value: test.map_or(1.0, |t| t.p_value),
+            };
+        }
         selected.push(best);
         remaining.retain(|&j| j != best);
+    };
+    let (shrink, removed) = match rule.is_calibrated() {
+        true => shrink(data, response, &ranks, &mut selected, rule),
+        false => (Vec::new(), Vec::new()),
     };
     Selection {
         response: name(response),
         selected: selected.iter().map(|&j| name(j)).collect(),
         steps,
         stop,
+        shrink,
+        removed,
     }
 }
 

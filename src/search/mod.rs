@@ -4,12 +4,17 @@
 
 pub mod forward;
 pub mod parents;
+pub mod rule;
+pub mod shrink;
 
 pub use forward::{forward_select, Selection, Step, StopReason};
 pub use parents::{local_parents, Component, Outcome, PairTest, ParentSearch};
+pub use rule::{SelectionRule, StoppingRule};
 
 use crate::data::Table;
+use crate::measure::neighbors::pools::Pools;
 use crate::measure::neighbors::Neighbourhood;
+use crate::measure::permutation::LOCAL_PERMUTATION_ROWS;
 use crate::measure::Scaling;
 use crate::rng::Key;
 
@@ -24,6 +29,8 @@ pub struct SearchData<'a> {
     pub replicate: u64,
     /// Original row behind each row when rows repeat (bootstrap).
     origins: Option<Vec<u32>>,
+    /// Rows per pool of the local permutation.
+    pool_rows: usize,
 }
 
 impl<'a> SearchData<'a> {
@@ -38,7 +45,15 @@ impl<'a> SearchData<'a> {
             seed,
             replicate,
             origins: None,
+            pool_rows: LOCAL_PERMUTATION_ROWS,
         }
+    }
+
+    /// Another number of rows per local-permutation pool (for the calibration study only; the
+    /// method uses `LOCAL_PERMUTATION_ROWS`).
+    pub fn with_pool_rows(mut self, rows: usize) -> Self {
+        self.pool_rows = rows;
+        self
     }
 
     /// Marks rows that are copies of one original row (bootstrap): such rows are never each
@@ -93,6 +108,31 @@ impl<'a> SearchData<'a> {
             .number(self.replicate)
             .text(self.name(response))
             .set(&names)
+            .finish()
+    }
+
+    /// The pools of the local permutation in the space of `columns` (non-empty).
+    pub fn permutation_pools(&self, columns: &[usize]) -> Pools {
+        Pools::new(&self.space(columns), self.pool_rows)
+    }
+
+    /// The key of the null draws of a permutation test of `response` given the set `columns`:
+    /// `purpose` names the test (a selection step, a shrink test, a collider test) and `tested`
+    /// the column tested where the set alone does not determine it.
+    pub fn permutation_key(
+        &self,
+        purpose: &str,
+        response: usize,
+        columns: &[usize],
+        tested: Option<usize>,
+    ) -> Key {
+        let names: Vec<&str> = columns.iter().map(|&j| self.name(j)).collect();
+        Key::new("permutation", self.seed)
+            .text(purpose)
+            .number(self.replicate)
+            .text(self.name(response))
+            .set(&names)
+            .text(tested.map_or("", |j| self.name(j)))
             .finish()
     }
 

@@ -6,6 +6,7 @@
 //! fail and nothing is claimed.
 
 use super::forward::{forward_select, Selection, StopReason};
+use super::rule::SelectionRule;
 use super::SearchData;
 use crate::measure::xi::{holm_adjust, xi_test, XiTest};
 use rayon::prelude::*;
@@ -149,13 +150,14 @@ pub fn local_parents(
     target: usize,
     candidates: &[usize],
     alpha: f64,
+    rule: &SelectionRule,
 ) -> ParentSearch {
-    let mb = forward_select(data, target, candidates);
+    let mb = forward_select(data, target, candidates, rule, true);
     let members: Vec<usize> = mb.selected.iter().map(|n| position(data, n)).collect();
     let everything: Vec<usize> = (0..data.names().len()).collect();
     let member_selections: Vec<Selection> = members
         .par_iter()
-        .map(|&m| forward_select(data, m, &everything))
+        .map(|&m| forward_select(data, m, &everything, rule, false))
         .collect();
     let boundary_sets: Vec<BTreeSet<&str>> = member_selections
         .iter()

@@ -25,6 +25,8 @@
 use crate::rng::{uniform_below, Key};
 use rayon::prelude::*;
 
+pub mod pools;
+
 /// Highest dimension searched with a kd-tree; above it the exact brute-force search is used.
 pub const MAX_TREE_DIMENSION: usize = 12;
 

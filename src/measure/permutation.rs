@@ -1,0 +1,230 @@
+//! Permutation tests of conditional independence for T_n, with the multiplicity over candidates
+//! handled by the maximum statistic and Monte Carlo p-values that stop early.
+//!
+//! - **Null draws.** With an empty conditioning set X the response is permuted (exact under
+//!   Y ⊥ Z); with a non-empty X it is permuted locally: each row takes the response of a row among
+//!   its nearest in X (Runge 2018, AISTATS, Algorithm 1; see `neighbors::pools`). Permuting the
+//!   response rather than the candidates keeps every neighbour structure of the step (the
+//!   neighbours in X and in X plus each candidate depend on the predictors only), so one draw costs
+//!   a recount of ranks and one pass per candidate, and one draw serves every candidate at once.
+//! - **Multiplicity.** The statistic of a step is the largest T_n over the remaining candidates,
+//!   compared with the largest over the same candidates in each draw: the single-step maximum-T
+//!   method of Westfall and Young (1993, "Resampling-Based Multiple Testing"), which keeps the
+//!   dependence between candidates.
+//! - **Sequential p-values** (Besag and Clifford 1991, Biometrika 78(2), "Sequential Monte Carlo
+//!   p-values"): draws stop as soon as `h = ⌊α·B⌋ + 1` of them reach the observed value, with
+//!   p = h / L after L draws; otherwise all B are drawn and p = (G + 1) / (B + 1) with G draws at
+//!   or above it. Stopping early never changes the decision at level α: h / L > α for L ≤ B.
+//!
+//! Draw b of a test is keyed by what the test is for and by b (`rng::Key`), never by the order in
+//! which draws are computed, so the p-value does not depend on the thread count.
+
+use super::coefficient::TargetRanks;
+use super::neighbors::pools::{random_order, DrawBuffers, Pools};
+use crate::rng::Key;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+/// Rows per pool of the local permutation: Runge (2018) uses 5 to 10 nearest neighbours in his
+/// experiments (from memory); the calibration study in docs/calibration.md measured this value.
+pub const LOCAL_PERMUTATION_ROWS: usize = 5;
+
+/// How the null draws of a test were made.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum NullScheme {
+    /// The response permuted over all rows (empty conditioning set).
+    Permutation,
+    /// The response permuted within pools of nearest rows of the conditioning set.
+    LocalPermutation,
+}
+
+/// The result of one permutation test.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct PermutationTest {
+    /// The Monte Carlo p-value (Besag and Clifford 1991).
+    pub p_value: f64,
+    /// Null draws made.
+    pub permutations: u32,
+    /// Draws whose statistic reached the observed one.
+    pub exceedances: u32,
+    /// How the draws were made.
+    pub scheme: NullScheme,
+    /// The value the statistic had to exceed to be significant at the level of the test, when
+    /// every draw was made (the ⌊α(B + 1)⌋-th largest of the B draws).
+    pub critical_t_n: Option<f64>,
+}
+
+/// How many draws a test may make, at which level, and whether it must make them all.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TestPlan {
+    /// Most null draws B.
+    pub max_permutations: u32,
+    /// Level α of the decision.
+    pub alpha: f64,
+    /// Make all B draws even when the decision is already known (for the critical value).
+    pub exhaustive: bool,
+}
+
+impl TestPlan {
+    /// Exceedances after which the decision "not significant" is certain: ⌊α·B⌋ + 1.
+    pub fn stop_after(&self) -> u32 {
+        (self.alpha * f64::from(self.max_permutations)).floor() as u32 + 1
+    }
+
+    /// Fewest draws with which a p-value can reach α: (G + 1)/(B + 1) ≤ α needs B ≥ 1/α − 1.
+    pub fn fewest_permutations(alpha: f64) -> u32 {
+        ((1.0 / alpha).ceil() as u32).saturating_sub(1).max(1)
+    }
+}
+
+/// The observed statistic of a step and the neighbour structures it was computed from.
+pub struct Observed<'a> {
+    /// Ranks of the observed response.
+    pub ranks: &'a TargetRanks,
+    /// Neighbours in the conditioning set X (`None`: X is empty).
+    pub conditioning: Option<&'a [u32]>,
+    /// Neighbours in X plus each candidate.
+    pub joints: Vec<&'a [u32]>,
+    /// Numerator of the largest observed T_n.
+    pub numerator: i128,
+    /// Its denominator (positive).
+    pub denominator: i128,
+}
+
+/// Draws made in parallel before the stopping rule looks at them (in draw order).
+const BATCH: u32 = 16;
+
+/// Tests the largest T_n of `observed` against draws of the response: permuted when `pools` is
+/// `None`, else permuted locally within the pools (which must be those of the conditioning set).
+pub fn max_statistic_test(
+    observed: &Observed,
+    pools: Option<&Pools>,
+    key: &Key,
+    plan: &TestPlan,
+) -> PermutationTest {
+    assert!(observed.denominator > 0, "a defined statistic");
+    assert!(plan.max_permutations >= 1);
+    let stop_after = plan.stop_after();
+    let mut exceedances = 0u32;
+    let mut draws: Vec<(i128, i128)> = Vec::new();
+    let mut made = 0u32;
+    let mut stopped = false;
+    while made < plan.max_permutations && !stopped {
+        let batch: Vec<(i128, i128)> = (made..(made + BATCH).min(plan.max_permutations))
+            .into_par_iter()
+            .map(|b| null_statistic(observed, pools, key, b))
+            .collect();
+        for draw in batch {
+            made += 1;
+            if reaches(observed, draw) {
+                exceedances += 1;
+            }
+            draws.push(draw);
+            if exceedances == stop_after && !plan.exhaustive {
+                stopped = true;
+                break;
+            }
+        }
+    }
+    let p_value = if stopped {
+        f64::from(exceedances) / f64::from(made)
+    } else {
+        f64::from(exceedances + 1) / f64::from(made + 1)
+    };
+    let critical_t_n = (!stopped && made == plan.max_permutations)
+        .then(|| critical_value(observed, &mut draws, plan))
+        .flatten();
+    PermutationTest {
+        p_value,
+        permutations: made,
+        exceedances,
+        scheme: match pools {
+            None => NullScheme::Permutation,
+            Some(_) => NullScheme::LocalPermutation,
+        },
+        critical_t_n,
+    }
+}
+
+/// The largest numerator over the candidates in draw b, and the draw's denominator.
+fn null_statistic(observed: &Observed, pools: Option<&Pools>, key: &Key, b: u32) -> (i128, i128) {
+    let n = observed.ranks.n();
+    let mut rng = key.stream(u64::from(b));
+    let mut source = Vec::with_capacity(n);
+    match pools {
+        None => random_order(n, &mut rng, &mut source),
+        Some(pools) => pools.draw(&mut rng, &mut DrawBuffers::default(), &mut source),
+    }
+    let ranks = observed.ranks.permuted(&source, &mut Vec::new());
+    let denominator = ranks.denominator(observed.conditioning);
+    let best = observed
+        .joints
+        .iter()
+        .map(|joint| ranks.numerator(observed.conditioning, joint))
+        .max()
+        .expect("at least one candidate");
+    (best, denominator)
+}
+
+/// Whether a draw's statistic is at least the observed one, compared exactly. A draw whose
+/// denominator is zero (its response a function of X) has no value; it counts as reaching the
+/// observed one, which can only raise the p-value.
+fn reaches(observed: &Observed, (numerator, denominator): (i128, i128)) -> bool {
+    if denominator == 0 {
+        return true;
+    }
+    match observed.conditioning {
+        // A permutation keeps Σ L(n − L): the denominators are equal.
+        None => numerator >= observed.numerator,
+        Some(_) => numerator * observed.denominator >= observed.numerator * denominator,
+    }
+}
+
+/// The ⌊α(B + 1)⌋-th largest draw: an observed value above it gives G ≤ ⌊α(B + 1)⌋ − 1, so
+/// (G + 1)/(B + 1) ≤ α.
+fn critical_value(observed: &Observed, draws: &mut [(i128, i128)], plan: &TestPlan) -> Option<f64> {
+    let rank = (plan.alpha * f64::from(plan.max_permutations + 1)).floor() as usize;
+    if rank == 0 || rank > draws.len() {
+        return None;
+    }
+    let unconditional = observed.conditioning.is_none();
+    draws.sort_by(|a, b| {
+        let (a_inf, b_inf) = (a.1 == 0, b.1 == 0);
+        match (a_inf, b_inf) {
+            (true, true) => std::cmp::Ordering::Equal,
+            (true, false) => std::cmp::Ordering::Less,
+            (false, true) => std::cmp::Ordering::Greater,
+            // descending by value
+            _ if unconditional => b.0.cmp(&a.0),
+            _ => (b.0 * a.1).cmp(&(a.0 * b.1)),
+        }
+    });
+    let (numerator, denominator) = draws[rank - 1];
+    (denominator != 0).then(|| numerator as f64 / denominator as f64)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn early_stops_never_reject_and_full_runs_reject_as_the_plain_p_value() {
+        // h / L > α for every L ≤ B, so a stopped test is never significant (Besag and Clifford
+        // 1991: the sequential p-value h/L).
+        for (alpha, b) in [(0.05, 199u32), (0.05, 210), (0.01, 999), (0.1, 19), (0.05, 99)] {
+            let plan = TestPlan {
+                max_permutations: b,
+                alpha,
+                exhaustive: false,
+            };
+            let h = plan.stop_after();
+            assert!(f64::from(h) / f64::from(b) > alpha, "α {alpha}, B {b}");
+            // Without the stop, G ≤ h − 1 exceedances; the largest such G may or may not reject,
+            // but G = h could never: (h + 1)/(B + 1) > α.
+            assert!(f64::from(h + 1) / f64::from(b + 1) > alpha);
+        }
+        assert_eq!(TestPlan::fewest_permutations(0.05), 19);
+        assert_eq!(TestPlan::fewest_permutations(0.01), 99);
+    }
+}
