@@ -266,7 +266,11 @@ struct Options {
 
 fn list<T: std::str::FromStr>(text: &str) -> Vec<T> {
     text.split(',')
-        .map(|v| v.trim().parse().unwrap_or_else(|_| panic!("bad list '{text}'")))
+        .map(|v| {
+            v.trim()
+                .parse()
+                .unwrap_or_else(|_| panic!("bad list '{text}'"))
+        })
         .collect()
 }
 
@@ -306,7 +310,10 @@ fn main() {
     );
     println!("|---|---|---|---|---|---|---|---|---|");
     for scenario in scenarios() {
-        if o.only.as_ref().is_some_and(|f| !scenario.name.contains(f.as_str())) {
+        if o.only
+            .as_ref()
+            .is_some_and(|f| !scenario.name.contains(f.as_str()))
+        {
             continue;
         }
         for &n in &o.sizes {
@@ -334,9 +341,16 @@ fn main() {
                     let remaining: Vec<usize> =
                         (scenario.d + 1..=scenario.d + scenario.p).collect();
                     let ranks = TargetRanks::new(data.raw(0));
-                    let Some(step) =
-                        evaluate_step(&data, 0, &ranks, &selected, &remaining, &rule, true)
-                    else {
+                    let Some(step) = evaluate_step(
+                        &data,
+                        "selection",
+                        0,
+                        &ranks,
+                        &selected,
+                        &remaining,
+                        &rule,
+                        true,
+                    ) else {
                         continue;
                     };
                     let test = step.test.expect("exhaustive steps are tested");
@@ -353,7 +367,11 @@ fn main() {
                     if scenario.alternative { "" } else { " (null)" },
                     scenario.d,
                     scenario.p,
-                    if scenario.d == 0 { "—".to_string() } else { k.to_string() },
+                    if scenario.d == 0 {
+                        "—".to_string()
+                    } else {
+                        k.to_string()
+                    },
                     o.reps,
                     rate,
                     se,

@@ -2,6 +2,7 @@
 
 use crate::data::DataReport;
 use crate::resample::Stability;
+use crate::search::collider::ColliderTest;
 use crate::search::parents::Diagnostics;
 use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
 use crate::study::Study;
@@ -143,8 +144,11 @@ pub struct Finding {
     pub stop: StopReason,
     /// The selection of every member's own boundary.
     pub boundaries: BTreeMap<String, Selection>,
-    /// Mutual-membership edges.
+    /// Edges between members: mutual memberships, then pairs joined by the collider test.
     pub edges: Vec<[String; 2]>,
+    /// Collider tests of confirmed members not in each other's boundary (calibrated rule).
+    #[serde(default)]
+    pub collider_tests: Vec<ColliderTest>,
     /// Components with their tests.
     pub components: Vec<Component>,
     /// The conclusion.
@@ -178,6 +182,7 @@ impl Finding {
             stop: search.markov_boundary.stop,
             boundaries: search.boundaries,
             edges: search.edges,
+            collider_tests: search.collider_tests,
             components: search.components,
             outcome: search.outcome,
             parent_sets: search.parent_sets,

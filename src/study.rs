@@ -1,7 +1,7 @@
 //! Validated study settings. A [`Study`] is built only by [`Study::new`], which checks every value
 //! against the data's header; search code takes it as given and never re-validates.
 
-use crate::data::checks::{require_rows, MIN_ROWS_PER_SAMPLE, MIN_ROWS_REASON};
+use crate::data::checks::{require_rows, MIN_ROWS_PER_SAMPLE};
 use crate::data::load::RawTable;
 use crate::data::DataReport;
 use crate::error::{Error, Result};
@@ -222,16 +222,16 @@ impl Study {
     /// The fewest rows the full data may have for every sample of this study to be searchable,
     /// and why.
     pub fn rows_needed(&self) -> (usize, String) {
-        let m = MIN_ROWS_PER_SAMPLE;
+        let m = SEARCH_MIN_ROWS.max(MIN_ROWS_PER_SAMPLE);
         let plan = &self.resampling;
         if plan.count == 0 {
-            return (m, MIN_ROWS_REASON.to_string());
+            return (m, SEARCH_MIN_ROWS_REASON.to_string());
         }
         match plan.kind {
             PlanKind::ComplementaryPairs => (
                 2 * m,
                 format!(
-                    "each complementary-pairs replicate uses half of the rows, and {MIN_ROWS_REASON}"
+                    "each complementary-pairs replicate uses half of the rows, and {SEARCH_MIN_ROWS_REASON}"
                 ),
             ),
             PlanKind::Subsample => {
@@ -242,7 +242,7 @@ impl Study {
                 (
                     n,
                     format!(
-                        "each subsample replicate uses ⌊{} × n⌋ rows, and {MIN_ROWS_REASON}",
+                        "each subsample replicate uses ⌊{} × n⌋ rows, and {SEARCH_MIN_ROWS_REASON}",
                         plan.fraction
                     ),
                 )
@@ -258,6 +258,19 @@ impl Study {
         }
     }
 }
+
+/// Fewest rows per sample (the full data, and each resampling replicate) the search accepts. A
+/// floor of our own, not from a source: with y = x exactly, the exact permutation p-value of T_n
+/// is 0.5 with 4 rows, 0.2 with 5, 0.078 with 6 and 0.024 with 7 (enumerated in
+/// `measure::permutation`'s tests), so below 7 rows a selection test cannot reject at 0.05 even
+/// for a perfect link, and a few rows more leave it almost no power against any real one.
+pub const SEARCH_MIN_ROWS: usize = 20;
+
+/// Why a sample needs [`SEARCH_MIN_ROWS`] rows, for messages.
+const SEARCH_MIN_ROWS_REASON: &str = "the search needs at least 20 rows per sample: each \
+     selection step tests its best column against permutations of the rows, and with 4 rows no \
+     outcome of that test is significant at level 0.05 (with 6 rows not even a perfect link is); \
+     below 20 rows a link would have to be nearly perfect to be seen";
 
 /// Why the search needs two candidates.
 const CANDIDATES_REASON: &str = "parents are recognised as two or more members of the target's \
@@ -406,10 +419,10 @@ mod tests {
     #[test]
     fn rows_needed_follow_the_resampling_plan() {
         let (mut study, _) = run(&StudyInput::for_target("y"), &LoadOptions::default());
-        assert_eq!(study.rows_needed().0, 6);
+        assert_eq!(study.rows_needed().0, 40);
         study.resampling = ResamplePlan::new(PlanKind::Subsample, 10, Some(0.3), 1).unwrap();
-        assert_eq!(study.rows_needed().0, 10);
+        assert_eq!(study.rows_needed().0, 67);
         study.resampling = ResamplePlan::new(PlanKind::ComplementaryPairs, 0, None, 1).unwrap();
-        assert_eq!(study.rows_needed().0, 3);
+        assert_eq!(study.rows_needed().0, 20);
     }
 }

@@ -6,8 +6,8 @@ use crate::data::LoadOptions;
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
 use crate::search::{SelectionRule, StoppingRule};
-use clap::ValueEnum;
 use crate::study::StudyInput;
+use clap::ValueEnum;
 use std::collections::BTreeMap;
 use std::path::Path;
 

@@ -212,7 +212,13 @@ mod tests {
     fn early_stops_never_reject_and_full_runs_reject_as_the_plain_p_value() {
         // h / L > α for every L ≤ B, so a stopped test is never significant (Besag and Clifford
         // 1991: the sequential p-value h/L).
-        for (alpha, b) in [(0.05, 199u32), (0.05, 210), (0.01, 999), (0.1, 19), (0.05, 99)] {
+        for (alpha, b) in [
+            (0.05, 199u32),
+            (0.05, 210),
+            (0.01, 999),
+            (0.1, 19),
+            (0.05, 99),
+        ] {
             let plan = TestPlan {
                 max_permutations: b,
                 alpha,
@@ -226,5 +232,55 @@ mod tests {
         }
         assert_eq!(TestPlan::fewest_permutations(0.05), 19);
         assert_eq!(TestPlan::fewest_permutations(0.01), 99);
+    }
+
+    /// The exact permutation p-value of T_n(y, x) for y = x (the strongest dependence n rows can
+    /// show), over all n! orders of y.
+    fn exact_p_of_a_perfect_pair(n: usize) -> f64 {
+        use crate::measure::neighbors::nearest_neighbours;
+        let x: Vec<f64> = (0..n).map(|v| v as f64).collect();
+        let joint = nearest_neighbours(&[&x], &Key::new("exact", 1).finish());
+        let observed = TargetRanks::new(&x).numerator(None, &joint);
+        let mut order: Vec<usize> = (0..n).collect();
+        let (mut at_least, mut total) = (0u64, 0u64);
+        // Heap's algorithm (Heap 1963, The Computer Journal 6(3)) visits every order once.
+        let mut c = vec![0usize; n];
+        let mut visit = |order: &[usize]| {
+            let y: Vec<f64> = order.iter().map(|&i| x[i]).collect();
+            total += 1;
+            if TargetRanks::new(&y).numerator(None, &joint) >= observed {
+                at_least += 1;
+            }
+        };
+        visit(&order);
+        let mut i = 0;
+        while i < n {
+            if c[i] < i {
+                if i % 2 == 0 {
+                    order.swap(0, i);
+                } else {
+                    order.swap(c[i], i);
+                }
+                visit(&order);
+                c[i] += 1;
+                i = 0;
+            } else {
+                c[i] = 0;
+                i += 1;
+            }
+        }
+        at_least as f64 / total as f64
+    }
+
+    #[test]
+    fn four_rows_can_never_be_significant_at_five_percent() {
+        // Exact enumeration (closed form by counting, no sampling): with 4 rows even y = x has a
+        // permutation p-value above 0.05, so no selection test on 4 rows can reject; the search's
+        // floor of 20 rows per sample lies well above the smallest size where it can.
+        let p: Vec<f64> = (4..=7).map(exact_p_of_a_perfect_pair).collect();
+        eprintln!("exact p-values of y = x, n = 4..7: {p:?}");
+        assert!(p[0] > 0.05, "n = 4: p = {}", p[0]);
+        assert!(p[3] <= 0.05, "n = 7: p = {}", p[3]);
+        assert!(p.windows(2).all(|w| w[1] <= w[0]), "{p:?}");
     }
 }

@@ -104,12 +104,30 @@ pub struct Stability {
     pub full_data_outcome_frequency: f64,
     /// Whether that frequency is at least π_thr.
     pub full_data_outcome_stable: bool,
+    /// How the replicates bear on the headline: the most frequent other result, and whether most
+    /// replicates reach something other than the full data.
+    #[serde(default)]
+    pub headline: Headline,
     /// Digest of every replicate record, by replicate index.
     pub replicate_digests: Vec<String>,
     /// Every replicate record, by replicate index, so that a re-run can name the first field of a
     /// replicate that differs.
     #[serde(default)]
     pub records: Vec<ReplicateRecord>,
+}
+
+/// The headline (the full-data outcome with its parent sets) against the replicates.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct Headline {
+    /// Share of replicates that reach the full-data outcome with the same parent sets.
+    pub frequency: f64,
+    /// That share is at least π_thr.
+    pub stable: bool,
+    /// More than half of the replicates reach another outcome or other parent sets.
+    pub contradicted: bool,
+    /// The most frequent replicate result other than the headline (ties: the first in the order
+    /// of `outcomes`), if any replicate reached one.
+    pub most_frequent_other: Option<OutcomeFrequency>,
 }
 
 /// Runs replicate `k` of `plan` on `table` and condenses it into a record.
@@ -270,7 +288,17 @@ pub fn aggregate(
             .sum::<usize>() as f64
             / f64::from(n)
     };
+    let headline = Headline {
+        frequency: share(full_count),
+        stable: share(full_count) >= threshold,
+        contradicted: n > 0 && 2 * full_count < n,
+        most_frequent_other: outcomes
+            .iter()
+            .find(|o| !(o.outcome == full_outcome && o.parent_sets == full_sets))
+            .cloned(),
+    };
     Stability {
+        headline,
         plan: plan.clone(),
         replicates: n,
         threshold,

@@ -106,9 +106,12 @@ pub struct StepEvaluation {
 }
 
 /// Evaluates the candidates `remaining` given `selected` for `response`; `None` when the
-/// response is a function of `selected` (the denominator of T_n is zero).
+/// response is a function of `selected` (the denominator of T_n is zero). `purpose` keys the
+/// null draws ("selection" for a step of a forward selection).
+#[allow(clippy::too_many_arguments)] // one step's coordinates; a struct would only rename them
 pub fn evaluate_step(
     data: &SearchData,
+    purpose: &str,
     response: usize,
     ranks: &TargetRanks,
     selected: &[usize],
@@ -155,7 +158,10 @@ pub fn evaluate_step(
         let observed = Observed {
             ranks,
             conditioning: conditioning.as_deref(),
-            joints: scored.iter().map(|(_, _, joint)| joint.as_slice()).collect(),
+            joints: scored
+                .iter()
+                .map(|(_, _, joint)| joint.as_slice())
+                .collect(),
             numerator: best_num,
             denominator,
         };
@@ -163,7 +169,7 @@ pub fn evaluate_step(
         max_statistic_test(
             &observed,
             pools.as_ref(),
-            &data.permutation_key("selection", response, selected, None),
+            &data.permutation_key(purpose, response, selected, None),
             &rule.test_plan(exhaustive),
         )
     });
@@ -201,9 +207,16 @@ pub fn forward_select(
                 StopReason::CandidatesExhausted
             };
         }
-        let Some(evaluation) =
-            evaluate_step(data, response, &ranks, &selected, &remaining, rule, exhaustive)
-        else {
+        let Some(evaluation) = evaluate_step(
+            data,
+            "selection",
+            response,
+            &ranks,
+            &selected,
+            &remaining,
+            rule,
+            exhaustive,
+        ) else {
             break StopReason::ResponseIsFunctionOfSelected;
         };
         let StepEvaluation {

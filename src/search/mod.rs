@@ -2,6 +2,7 @@
 //! Chatterjee 2021) and parent recovery from mutual Markov-boundary membership (Azadkia, Taeb and
 //! Bühlmann, arXiv:2111.14969).
 
+pub mod collider;
 pub mod forward;
 pub mod parents;
 pub mod rule;

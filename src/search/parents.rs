@@ -5,6 +5,7 @@
 //! v-structure at Y). None passing: the parents are not identifiable. More than one: the assumptions
 //! fail and nothing is claimed.
 
+use super::collider::{collider_test, ColliderTest};
 use super::forward::{forward_select, Selection, StopReason};
 use super::rule::SelectionRule;
 use super::SearchData;
@@ -31,7 +32,19 @@ pub struct PairTest {
     pub a_to_b_holm: f64,
     /// Holm-adjusted p-value of `b_to_a` within the component.
     pub b_to_a_holm: f64,
-    /// Neither direction rejects independence at level α after adjustment.
+    /// Calibrated rule: ξ_n(a, |b − median b|), dependence of b's spread on a.
+    #[serde(default)]
+    pub a_to_b_scale: Option<XiTest>,
+    /// Calibrated rule: ξ_n(b, |a − median a|).
+    #[serde(default)]
+    pub b_to_a_scale: Option<XiTest>,
+    /// Holm-adjusted p-value of `a_to_b_scale` (absent under the natural rule).
+    #[serde(default)]
+    pub a_to_b_scale_holm: Option<f64>,
+    /// Holm-adjusted p-value of `b_to_a_scale`.
+    #[serde(default)]
+    pub b_to_a_scale_holm: Option<f64>,
+    /// No direction rejects independence at level α after adjustment.
     pub independent: bool,
 }
 
@@ -114,6 +127,11 @@ pub struct Diagnostics {
     pub near_ties: Vec<NearTie>,
     /// The best T_n at the step where the target's selection stopped.
     pub last_step_best_t_n: Option<f64>,
+    /// Calibrated rule: the value T_n had to exceed at that step to be significant (its
+    /// permutation test's critical value, and at least 0): a link weaker than this cannot be told
+    /// from chance in these data, so its absence from the boundary is no evidence that it is absent.
+    #[serde(default)]
+    pub detectable_t_n: Option<f64>,
     /// Responses that turned out to be functions of their selected sets.
     pub functional_responses: Vec<String>,
     /// The near-tie margin in force.
@@ -129,8 +147,12 @@ pub struct ParentSearch {
     pub markov_boundary: Selection,
     /// The selection of every member of MB(target).
     pub boundaries: BTreeMap<String, Selection>,
-    /// Mutual-membership edges between members (each pair once, in selection order).
+    /// Edges between members: mutual memberships (each pair once, in selection order), then pairs
+    /// joined by the collider test.
     pub edges: Vec<[String; 2]>,
+    /// Collider tests of the pairs of confirmed members that are not in each other's boundary
+    /// (calibrated rule only).
+    pub collider_tests: Vec<ColliderTest>,
     /// Connected components of the mutual-membership graph.
     pub components: Vec<Component>,
     /// The conclusion.
@@ -198,6 +220,7 @@ pub fn local_parents(
     let k = confirmed.len();
     let mut adjacent = vec![vec![false; k]; k];
     let mut edges = Vec::new();
+    let mut untested = Vec::new();
     for a in 0..k {
         for b in (a + 1)..k {
             let (ma, mb_) = (confirmed[a], confirmed[b]);
@@ -210,7 +233,32 @@ pub fn local_parents(
                     data.name(members[ma]).to_string(),
                     data.name(members[mb_]).to_string(),
                 ]);
+            } else {
+                untested.push((a, b));
             }
+        }
+    }
+    // The calibrated rule also joins a pair that depends on each other given the target.
+    let collider_tests: Vec<ColliderTest> = match rule.is_calibrated() {
+        false => Vec::new(),
+        true => untested
+            .par_iter()
+            .map(|&(a, b)| {
+                collider_test(
+                    data,
+                    target,
+                    members[confirmed[a]],
+                    members[confirmed[b]],
+                    rule,
+                )
+            })
+            .collect(),
+    };
+    for (&(a, b), test) in untested.iter().zip(&collider_tests) {
+        if test.joined {
+            adjacent[a][b] = true;
+            adjacent[b][a] = true;
+            edges.push([test.a.clone(), test.b.clone()]);
         }
     }
     let components: Vec<Component> = connected_components(&adjacent)
@@ -220,7 +268,7 @@ pub fn local_parents(
             let is_clique = group
                 .iter()
                 .all(|&a| group.iter().all(|&b| a == b || adjacent[a][b]));
-            test_component(data, &columns, is_clique, alpha)
+            test_component(data, &columns, is_clique, alpha, rule.is_calibrated())
         })
         .collect();
 
@@ -253,6 +301,7 @@ pub fn local_parents(
     );
     ParentSearch {
         target: target_name,
+        collider_tests,
         boundaries: member_selections
             .into_iter()
             .map(|s| (s.response.clone(), s))
@@ -302,34 +351,67 @@ fn connected_components(adjacent: &[Vec<bool>]) -> Vec<Vec<usize>> {
     out
 }
 
-fn test_component(data: &SearchData, columns: &[usize], is_clique: bool, alpha: f64) -> Component {
+fn test_component(
+    data: &SearchData,
+    columns: &[usize],
+    is_clique: bool,
+    alpha: f64,
+    scale: bool,
+) -> Component {
+    struct Raw {
+        a: usize,
+        b: usize,
+        directions: [Option<XiTest>; 4],
+    }
     let mut raw_tests = Vec::new();
     for (i, &a) in columns.iter().enumerate() {
         for &b in &columns[i + 1..] {
             let ab = xi_test(data.raw(a), data.raw(b), &data.xi_key(a, b));
             let ba = xi_test(data.raw(b), data.raw(a), &data.xi_key(b, a));
-            raw_tests.push((a, b, ab, ba));
+            let (ab_scale, ba_scale) = match scale {
+                false => (None, None),
+                true => (
+                    xi_test(data.raw(a), &spread(data.raw(b)), &data.xi_key(a, b)),
+                    xi_test(data.raw(b), &spread(data.raw(a)), &data.xi_key(b, a)),
+                ),
+            };
+            raw_tests.push(Raw {
+                a,
+                b,
+                directions: [ab, ba, ab_scale, ba_scale],
+            });
         }
     }
-    // An undefined direction (constant column) gives no evidence of dependence: p = 1.
+    // An undefined direction (constant column) gives no evidence of dependence: p = 1. Scale
+    // directions are tested only under the calibrated rule.
+    let per_pair = if scale { 4 } else { 2 };
     let p: Vec<f64> = raw_tests
         .iter()
-        .flat_map(|(_, _, ab, ba)| [ab.map_or(1.0, |t| t.p_value), ba.map_or(1.0, |t| t.p_value)])
+        .flat_map(|t| {
+            t.directions[..per_pair]
+                .iter()
+                .map(|d| d.map_or(1.0, |t| t.p_value))
+        })
         .collect();
     let adjusted = holm_adjust(&p);
     let tests: Vec<PairTest> = raw_tests
         .into_iter()
         .enumerate()
-        .map(|(t, (a, b, ab, ba))| {
-            let (hab, hba) = (adjusted[2 * t], adjusted[2 * t + 1]);
+        .map(|(t, raw)| {
+            let holm = &adjusted[per_pair * t..per_pair * (t + 1)];
+            let [ab, ba, ab_scale, ba_scale] = raw.directions;
             PairTest {
-                a: data.name(a).to_string(),
-                b: data.name(b).to_string(),
+                a: data.name(raw.a).to_string(),
+                b: data.name(raw.b).to_string(),
                 a_to_b: ab,
                 b_to_a: ba,
-                a_to_b_holm: hab,
-                b_to_a_holm: hba,
-                independent: hab > alpha && hba > alpha,
+                a_to_b_holm: holm[0],
+                b_to_a_holm: holm[1],
+                a_to_b_scale: ab_scale,
+                b_to_a_scale: ba_scale,
+                a_to_b_scale_holm: holm.get(2).copied(),
+                b_to_a_scale_holm: holm.get(3).copied(),
+                independent: holm.iter().all(|&h| h > alpha),
             }
         })
         .collect();
@@ -341,6 +423,17 @@ fn test_component(data: &SearchData, columns: &[usize], is_clique: bool, alpha: 
         pairwise_independent,
         tests,
     }
+}
+
+/// |v − median(v)|: how far each value lies from the middle. ξ_n of a column on this spread sees
+/// dependence that changes only the scale of the other column, which ξ_n on the values themselves
+/// detects with little power (the lower median for an even count; the choice does not matter for
+/// the ranks that follow).
+fn spread(values: &[f64]) -> Vec<f64> {
+    let mut sorted = values.to_vec();
+    sorted.sort_by(f64::total_cmp);
+    let median = sorted[(sorted.len() - 1) / 2];
+    values.iter().map(|v| (v - median).abs()).collect()
 }
 
 fn quoted(names: &[String]) -> String {
@@ -364,7 +457,10 @@ fn explain(
                 "The parents of '{target}' are identified as {}: each carries information about \
                  '{target}' that no other measured column explains, they are independent of each \
                  other, and together they form a pattern (a v-structure) that only direct causes of \
-                 '{target}' produce under the stated assumptions.",
+                 '{target}' produce under the stated assumptions. The same pattern would appear if \
+                 an unmeasured variable drove both one of these columns and '{target}': the claim \
+                 rests on the assumption that no such common cause exists, which these data cannot \
+                 check.",
                 quoted(&parent_sets[0])
             );
             if !unconfirmed.is_empty() {
@@ -461,8 +557,14 @@ fn diagnose(
     }
     let last_step_best_t_n = match &mb.stop {
         StopReason::NoPositiveGain { best_t_n } => Some(*best_t_n),
+        StopReason::NotSignificant { best_t_n, .. } => Some(*best_t_n),
         _ => None,
     };
+    let stop_step = mb.steps.last().filter(|s| s.chosen.is_none());
+    let detectable_t_n = stop_step
+        .and_then(|s| s.test.as_ref())
+        .and_then(|t| t.critical_t_n)
+        .map(|c| c.max(0.0));
     Diagnostics {
         target_missing_from_member_boundary,
         one_way_memberships,
@@ -474,6 +576,7 @@ fn diagnose(
             .collect(),
         near_ties,
         last_step_best_t_n,
+        detectable_t_n,
         functional_responses,
         near_tie_margin: NEAR_TIE_MARGIN,
     }

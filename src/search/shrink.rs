@@ -64,7 +64,9 @@ pub fn shrink(
         let joint = data.neighbours(response, selected);
         let results: Vec<ShrinkTest> = selected
             .par_iter()
-            .map(|&member| test_member(data, response, ranks, selected, member, &joint, rule, round))
+            .map(|&member| {
+                test_member(data, response, ranks, selected, member, &joint, rule, round)
+            })
             .collect();
         let weakest = results
             .iter()

@@ -262,7 +262,10 @@ mod tests {
         let dist = |a: usize, b: usize| -> f64 {
             columns.iter().map(|c| (c[a] - c[b]) * (c[a] - c[b])).sum()
         };
-        let same: Vec<u32> = (0..n).filter(|&j| dist(row, j) == 0.0).map(|j| j as u32).collect();
+        let same: Vec<u32> = (0..n)
+            .filter(|&j| dist(row, j) == 0.0)
+            .map(|j| j as u32)
+            .collect();
         if same.len() >= k {
             return same;
         }
@@ -299,7 +302,9 @@ mod tests {
                 .map(|c| {
                     let mut rng = key.stream(c as u64);
                     // few distinct values: many duplicates and ties
-                    (0..120).map(|_| uniform_below(&mut rng, 4) as f64).collect()
+                    (0..120)
+                        .map(|_| uniform_below(&mut rng, 4) as f64)
+                        .collect()
                 })
                 .collect();
             let refs: Vec<&[f64]> = columns.iter().map(Vec::as_slice).collect();
@@ -343,7 +348,9 @@ mod tests {
             for (i, &s) in source.iter().enumerate() {
                 assert_eq!(x[i], x[s as usize], "within the stratum");
             }
-            *counts.entry([source[0], source[2], source[4]]).or_insert(0u32) += 1;
+            *counts
+                .entry([source[0], source[2], source[4]])
+                .or_insert(0u32) += 1;
         }
         assert_eq!(counts.len(), 6);
         let expected = draws as f64 / 6.0;
@@ -360,7 +367,9 @@ mod tests {
         let columns: Vec<Vec<f64>> = (0..2)
             .map(|c| {
                 let mut rng = key.stream(100 + c);
-                (0..300).map(|_| crate::rng::standard_normal(&mut rng)).collect()
+                (0..300)
+                    .map(|_| crate::rng::standard_normal(&mut rng))
+                    .collect()
             })
             .collect();
         let refs: Vec<&[f64]> = columns.iter().map(Vec::as_slice).collect();
@@ -371,13 +380,20 @@ mod tests {
             pools.draw(&mut key.stream(b), &mut buffers, &mut source);
             let mut sorted = source.clone();
             sorted.sort_unstable();
-            assert_eq!(sorted, (0..300).collect::<Vec<u32>>(), "every row taken once");
+            assert_eq!(
+                sorted,
+                (0..300).collect::<Vec<u32>>(),
+                "every row taken once"
+            );
             outside += (0..300)
                 .filter(|&i| !pools.pool_rows(i).contains(&source[i]))
                 .count();
         }
         // Only rows whose pool is used up go farther, to the next ring of pools: about one row in
         // eight here (measured 794 of 6000; the bound is ours).
-        assert!(outside < 20 * 300 / 5, "{outside} rows taken outside their pool");
+        assert!(
+            outside < 20 * 300 / 5,
+            "{outside} rows taken outside their pool"
+        );
     }
 }
