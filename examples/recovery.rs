@@ -21,7 +21,7 @@
 use forebear::data::fingerprint::sha256_file;
 use forebear::data::{read_csv, LoadOptions, Table};
 use forebear::measure::Scaling;
-use forebear::search::{local_parents, Outcome, ParentSearch, SearchData};
+use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
 use rayon::prelude::*;
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
@@ -32,6 +32,7 @@ type Graph = BTreeMap<String, BTreeSet<String>>;
 struct Settings {
     seed: u64,
     alpha: f64,
+    rule: SelectionRule,
     per_node: bool,
     files: Vec<PathBuf>,
 }
@@ -39,9 +40,11 @@ struct Settings {
 fn main() {
     let settings = parse_arguments();
     println!(
-        "local parent search, every column as target; scaling rank, seed {}, alpha {}, {} threads",
+        "local parent search, every column as target; scaling rank, seed {}, alpha {}, {} stopping \
+         rule, {} threads",
         settings.seed,
         settings.alpha,
+        settings.rule.stopping_rule.name(),
         rayon::current_num_threads()
     );
     let started = Instant::now();
@@ -58,6 +61,7 @@ fn parse_arguments() -> Settings {
     let mut settings = Settings {
         seed: 1,
         alpha: 0.05,
+        rule: SelectionRule::calibrated(),
         per_node: false,
         files: Vec::new(),
     };
@@ -77,6 +81,13 @@ fn parse_arguments() -> Settings {
                 settings.alpha = value("--alpha")
                     .parse()
                     .unwrap_or_else(|_| usage("bad --alpha"))
+            }
+            "--rule" => {
+                settings.rule = match value("--rule").as_str() {
+                    "calibrated" => SelectionRule::calibrated(),
+                    "natural" => SelectionRule::natural(),
+                    _ => usage("--rule is calibrated or natural"),
+                }
             }
             "--nodes" => settings.per_node = true,
             "--help" | "-h" => usage(""),
@@ -101,7 +112,7 @@ fn usage(problem: &str) -> ! {
     if !problem.is_empty() {
         eprintln!("{problem}");
     }
-    eprintln!("usage: cargo run --release --example recovery -- [--seed N] [--alpha A] [--nodes] [FILE.csv ...]");
+    eprintln!("usage: cargo run --release --example recovery -- [--seed N] [--alpha A] [--rule calibrated|natural] [--nodes] [FILE.csv ...]");
     std::process::exit(2);
 }
 
@@ -336,7 +347,7 @@ fn run_data_set(path: &Path, settings: &Settings) -> Result<(), String> {
         .par_iter()
         .map(|&target| {
             let candidates: Vec<usize> = all.iter().copied().filter(|&j| j != target).collect();
-            local_parents(&data, target, &candidates, settings.alpha)
+            local_parents(&data, target, &candidates, settings.alpha, &settings.rule)
         })
         .collect();
     let seconds = started.elapsed().as_secs_f64();

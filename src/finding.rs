@@ -4,6 +4,7 @@ use crate::data::DataReport;
 use crate::resample::Stability;
 use crate::search::collider::ColliderTest;
 use crate::search::parents::Diagnostics;
+use crate::search::shrink::ShrinkTest;
 use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
 use crate::study::Study;
 use serde::{Deserialize, Serialize};
@@ -140,8 +141,14 @@ pub struct Finding {
     pub markov_boundary: Vec<String>,
     /// Every step of the target's selection.
     pub trace: Vec<Step>,
-    /// Why the target's selection stopped.
+    /// Why the target's forward selection stopped.
     pub stop: StopReason,
+    /// The shrink phase of the target's selection (calibrated rule).
+    #[serde(default)]
+    pub shrink: Vec<ShrinkTest>,
+    /// Members the shrink phase removed from the target's boundary, in the order removed.
+    #[serde(default)]
+    pub removed: Vec<String>,
     /// The selection of every member's own boundary.
     pub boundaries: BTreeMap<String, Selection>,
     /// Edges between members: mutual memberships, then pairs joined by the collider test.
@@ -180,6 +187,8 @@ impl Finding {
             markov_boundary: search.markov_boundary.selected,
             trace: search.markov_boundary.steps,
             stop: search.markov_boundary.stop,
+            shrink: search.markov_boundary.shrink,
+            removed: search.markov_boundary.removed,
             boundaries: search.boundaries,
             edges: search.edges,
             collider_tests: search.collider_tests,

@@ -268,9 +268,8 @@ pub const SEARCH_MIN_ROWS: usize = 20;
 
 /// Why a sample needs [`SEARCH_MIN_ROWS`] rows, for messages.
 const SEARCH_MIN_ROWS_REASON: &str = "the search needs at least 20 rows per sample: each \
-     selection step tests its best column against permutations of the rows, and with 4 rows no \
-     outcome of that test is significant at level 0.05 (with 6 rows not even a perfect link is); \
-     below 20 rows a link would have to be nearly perfect to be seen";
+     selection step tests its best column against permutations of the rows, and with 6 rows or \
+     fewer not even a perfect link can reach significance at level 0.05";
 
 /// Why the search needs two candidates.
 const CANDIDATES_REASON: &str = "parents are recognised as two or more members of the target's \

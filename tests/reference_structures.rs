@@ -15,7 +15,7 @@
 
 use forebear::data::{read_csv, LoadOptions, Table};
 use forebear::measure::Scaling;
-use forebear::search::{local_parents, Outcome, ParentSearch, SearchData};
+use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
 use std::collections::BTreeSet;
 use std::path::Path;
 
@@ -42,7 +42,7 @@ fn analyze(file: &str, target: &str) -> ParentSearch {
     let data = SearchData::new(&table, Scaling::Rank, 1, 0);
     let t = table.index_of(target).expect("target column");
     let candidates: Vec<usize> = (0..table.n_cols()).filter(|&j| j != t).collect();
-    local_parents(&data, t, &candidates, 0.05)
+    local_parents(&data, t, &candidates, 0.05, &SelectionRule::calibrated())
 }
 
 fn set(names: &[&str]) -> BTreeSet<String> {

@@ -6,7 +6,7 @@
 use forebear::data::Table;
 use forebear::measure::Scaling;
 use forebear::rng::{standard_normal, unit_interval, Key};
-use forebear::search::{local_parents, Outcome, ParentSearch, SearchData};
+use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
 
 /// Simulates `n` rows; `row` maps one row's random stream to its values in column order.
 fn simulate(
@@ -30,7 +30,7 @@ fn search(table: &Table, target: &str) -> ParentSearch {
     let data = SearchData::new(table, Scaling::Rank, 1, 0);
     let t = table.index_of(target).unwrap();
     let candidates: Vec<usize> = (0..table.n_cols()).filter(|&j| j != t).collect();
-    local_parents(&data, t, &candidates, 0.05)
+    local_parents(&data, t, &candidates, 0.05, &SelectionRule::calibrated())
 }
 
 fn sorted(mut v: Vec<String>) -> Vec<String> {

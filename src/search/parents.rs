@@ -186,16 +186,21 @@ pub fn local_parents(
         .map(|s| s.selected.iter().map(String::as_str).collect())
         .collect();
 
-    // A member counts only if membership is mutual with the target as well: under the assumptions
-    // Y ∈ MB(X) iff X ∈ MB(Y), so a member whose own boundary lacks Y is treated as a chance
-    // selection (reported in the diagnostics) and takes no part in the graph. This can only remove
-    // claims, never add one. Exception: a member that is a function of its own selected set (its
-    // search stopped on a zero denominator) has a truncated boundary, so the absence of Y there is
-    // no evidence against it.
+    // Natural rule: a member counts only if membership is mutual with the target as well: under
+    // the assumptions Y ∈ MB(X) iff X ∈ MB(Y), so a member whose own boundary lacks Y is treated
+    // as a chance selection (reported in the diagnostics) and takes no part in the graph. This can
+    // only remove claims, never add one. Exception: a member that is a function of its own selected
+    // set (its search stopped on a zero denominator) has a truncated boundary, so the absence of Y
+    // there is no evidence against it.
+    // Calibrated rule: every member entered MB(Y) through a level-α test, which is what the
+    // mutual check stood in for; asking again for Y in the member's boundary (given columns that
+    // may be near copies of Y, such as Y's other children) only loses true members, so every member
+    // counts. One-way memberships are still reported.
     let target_name = data.name(target).to_string();
     let confirmed: Vec<usize> = (0..members.len())
         .filter(|&a| {
-            boundary_sets[a].contains(target_name.as_str())
+            rule.is_calibrated()
+                || boundary_sets[a].contains(target_name.as_str())
                 || member_selections[a].stop == StopReason::ResponseIsFunctionOfSelected
         })
         .collect();
