@@ -257,6 +257,11 @@ struct NodeResult {
     blanket: BTreeSet<String>,
     /// Parents and children in the true graph.
     adjacent: BTreeSet<String>,
+    /// Members that took part in the parent step (the natural rule leaves out members whose own
+    /// boundary lacks the target).
+    confirmed: BTreeSet<String>,
+    /// The components of the members' graph.
+    components: Vec<BTreeSet<String>>,
 }
 
 impl NodeResult {
@@ -264,6 +269,36 @@ impl NodeResult {
         match self.outcome {
             Outcome::Identified => self.claimed.difference(&self.parents).count(),
             _ => 0,
+        }
+    }
+
+    /// For a findable target (two or more pairwise independent parents) that was not identified
+    /// exactly, the first step of the search that went wrong:
+    /// (A) the target's boundary misses a true parent; (B) a true parent is in the boundary but
+    /// takes no part in the parent step (natural rule: its own boundary lacks the target);
+    /// (C) two true parents take part but lie in different components (no edge joins them);
+    /// (D) a non-parent lies in the parents' component; (E) the component is exactly the parents
+    /// but the pairwise independence tests rejected; (F) anything else (e.g. a conflict).
+    fn first_failing_step(&self) -> Option<&'static str> {
+        let exact = self.outcome == Outcome::Identified && self.claimed == self.parents;
+        if !self.independent_parents || exact {
+            return None;
+        }
+        if !self.parents.is_subset(&self.boundary) {
+            return Some("A");
+        }
+        if !self.parents.is_subset(&self.confirmed) {
+            return Some("B");
+        }
+        let holding = self
+            .components
+            .iter()
+            .find(|c| c.contains(self.parents.iter().next().expect("two or more parents")));
+        match holding {
+            Some(c) if !self.parents.is_subset(c) => Some("C"),
+            Some(c) if c != &self.parents => Some("D"),
+            Some(_) if !self.passing.contains(&self.parents) => Some("E"),
+            _ => Some("F"),
         }
     }
 
@@ -370,6 +405,16 @@ fn run_data_set(path: &Path, settings: &Settings) -> Result<(), String> {
                 boundary: search.markov_boundary.selected.iter().cloned().collect(),
                 blanket: markov_blanket(&truth.parents, &node),
                 adjacent: adjacent[&node].clone(),
+                confirmed: search
+                    .components
+                    .iter()
+                    .flat_map(|c| c.members.iter().cloned())
+                    .collect(),
+                components: search
+                    .components
+                    .iter()
+                    .map(|c| c.members.iter().cloned().collect())
+                    .collect(),
                 name: node,
             }
         })
@@ -531,8 +576,29 @@ fn print_summary(results: &[NodeResult]) {
     println!("{}", Tally::of(results.iter()).row("all"));
 }
 
-/// Every identified target with a wrong claim or an inexact set, and every conflict.
+/// Every identified target with a wrong claim or an inexact set, and every conflict; then the first
+/// failing step of every findable target that was missed.
 fn print_notable(results: &[NodeResult]) {
+    let mut steps: BTreeMap<&str, Vec<&str>> = BTreeMap::new();
+    for r in results {
+        if let Some(step) = r.first_failing_step() {
+            steps.entry(step).or_default().push(&r.name);
+        }
+    }
+    let findable = results.iter().filter(|r| r.independent_parents).count();
+    let missed: usize = steps.values().map(Vec::len).sum();
+    println!(
+        "  findable targets (two or more pairwise independent parents): {findable}, found exactly: {}, \
+         missed: {missed}",
+        findable - missed
+    );
+    for (step, nodes) in &steps {
+        println!(
+            "  first failing step {step}: {} ({})",
+            nodes.len(),
+            nodes.join(", ")
+        );
+    }
     for r in results {
         let inexact = r.outcome == Outcome::Identified && r.claimed != r.parents;
         if inexact || r.outcome == Outcome::Conflict {

@@ -446,9 +446,9 @@ fn fewer_rows_than_the_resampling_plan_needs_say_how_many_and_why() {
         &["five.csv"],
         &[
             "5 data row(s)",
-            "at least 6",
+            "at least 40",
             "half of the rows",
-            "nearest neighbour",
+            "at least 20 rows per sample",
         ],
     );
     let output = analyze(
