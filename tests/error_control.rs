@@ -70,6 +70,7 @@ fn pure_noise_gives_a_non_empty_boundary_in_at_most_about_alpha_of_files() {
         }
     }
     assert_eq!(files, 48);
+    eprintln!("noise files with a non-empty boundary: {} of 48 {non_empty:?}", non_empty.len());
     // With α = 0.05 and 48 independent files, the count is Binomial(48, ≤ 0.05): mean ≤ 2.4, and
     // P(count ≥ 7) < 0.012 (binomial tail, common practice). The natural rule links a column on
     // almost every file (probability 1 − 2^−p per file).
@@ -95,6 +96,7 @@ fn the_natural_rule_links_noise_almost_always_which_is_why_it_is_not_the_default
                 .is_empty()
         })
         .count();
+    eprintln!("natural rule: {linked} of 12 noise files linked");
     assert!(linked >= 11, "only {linked} of 12 noise files linked");
 }
 
