@@ -8,7 +8,7 @@
 //! Rejection rates with their binomial standard errors: docs/calibration.md.
 //!
 //! ```text
-//! cargo run --release --example calibration -- [--reps R] [--pool-rows 5,10] [--sizes 200,1000]
+//! cargo run --release --example calibration -- [--reps R] [--block-rows 5,10] [--sizes 200,1000]
 //!     [--alpha A] [--only NAME]
 //! ```
 //! Data are generated here (invented mechanisms, seeded through `forebear::rng`), not tuned on.
@@ -258,7 +258,7 @@ fn scenarios() -> Vec<Scenario> {
 
 struct Options {
     reps: u64,
-    pool_rows: Vec<usize>,
+    block_rows: Vec<usize>,
     sizes: Vec<usize>,
     alpha: f64,
     only: Option<String>,
@@ -277,7 +277,7 @@ fn list<T: std::str::FromStr>(text: &str) -> Vec<T> {
 fn options() -> Options {
     let mut o = Options {
         reps: 200,
-        pool_rows: vec![5],
+        block_rows: vec![5],
         sizes: vec![200, 1000, 4000],
         alpha: 0.05,
         only: None,
@@ -288,7 +288,7 @@ fn options() -> Options {
         let value = args.get(i + 1).cloned().expect("a value after each flag");
         match args[i].as_str() {
             "--reps" => o.reps = value.parse().expect("--reps N"),
-            "--pool-rows" => o.pool_rows = list(&value),
+            "--block-rows" => o.block_rows = list(&value),
             "--sizes" => o.sizes = list(&value),
             "--alpha" => o.alpha = value.parse().expect("--alpha A"),
             "--only" => o.only = Some(value),
@@ -306,7 +306,7 @@ fn main() {
         ..SelectionRule::calibrated()
     };
     println!(
-        "| scenario | d | candidates | n | pool rows | replications | significant | ± SE | mean p |"
+        "| scenario | d | candidates | n | block rows | replications | significant | ± SE | mean p |"
     );
     println!("|---|---|---|---|---|---|---|---|---|");
     for scenario in scenarios() {
@@ -317,9 +317,9 @@ fn main() {
             continue;
         }
         for &n in &o.sizes {
-            for &k in &o.pool_rows {
-                if scenario.d == 0 && k != o.pool_rows[0] {
-                    continue; // no pools without a conditioning set
+            for &k in &o.block_rows {
+                if scenario.d == 0 && k != o.block_rows[0] {
+                    continue; // no blocks without a conditioning set
                 }
                 let (mut significant, mut p_sum) = (0u64, 0.0);
                 for rep in 0..o.reps {
@@ -336,7 +336,7 @@ fn main() {
                     columns.extend(s);
                     columns.extend(xs);
                     let table = Table::from_columns(names, columns);
-                    let data = SearchData::new(&table, Scaling::Rank, rep, 0).with_pool_rows(k);
+                    let data = SearchData::new(&table, Scaling::Rank, rep, 0).with_block_rows(k);
                     let selected: Vec<usize> = (1..=scenario.d).collect();
                     let remaining: Vec<usize> =
                         (scenario.d + 1..=scenario.d + scenario.p).collect();

@@ -70,7 +70,10 @@ fn pure_noise_gives_a_non_empty_boundary_in_at_most_about_alpha_of_files() {
         }
     }
     assert_eq!(files, 48);
-    eprintln!("noise files with a non-empty boundary: {} of 48 {non_empty:?}", non_empty.len());
+    eprintln!(
+        "noise files with a non-empty boundary: {} of 48 {non_empty:?}",
+        non_empty.len()
+    );
     // With α = 0.05 and 48 independent files, the count is Binomial(48, ≤ 0.05): mean ≤ 2.4, and
     // P(count ≥ 7) < 0.012 (binomial tail, common practice). The natural rule links a column on
     // almost every file (probability 1 − 2^−p per file).
@@ -110,7 +113,8 @@ fn root_with_children(seed: u64, n: usize) -> Table {
             *v *= 2.0;
         }
     }
-    let noise = |rng: &mut ChaCha20Rng| -> Vec<f64> { (0..n).map(|_| standard_normal(rng)).collect() };
+    let noise =
+        |rng: &mut ChaCha20Rng| -> Vec<f64> { (0..n).map(|_| standard_normal(rng)).collect() };
     let (e1, e2, e3) = (noise(&mut rng), noise(&mut rng), noise(&mut rng));
     let spouse = column(&mut rng, n, seed + 1);
     let unrelated = column(&mut rng, n, seed + 2);
@@ -162,7 +166,10 @@ fn analyze_reports_a_noise_file_as_noise_and_refuses_four_rows() {
     common::assert_success(&common::analyze(&scratch, &noise, "y", &[]));
     let result = common::result_json(&scratch.path("out"));
     assert_eq!(result["outcome"], "empty_boundary");
-    assert_eq!(result["settings"]["selection"]["stopping_rule"], "calibrated");
+    assert_eq!(
+        result["settings"]["selection"]["stopping_rule"],
+        "calibrated"
+    );
     // What the data could have detected: the critical value of the first step's test.
     let detectable = result["diagnostics"]["detectable_t_n"].as_f64().unwrap();
     assert!(detectable > 0.0 && detectable < 0.2, "{detectable}");
@@ -174,6 +181,10 @@ fn analyze_reports_a_noise_file_as_noise_and_refuses_four_rows() {
         &refused,
         &scratch,
         &["four.csv"],
-        &["4 data row(s)", "at least 20 are needed", "not even a perfect link"],
+        &[
+            "4 data row(s)",
+            "at least 20 are needed",
+            "not even a perfect link",
+        ],
     );
 }

@@ -58,9 +58,18 @@ fn v_structure_at_the_target_is_identified_exactly() {
     for rule in [SelectionRule::calibrated(), SelectionRule::natural()] {
         let found = search_with(&table, "y", &rule);
         let name = rule.stopping_rule.name();
-        assert_eq!(found.outcome, Outcome::Identified, "{name}: {}", found.explanation);
+        assert_eq!(
+            found.outcome,
+            Outcome::Identified,
+            "{name}: {}",
+            found.explanation
+        );
         assert_eq!(found.parent_sets.len(), 1);
-        assert_eq!(sorted(found.parent_sets[0].clone()), vec!["a", "b"], "{name}");
+        assert_eq!(
+            sorted(found.parent_sets[0].clone()),
+            vec!["a", "b"],
+            "{name}"
+        );
         let boundary = found.markov_boundary.selected.clone();
         assert!(boundary.contains(&"a".to_string()) && boundary.contains(&"b".to_string()));
         assert!(

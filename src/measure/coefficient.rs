@@ -74,6 +74,38 @@ impl TargetRanks {
         TargetRanks { at_most, at_least }
     }
 
+    /// Σ min(R_i, R_M(i)) over the rows, for neighbours `joint`: the part of T_n's numerator that
+    /// depends on the candidate. The numerator is this sum minus [`TargetRanks::conditioning_sum`]
+    /// with X non-empty, and n times it minus Σ L_i² with X empty.
+    pub fn joint_sum(&self, joint: &[u32]) -> i128 {
+        let r = &self.at_most;
+        // Each term is at most n < 2^32, so a u64 holds the sum of up to 2^32 terms.
+        let sum: u64 = r
+            .iter()
+            .zip(joint)
+            .map(|(&ri, &m)| u64::from(ri.min(r[m as usize])))
+            .sum();
+        i128::from(sum)
+    }
+
+    /// Σ min(R_i, R_N(i)) for the neighbours N in X: shared by every candidate of a step.
+    pub fn conditioning_sum(&self, conditioning: &[u32]) -> i128 {
+        self.joint_sum(conditioning)
+    }
+
+    /// Σ R_i.
+    pub fn rank_sum(&self) -> i128 {
+        i128::from(self.at_most.iter().map(|&r| u64::from(r)).sum::<u64>())
+    }
+
+    /// Σ L_i².
+    pub fn at_least_square_sum(&self) -> i128 {
+        self.at_least
+            .iter()
+            .map(|&l| i128::from(l) * i128::from(l))
+            .sum()
+    }
+
     /// Number of rows.
     pub fn n(&self) -> usize {
         self.at_most.len()

@@ -2,11 +2,12 @@
 //! handled by the maximum statistic and Monte Carlo p-values that stop early.
 //!
 //! - **Null draws.** With an empty conditioning set X the response is permuted (exact under
-//!   Y ⊥ Z); with a non-empty X it is permuted locally: each row takes the response of a row among
-//!   its nearest in X (Runge 2018, AISTATS, Algorithm 1; see `neighbors::pools`). Permuting the
-//!   response rather than the candidates keeps every neighbour structure of the step (the
-//!   neighbours in X and in X plus each candidate depend on the predictors only), so one draw costs
-//!   a recount of ranks and one pass per candidate, and one draw serves every candidate at once.
+//!   Y ⊥ Z); with a non-empty X it is permuted locally, within blocks of rows that lie close
+//!   together in X (`neighbors::blocks`; Runge 2018, AISTATS; Kim, Neykov, Balakrishnan and
+//!   Wasserman 2022, Ann. Statist.). Permuting the response rather than the candidates keeps every
+//!   neighbour structure of the step (the neighbours in X and in X plus each candidate depend on
+//!   the predictors only), so one draw costs a recount of ranks and one pass per candidate, and one
+//!   draw serves every candidate at once.
 //! - **Multiplicity.** The statistic of a step is the largest T_n over the remaining candidates,
 //!   compared with the largest over the same candidates in each draw: the single-step maximum-T
 //!   method of Westfall and Young (1993, "Resampling-Based Multiple Testing"), which keeps the
@@ -20,13 +21,14 @@
 //! which draws are computed, so the p-value does not depend on the thread count.
 
 use super::coefficient::TargetRanks;
-use super::neighbors::pools::{random_order, DrawBuffers, Pools};
+use super::neighbors::blocks::{random_order, Blocks};
 use crate::rng::Key;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-/// Rows per pool of the local permutation: Runge (2018) uses 5 to 10 nearest neighbours in his
-/// experiments (from memory); the calibration study in docs/calibration.md measured this value.
+/// Fewest rows per block of the local permutation (blocks hold 5 to 9 rows, or one stratum of a
+/// discrete X): Runge (2018) permutes among 5 to 10 nearest neighbours in his experiments (from
+/// memory); docs/calibration.md measured the level with this value.
 pub const LOCAL_PERMUTATION_ROWS: usize = 5;
 
 /// How the null draws of a test were made.
@@ -35,7 +37,7 @@ pub const LOCAL_PERMUTATION_ROWS: usize = 5;
 pub enum NullScheme {
     /// The response permuted over all rows (empty conditioning set).
     Permutation,
-    /// The response permuted within pools of nearest rows of the conditioning set.
+    /// The response permuted within blocks of nearby rows of the conditioning set.
     LocalPermutation,
 }
 
@@ -95,11 +97,11 @@ pub struct Observed<'a> {
 /// Draws made in parallel before the stopping rule looks at them (in draw order).
 const BATCH: u32 = 16;
 
-/// Tests the largest T_n of `observed` against draws of the response: permuted when `pools` is
-/// `None`, else permuted locally within the pools (which must be those of the conditioning set).
+/// Tests the largest T_n of `observed` against draws of the response: permuted when `blocks` is
+/// `None`, else permuted within the blocks (which must be those of the conditioning set).
 pub fn max_statistic_test(
     observed: &Observed,
-    pools: Option<&Pools>,
+    blocks: Option<&Blocks>,
     key: &Key,
     plan: &TestPlan,
 ) -> PermutationTest {
@@ -113,7 +115,7 @@ pub fn max_statistic_test(
     while made < plan.max_permutations && !stopped {
         let batch: Vec<(i128, i128)> = (made..(made + BATCH).min(plan.max_permutations))
             .into_par_iter()
-            .map(|b| null_statistic(observed, pools, key, b))
+            .map(|b| null_statistic(observed, blocks, key, b))
             .collect();
         for draw in batch {
             made += 1;
@@ -139,7 +141,7 @@ pub fn max_statistic_test(
         p_value,
         permutations: made,
         exceedances,
-        scheme: match pools {
+        scheme: match blocks {
             None => NullScheme::Permutation,
             Some(_) => NullScheme::LocalPermutation,
         },
@@ -148,23 +150,36 @@ pub fn max_statistic_test(
 }
 
 /// The largest numerator over the candidates in draw b, and the draw's denominator.
-fn null_statistic(observed: &Observed, pools: Option<&Pools>, key: &Key, b: u32) -> (i128, i128) {
+fn null_statistic(observed: &Observed, blocks: Option<&Blocks>, key: &Key, b: u32) -> (i128, i128) {
     let n = observed.ranks.n();
     let mut rng = key.stream(u64::from(b));
     let mut source = Vec::with_capacity(n);
-    match pools {
+    match blocks {
         None => random_order(n, &mut rng, &mut source),
-        Some(pools) => pools.draw(&mut rng, &mut DrawBuffers::default(), &mut source),
+        Some(blocks) => blocks.draw(&mut rng, &mut source),
     }
     let ranks = observed.ranks.permuted(&source, &mut Vec::new());
-    let denominator = ranks.denominator(observed.conditioning);
-    let best = observed
+    // The numerators as `TargetRanks::numerator` computes them, with the part every candidate
+    // shares computed once (`tests::shared_parts_give_the_numerators_of_target_ranks`).
+    let best_joint = observed
         .joints
         .iter()
-        .map(|joint| ranks.numerator(observed.conditioning, joint))
+        .map(|joint| ranks.joint_sum(joint))
         .max()
         .expect("at least one candidate");
-    (best, denominator)
+    match observed.conditioning {
+        None => {
+            let n = ranks.n() as i128;
+            (
+                n * best_joint - ranks.at_least_square_sum(),
+                ranks.denominator(None),
+            )
+        }
+        Some(conditioning) => {
+            let shared = ranks.conditioning_sum(conditioning);
+            (best_joint - shared, ranks.rank_sum() - shared)
+        }
+    }
 }
 
 /// Whether a draw's statistic is at least the observed one, compared exactly. A draw whose
@@ -232,6 +247,34 @@ mod tests {
         }
         assert_eq!(TestPlan::fewest_permutations(0.05), 19);
         assert_eq!(TestPlan::fewest_permutations(0.01), 99);
+    }
+
+    #[test]
+    fn shared_parts_give_the_numerators_of_target_ranks() {
+        let key = Key::new("shared-parts", 4).finish();
+        let mut rng = key.stream(0);
+        let y: Vec<f64> = (0..300)
+            .map(|_| crate::rng::uniform_below(&mut rng, 40) as f64)
+            .collect();
+        let ranks = TargetRanks::new(&y);
+        let x: Vec<f64> = (0..300).map(|i| ((i * 7) % 23) as f64).collect();
+        let z: Vec<f64> = (0..300).map(|i| ((i * 11) % 31) as f64).collect();
+        let conditioning = crate::measure::neighbors::nearest_neighbours(&[&x], &key);
+        let joint = crate::measure::neighbors::nearest_neighbours(&[&x, &z], &key);
+        let shared = ranks.conditioning_sum(&conditioning);
+        assert_eq!(
+            ranks.joint_sum(&joint) - shared,
+            ranks.numerator(Some(&conditioning), &joint)
+        );
+        assert_eq!(
+            ranks.rank_sum() - shared,
+            ranks.denominator(Some(&conditioning))
+        );
+        let n = 300i128;
+        assert_eq!(
+            n * ranks.joint_sum(&joint) - ranks.at_least_square_sum(),
+            ranks.numerator(None, &joint)
+        );
     }
 
     /// The exact permutation p-value of T_n(y, x) for y = x (the strongest dependence n rows can

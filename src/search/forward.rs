@@ -165,10 +165,10 @@ pub fn evaluate_step(
             numerator: best_num,
             denominator,
         };
-        let pools = (!selected.is_empty()).then(|| data.permutation_pools(selected));
+        let blocks = (!selected.is_empty()).then(|| data.permutation_blocks(selected));
         max_statistic_test(
             &observed,
-            pools.as_ref(),
+            blocks.as_ref(),
             &data.permutation_key(purpose, response, selected, None),
             &rule.test_plan(exhaustive),
         )

@@ -13,7 +13,7 @@ pub use parents::{local_parents, Component, Outcome, PairTest, ParentSearch};
 pub use rule::{SelectionRule, StoppingRule};
 
 use crate::data::Table;
-use crate::measure::neighbors::pools::Pools;
+use crate::measure::neighbors::blocks::Blocks;
 use crate::measure::neighbors::Neighbourhood;
 use crate::measure::permutation::LOCAL_PERMUTATION_ROWS;
 use crate::measure::Scaling;
@@ -30,8 +30,8 @@ pub struct SearchData<'a> {
     pub replicate: u64,
     /// Original row behind each row when rows repeat (bootstrap).
     origins: Option<Vec<u32>>,
-    /// Rows per pool of the local permutation.
-    pool_rows: usize,
+    /// Fewest rows per block of the local permutation.
+    block_rows: usize,
 }
 
 impl<'a> SearchData<'a> {
@@ -46,14 +46,14 @@ impl<'a> SearchData<'a> {
             seed,
             replicate,
             origins: None,
-            pool_rows: LOCAL_PERMUTATION_ROWS,
+            block_rows: LOCAL_PERMUTATION_ROWS,
         }
     }
 
-    /// Another number of rows per local-permutation pool (for the calibration study only; the
+    /// Another number of rows per local-permutation block (for the calibration study only; the
     /// method uses `LOCAL_PERMUTATION_ROWS`).
-    pub fn with_pool_rows(mut self, rows: usize) -> Self {
-        self.pool_rows = rows;
+    pub fn with_block_rows(mut self, rows: usize) -> Self {
+        self.block_rows = rows;
         self
     }
 
@@ -112,9 +112,9 @@ impl<'a> SearchData<'a> {
             .finish()
     }
 
-    /// The pools of the local permutation in the space of `columns` (non-empty).
-    pub fn permutation_pools(&self, columns: &[usize]) -> Pools {
-        Pools::new(&self.space(columns), self.pool_rows)
+    /// The blocks of the local permutation in the space of `columns` (non-empty).
+    pub fn permutation_blocks(&self, columns: &[usize]) -> Blocks {
+        Blocks::new(&self.space(columns), self.block_rows)
     }
 
     /// The key of the null draws of a permutation test of `response` given the set `columns`:

@@ -125,7 +125,7 @@ fn test_member(
         };
         max_statistic_test(
             &observed,
-            Some(&data.permutation_pools(&others)),
+            Some(&data.permutation_blocks(&others)),
             &data.permutation_key("shrink", response, &others, Some(member)),
             &rule.test_plan(false),
         )

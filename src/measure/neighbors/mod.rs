@@ -25,7 +25,7 @@
 use crate::rng::{uniform_below, Key};
 use rayon::prelude::*;
 
-pub mod pools;
+pub mod blocks;
 
 /// Highest dimension searched with a kd-tree; above it the exact brute-force search is used.
 pub const MAX_TREE_DIMENSION: usize = 12;
