@@ -11,7 +11,7 @@ use std::path::Path;
 use std::process::{Command, Stdio};
 
 /// (method version, analysis, digest of its result).
-const PINNED: [(&str, &str, &str); 4] = [
+const PINNED: [(&str, &str, &str); 7] = [
     (
         "forebear-method/1",
         "demo crush_strength, complementary pairs ×10, rank scaling",
@@ -34,6 +34,25 @@ const PINNED: [(&str, &str, &str); 4] = [
         "forebear-method/2",
         "demo pore_density, bootstrap ×4, standardize scaling, seed 7",
         "7ce897daa45222109517a2046f8bbf336ab930b65875dcb353dc28d18f08bbdc",
+    ),
+    // Version 3: the calibrated stopping rule is the default (permutation tests of every forward
+    // step, the shrink phase, the collider test, the spread-aware independence test, every member
+    // in the parent step), the settings record the selection rule, steps record their tests; the
+    // natural rule stays selectable and its parent step is unchanged.
+    (
+        "forebear-method/3",
+        "demo crush_strength, complementary pairs ×10, rank scaling",
+        "a38a6c67424785b74032dec47002dbdb1046502285b825f1bfb40e0dd6fe217a",
+    ),
+    (
+        "forebear-method/3",
+        "demo pore_density, bootstrap ×4, standardize scaling, seed 7",
+        "48005996157c8a6ba69635143a158c8d97ae77190edbc37b24b822891e21a259",
+    ),
+    (
+        "forebear-method/3",
+        "demo crush_strength, natural stopping rule, no resampling",
+        "5b39d061130a38538155c568cce4bd7e167a18b819dc231e413f86aa22d98c05",
     ),
 ];
 
@@ -82,15 +101,29 @@ fn method_version_names_exactly_these_results() {
                 "7",
             ],
         ),
+        digest(
+            &data,
+            &dir.join("c"),
+            &[
+                "--target",
+                "crush_strength",
+                "--replicates",
+                "0",
+                "--stopping-rule",
+                "natural",
+            ],
+        ),
     ];
     let current = forebear::finding::METHOD_VERSION;
     let pinned: Vec<&(&str, &str, &str)> = PINNED.iter().filter(|p| p.0 == current).collect();
+    // Versions before 3 pinned the first two analyses only.
+    let computed = &computed[..pinned.len().clamp(2, computed.len())];
     assert_eq!(
         pinned.len(),
         computed.len(),
         "no digests are pinned for method version {current}; record these: {computed:?}"
     );
-    for ((_, what, expected), got) in pinned.iter().zip(&computed) {
+    for ((_, what, expected), got) in pinned.iter().zip(computed) {
         assert_eq!(
             got, expected,
             "{what}: the results changed under method version {current}; if the change is meant, \
