@@ -117,7 +117,11 @@ fn method_version_names_exactly_these_results() {
     let current = forebear::finding::METHOD_VERSION;
     let pinned: Vec<&(&str, &str, &str)> = PINNED.iter().filter(|p| p.0 == current).collect();
     // Versions before 3 pinned the first two analyses only.
-    let computed = &computed[..pinned.len().clamp(2, computed.len())];
+    let computed = if pinned.len() == 2 {
+        &computed[..2]
+    } else {
+        &computed[..]
+    };
     assert_eq!(
         pinned.len(),
         computed.len(),
