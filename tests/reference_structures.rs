@@ -38,11 +38,15 @@ fn table(file: &str) -> Table {
 /// The local parent search with the defaults of `forebear analyze` (rank scaling, seed 1,
 /// α = 0.05), every other column a candidate.
 fn analyze(file: &str, target: &str) -> ParentSearch {
+    analyze_with(file, target, &SelectionRule::calibrated())
+}
+
+fn analyze_with(file: &str, target: &str, rule: &SelectionRule) -> ParentSearch {
     let table = table(file);
     let data = SearchData::new(&table, Scaling::Rank, 1, 0);
     let t = table.index_of(target).expect("target column");
     let candidates: Vec<usize> = (0..table.n_cols()).filter(|&j| j != t).collect();
-    local_parents(&data, t, &candidates, 0.05, &SelectionRule::calibrated())
+    local_parents(&data, t, &candidates, 0.05, rule)
 }
 
 fn set(names: &[&str]) -> BTreeSet<String> {
@@ -95,25 +99,41 @@ fn alarm_history_single_parent_is_not_identifiable_with_lvfailure_a_candidate() 
 fn alarm_hrekg_and_hrsat_off_the_tree_claim_no_non_parent() {
     // ALARM (Beinlich et al. 1989): HREKG ← ERRCAUTER, HR and HRSAT ← ERRCAUTER, HR. The skeleton
     // holds the cycle HREKG — HR — HRSAT — ERRCAUTER — HREKG, so neither has a tree neighbourhood
-    // and only the conservative guarantee applies: a claimed set contains no non-parent. Both are
-    // identified at n = 5000 on the nonlinear samples (full 37 columns too, docs/recovery.md), so
-    // the check is not vacuous; they were chosen for that reason.
+    // and only the conservative guarantee applies: a claimed set contains no non-parent. Under the
+    // natural rule both are identified exactly at n = 5000 on the nonlinear samples (full 37
+    // columns too, docs/recovery.md), so the check is not vacuous; they were chosen for that
+    // reason. Under the calibrated rule each direction of the pairwise independence tests is
+    // judged at α on its own (no multiplicity correction, which would make a claim easier), and
+    // ERRCAUTER and HR, independent in the published graph, show p = 0.028 and 0.015 in two of the
+    // four directions on this sample: nothing is claimed, which is allowed; a wrong claim is not.
     let parents = set(&["ERRCAUTER", "HR"]);
     for target in ["HREKG", "HRSAT"] {
-        let found = analyze("alarm_nonlinear_hr_lv.csv", target);
-        assert_eq!(
-            found.outcome,
-            Outcome::Identified,
-            "{target}: {}",
-            found.explanation
-        );
-        let claim = claimed(&found);
-        let non_parents: Vec<&String> = claim.difference(&parents).collect();
-        assert!(
-            non_parents.is_empty(),
-            "{target}: claimed non-parents {non_parents:?}"
-        );
-        assert_eq!(claim, parents, "{target}");
+        for rule in [SelectionRule::natural(), SelectionRule::calibrated()] {
+            let found = analyze_with("alarm_nonlinear_hr_lv.csv", target, &rule);
+            let name = rule.stopping_rule.name();
+            if rule.is_calibrated() {
+                assert_ne!(found.outcome, Outcome::Conflict, "{target}, {name}");
+                if found.outcome != Outcome::Identified {
+                    continue;
+                }
+            } else {
+                assert_eq!(
+                    found.outcome,
+                    Outcome::Identified,
+                    "{target}, {name}: {}",
+                    found.explanation
+                );
+            }
+            let claim = claimed(&found);
+            let non_parents: Vec<&String> = claim.difference(&parents).collect();
+            assert!(
+                non_parents.is_empty(),
+                "{target}, {name}: claimed non-parents {non_parents:?}"
+            );
+            if !rule.is_calibrated() {
+                assert_eq!(claim, parents, "{target}, {name}");
+            }
+        }
     }
 }
 

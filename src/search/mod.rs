@@ -6,6 +6,7 @@ pub mod collider;
 pub mod forward;
 pub mod parents;
 pub mod rule;
+pub mod screening;
 pub mod shrink;
 
 pub use forward::{forward_select, Selection, Step, StopReason};

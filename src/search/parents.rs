@@ -8,6 +8,7 @@
 use super::collider::{collider_test, ColliderTest};
 use super::forward::{forward_select, Selection, StopReason};
 use super::rule::SelectionRule;
+use super::screening::{screening_check, ScreeningTest};
 use super::SearchData;
 use crate::measure::xi::{holm_adjust, xi_test, XiTest};
 use rayon::prelude::*;
@@ -44,7 +45,8 @@ pub struct PairTest {
     /// Holm-adjusted p-value of `b_to_a_scale`.
     #[serde(default)]
     pub b_to_a_scale_holm: Option<f64>,
-    /// No direction rejects independence at level α after adjustment.
+    /// No direction rejects independence at level α: after Holm's adjustment under the natural
+    /// rule, on the unadjusted p-values under the calibrated rule.
     pub independent: bool,
 }
 
@@ -59,7 +61,12 @@ pub struct Component {
     pub tests: Vec<PairTest>,
     /// All pairs independent at level α.
     pub pairwise_independent: bool,
-    /// Two or more members, pairwise independent: a candidate parent set.
+    /// Calibrated rule, for a group that would pass: the screening check of each member
+    /// (`search::screening`), up to the first member screened off.
+    #[serde(default)]
+    pub screening: Vec<ScreeningTest>,
+    /// Two or more members, pairwise independent (and, under the calibrated rule, none screened
+    /// off from the target): a candidate parent set.
     pub passes: bool,
 }
 
@@ -273,7 +280,27 @@ pub fn local_parents(
             let is_clique = group
                 .iter()
                 .all(|&a| group.iter().all(|&b| a == b || adjacent[a][b]));
-            test_component(data, &columns, is_clique, alpha, rule.is_calibrated())
+            let mut component =
+                test_component(data, &columns, is_clique, alpha, rule.is_calibrated());
+            if component.passes && rule.is_calibrated() {
+                component.screening = screening_check(
+                    data,
+                    target,
+                    &members,
+                    &columns,
+                    |m| {
+                        let a = members.iter().position(|&x| x == m).expect("a member");
+                        member_selections[a]
+                            .selected
+                            .iter()
+                            .map(|n| position(data, n))
+                            .collect()
+                    },
+                    rule,
+                );
+                component.passes = !component.screening.iter().any(|t| t.screened_off);
+            }
+            component
         })
         .collect();
 
@@ -399,11 +426,17 @@ fn test_component(
         })
         .collect();
     let adjusted = holm_adjust(&p);
+    // The natural rule decides on Holm-adjusted p-values, as published. Under the calibrated rule a
+    // group is claimed only if every direction looks independent, so a correction for multiplicity
+    // (which raises p-values) would make a claim easier, not harder: each direction is judged on
+    // its own p-value at α, and more directions can only withdraw a claim.
+    let decide_on = if scale { &p } else { &adjusted };
     let tests: Vec<PairTest> = raw_tests
         .into_iter()
         .enumerate()
         .map(|(t, raw)| {
             let holm = &adjusted[per_pair * t..per_pair * (t + 1)];
+            let decided = &decide_on[per_pair * t..per_pair * (t + 1)];
             let [ab, ba, ab_scale, ba_scale] = raw.directions;
             PairTest {
                 a: data.name(raw.a).to_string(),
@@ -416,7 +449,7 @@ fn test_component(
                 b_to_a_scale: ba_scale,
                 a_to_b_scale_holm: holm.get(2).copied(),
                 b_to_a_scale_holm: holm.get(3).copied(),
-                independent: holm.iter().all(|&h| h > alpha),
+                independent: decided.iter().all(|&q| q > alpha),
             }
         })
         .collect();
@@ -426,6 +459,7 @@ fn test_component(
         is_clique,
         passes: columns.len() >= 2 && pairwise_independent,
         pairwise_independent,
+        screening: Vec::new(),
         tests,
     }
 }
