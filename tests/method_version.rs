@@ -36,23 +36,24 @@ const PINNED: [(&str, &str, &str); 7] = [
         "7ce897daa45222109517a2046f8bbf336ab930b65875dcb353dc28d18f08bbdc",
     ),
     // Version 3: the calibrated stopping rule is the default (permutation tests of every forward
-    // step, the shrink phase, the collider test, the spread-aware independence test, every member
-    // in the parent step), the settings record the selection rule, steps record their tests; the
-    // natural rule stays selectable and its parent step is unchanged.
+    // step, the shrink phase, the collider test, the spread-aware independence test judged per
+    // direction, the screening check, every member in the parent step), the settings record the
+    // selection rule, steps record their tests; the natural rule stays selectable, and its
+    // statistics are unchanged (its digest moves with the new fields of the record).
     (
         "forebear-method/3",
         "demo crush_strength, complementary pairs ×10, rank scaling",
-        "a38a6c67424785b74032dec47002dbdb1046502285b825f1bfb40e0dd6fe217a",
+        "2786fb16bfd38688a0e6e61ea2a2877d7336b357ad7db6ab48caf97ebc386bfc",
     ),
     (
         "forebear-method/3",
         "demo pore_density, bootstrap ×4, standardize scaling, seed 7",
-        "48005996157c8a6ba69635143a158c8d97ae77190edbc37b24b822891e21a259",
+        "4b1963cf14d87cad6e2495ae2ecd053abae3f0f86d405e841e2c4b991edcc906",
     ),
     (
         "forebear-method/3",
         "demo crush_strength, natural stopping rule, no resampling",
-        "5b39d061130a38538155c568cce4bd7e167a18b819dc231e413f86aa22d98c05",
+        "15d0ecdb5759a9f9e6c332079a9bdb62d6b5476c9c75846cde72b5bdd49932e5",
     ),
 ];
 

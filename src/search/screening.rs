@@ -8,9 +8,10 @@
 //! a true parent p missed by the selection (too weak to pass its test) acts like an unmeasured
 //! variable, and a relative of p that did enter the boundary stands in for it, p's own parent or
 //! another child of p; such a stand-in forms the same pattern with the other parents as p would,
-//! and would be claimed. Measured on fresh random graphs before this check: 3 such claims
-//! among 115 identified targets (docs/recovery.md). A true parent fails the check only when its
-//! link is too weak to be seen given the extra column, so the check can only withdraw claims.
+//! and would be claimed. Measured on fresh random graphs before this check: two such stand-ins
+//! (a parent's parent, and a parent's other child) among 87 identified targets
+//! (docs/recovery.md). A true parent fails the check only when its link is too weak to be seen
+//! given the extra column, so the check can only withdraw claims.
 
 use super::forward::evaluate_step;
 use super::rule::SelectionRule;
