@@ -20,6 +20,9 @@ use forebear::search::forward::evaluate_step;
 use forebear::search::{SearchData, SelectionRule};
 use rand_chacha::ChaCha20Rng;
 
+/// One draw of a scenario: Y, the columns of S, the candidate columns.
+type Draw = (Vec<f64>, Vec<Vec<f64>>, Vec<Vec<f64>>);
+
 /// A scenario draws (Y, S columns, candidate columns) for n rows from a stream.
 struct Scenario {
     name: &'static str,
@@ -29,7 +32,7 @@ struct Scenario {
     p: usize,
     /// Whether the first candidate carries information about Y given S.
     alternative: bool,
-    draw: fn(&mut ChaCha20Rng, usize, usize) -> (Vec<f64>, Vec<Vec<f64>>, Vec<Vec<f64>>),
+    draw: fn(&mut ChaCha20Rng, usize, usize) -> Draw,
 }
 
 fn normal(rng: &mut ChaCha20Rng, n: usize) -> Vec<f64> {
