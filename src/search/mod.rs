@@ -4,6 +4,7 @@
 
 pub mod collider;
 pub mod forward;
+mod independence;
 pub mod parents;
 pub mod rule;
 pub mod screening;
