@@ -8,16 +8,9 @@ use common::{assert_success, run, Scratch};
 use std::path::Path;
 
 /// An invented table of `rows` rows: x and w independent uniforms, m = x + noise, y = m² + noise
-/// (so y depends on x only through m), and z unrelated to everything. Deterministic (xorshift,
-/// Marsaglia 2003).
+/// (so y depends on x only through m), and z unrelated to everything. Deterministic.
 fn chain_csv(rows: usize) -> String {
-    let mut state: u64 = 0x9e37_79b9_7f4a_7c15;
-    let mut next = move || {
-        state ^= state << 13;
-        state ^= state >> 7;
-        state ^= state << 17;
-        (state >> 11) as f64 / (1u64 << 53) as f64
-    };
+    let mut next = common::uniform_stream(0x9e37_79b9_7f4a_7c15);
     let mut text = String::from("x,m,y,z\n");
     for _ in 0..rows {
         let x = next();

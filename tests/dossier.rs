@@ -419,33 +419,29 @@ use forebear::search::shrink::ShrinkTest;
 use forebear::search::StopReason;
 use std::sync::OnceLock;
 
-/// The demo's crush_strength analysed once with 10 replicates under the default (calibrated)
-/// rule, shared by the tests below that change one part of it.
+/// The demo analysed once for `target` with `extra` arguments, kept in `cell` for every test of
+/// this file that changes one part of the finding.
+fn shared_finding(cell: &'static OnceLock<Finding>, target: &str, extra: &[&str]) -> Finding {
+    cell.get_or_init(|| {
+        let s = Scratch::new(&format!("shared-{target}"));
+        let data = demo_csv(&s);
+        let out = s.path("out");
+        analyze(&data, target, &out, extra);
+        finding(&out)
+    })
+    .clone()
+}
+
+/// The demo's crush_strength with 10 replicates under the default (calibrated) rule.
 fn calibrated_finding() -> Finding {
     static FINDING: OnceLock<Finding> = OnceLock::new();
-    FINDING
-        .get_or_init(|| {
-            let s = Scratch::new("calibrated-shared");
-            let data = demo_csv(&s);
-            let out = s.path("out");
-            analyze(&data, "crush_strength", &out, &["--replicates", "10"]);
-            finding(&out)
-        })
-        .clone()
+    shared_finding(&FINDING, "crush_strength", &["--replicates", "10"])
 }
 
 /// The demo's pore_density (one direct cause: not identifiable) without resampling.
 fn pore_density_finding() -> Finding {
     static FINDING: OnceLock<Finding> = OnceLock::new();
-    FINDING
-        .get_or_init(|| {
-            let s = Scratch::new("pore-shared");
-            let data = demo_csv(&s);
-            let out = s.path("out");
-            analyze(&data, "pore_density", &out, &["--replicates", "0"]);
-            finding(&out)
-        })
-        .clone()
+    shared_finding(&FINDING, "pore_density", &["--replicates", "0"])
 }
 
 fn status_line(markdown: &str) -> &str {
