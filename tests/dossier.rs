@@ -595,27 +595,21 @@ fn permutation_test(p_value: f64, permutations: u32) -> PermutationTest {
 fn the_shrink_phase_table_shows_every_test_and_the_member_that_left() {
     let mut f = calibrated_finding();
     let (a, b) = (f.markov_boundary[0].clone(), f.markov_boundary[1].clone());
+    // Round 1 given the other member: `a` is not significant and leaves, `b` is kept.
+    let tested =
+        |member: &str, other: &str, numerator: i128, p: f64, draws: u32, removed| ShrinkTest {
+            round: 1,
+            member: member.to_string(),
+            conditioning: vec![other.to_string()],
+            t_n: Some(numerator as f64 / 10_000.0),
+            numerator,
+            denominator: 10_000,
+            test: Some(permutation_test(p, draws)),
+            removed,
+        };
     let tests = vec![
-        ShrinkTest {
-            round: 1,
-            member: a.clone(),
-            conditioning: vec![b.clone()],
-            t_n: Some(0.0101),
-            numerator: 101,
-            denominator: 10_000,
-            test: Some(permutation_test(0.4, 40)),
-            removed: true,
-        },
-        ShrinkTest {
-            round: 1,
-            member: b.clone(),
-            conditioning: vec![a.clone()],
-            t_n: Some(0.3),
-            numerator: 3_000,
-            denominator: 10_000,
-            test: Some(permutation_test(0.005, 199)),
-            removed: false,
-        },
+        tested(&a, &b, 101, 0.4, 40, true),
+        tested(&b, &a, 3_000, 0.005, 199, false),
     ];
     f.shrink = tests.clone();
     f.removed = vec![a.clone()];
