@@ -489,3 +489,188 @@ fn reader_and_candidate_keys_of_a_plan_reach_the_analysis_and_bad_ones_are_rejec
     assert!(stderr(&bad).contains("'line-c'"), "{}", stderr(&bad));
     assert!(!s.path("out2").exists());
 }
+
+// ---- drift against the number of replicates, and unstable headlines (issue 11) ----------------
+
+use forebear::batch::drift::{compare, Drift};
+use forebear::batch::{
+    Entry, EntryData, EntryStability, PlanRef, Status, StudySummary, Summary, Totals,
+};
+use forebear::resample::stability::OutcomeFrequency;
+use forebear::search::Outcome;
+
+/// A done entry with the given headline: outcome, parent sets, frequency of `replicates`.
+fn entry(
+    outcome: Outcome,
+    parents: &[&str],
+    headline: f64,
+    replicates: u32,
+    stable: bool,
+) -> Entry {
+    let parent_sets: Vec<Vec<String>> = match parents {
+        [] => Vec::new(),
+        _ => vec![parents.iter().map(|p| p.to_string()).collect()],
+    };
+    Entry {
+        status: Status::Done,
+        error: None,
+        pair: 0,
+        outcome: Some(outcome.name().to_string()),
+        parent_sets,
+        markov_boundary: Vec::new(),
+        stability: Some(EntryStability {
+            replicates,
+            threshold: 0.6,
+            headline,
+            headline_stable: stable,
+            headline_contradicted: headline < 0.5,
+            most_frequent_other: (headline < 1.0).then(|| OutcomeFrequency {
+                outcome: Outcome::Identified,
+                parent_sets: vec![vec!["kiln_peak_temp".into(), "pore_density".into()]],
+                frequency: 1.0 - headline,
+                count: ((1.0 - headline) * f64::from(replicates)).round() as u32,
+            }),
+            markov_boundary: Default::default(),
+            parents: Default::default(),
+        }),
+        data: Some(EntryData {
+            sha256: "a".repeat(64),
+            content_sha256: "b".repeat(64),
+            rows_read: 1500,
+            rows_used: 1494,
+        }),
+        digest: Some("c".repeat(64)),
+        dossier: Some("line-a/crush_strength".into()),
+    }
+}
+
+/// A summary holding one pair, line-a / crush_strength.
+fn summary_of(entry: Entry) -> Summary {
+    let mut targets = std::collections::BTreeMap::new();
+    targets.insert("crush_strength".to_string(), entry);
+    let mut studies = std::collections::BTreeMap::new();
+    studies.insert(
+        "line-a".to_string(),
+        StudySummary {
+            data: "data/line_a.csv".into(),
+            targets,
+        },
+    );
+    Summary {
+        schema: "forebear.batch/1".into(),
+        tool: forebear::finding::ToolInfo::current(),
+        plan: PlanRef {
+            file: "plan.toml".into(),
+            sha256: "d".repeat(64),
+        },
+        shard: None,
+        studies,
+        drift: None,
+        totals: Totals::default(),
+    }
+}
+
+fn drift_between(before: Entry, after: Entry) -> Drift {
+    compare(&summary_of(before), "e", &summary_of(after), 0.2)
+}
+
+#[test]
+fn a_headline_move_beyond_the_threshold_but_within_twice_its_sampling_error_is_not_drift() {
+    // 0.70 → 0.45 of 20 replicates each: a move of 0.25 against a band of
+    // 2·sqrt(0.21/20 + 0.2475/20) ≈ 0.30.
+    let found = drift_between(
+        entry(Outcome::Identified, &["a", "b"], 0.70, 20, true),
+        entry(Outcome::Identified, &["a", "b"], 0.45, 20, false),
+    );
+    assert!(found.changes.is_empty(), "{:?}", found.changes);
+}
+
+#[test]
+fn a_headline_move_beyond_the_threshold_and_twice_its_sampling_error_is_drift() {
+    // 0.95 → 0.60 of 100 replicates each: a move of 0.35 against a band of about 0.11.
+    let found = drift_between(
+        entry(Outcome::Identified, &["a", "b"], 0.95, 100, true),
+        entry(Outcome::Identified, &["a", "b"], 0.60, 100, true),
+    );
+    assert_eq!(found.changes.len(), 1, "{:?}", found.changes);
+    assert_eq!(found.changes[0].kind, "stability");
+    assert!(
+        found.changes[0].detail.contains("twice the sampling error"),
+        "{}",
+        found.changes[0].detail
+    );
+}
+
+#[test]
+fn an_outcome_change_between_two_unstable_headlines_is_listed_but_is_not_drift() {
+    let found = drift_between(
+        entry(Outcome::NotIdentifiable, &[], 0.40, 100, false),
+        entry(Outcome::Identified, &["a", "b"], 0.55, 100, false),
+    );
+    assert!(found.changes.is_empty(), "{:?}", found.changes);
+    assert_eq!(found.unstable_outcomes.len(), 1);
+    let change = &found.unstable_outcomes[0];
+    assert_eq!(change.kind, "unstable_outcome");
+    assert!(
+        change.detail.contains("0.40 of 100") && change.detail.contains("0.55 of 100"),
+        "both headlines' frequencies: {}",
+        change.detail
+    );
+    // When either headline was stable, the same change is drift.
+    let found = drift_between(
+        entry(Outcome::NotIdentifiable, &[], 0.40, 100, false),
+        entry(Outcome::Identified, &["a", "b"], 0.90, 100, true),
+    );
+    assert!(found.unstable_outcomes.is_empty());
+    assert!(
+        found.changes.iter().any(|c| c.kind == "outcome"),
+        "{:?}",
+        found.changes
+    );
+}
+
+#[test]
+fn the_index_flags_a_contradicted_headline_and_says_an_unstable_outcome_is_not_drift() {
+    let before = summary_of(entry(Outcome::NotIdentifiable, &[], 0.40, 100, false));
+    let mut after = summary_of(entry(Outcome::Identified, &["a", "b"], 0.30, 100, false));
+    after.drift = Some(compare(&before, "e", &after, 0.2));
+    after.totals.unstable_outcomes = 1;
+    let markdown = forebear::batch::index::render_markdown(&after).unwrap();
+    assert!(
+        markdown
+            .contains("**contradicted by resamples** (most frequent other result 0.70: identified"),
+        "{markdown}"
+    );
+    assert!(markdown.contains("**No drift**"), "{markdown}");
+    assert!(
+        markdown.contains("unstable outcome (not drift)"),
+        "{markdown}"
+    );
+    assert!(markdown.contains("are **not drift**"), "{markdown}");
+    let html = forebear::batch::index::render_html(&after).unwrap();
+    assert!(html.contains("contradicted by resamples"), "{html}");
+    assert!(html.contains("<strong>not drift</strong>"), "{html}");
+}
+
+#[test]
+fn a_summary_written_before_the_headline_fields_still_reads() {
+    // Older summaries have neither `headline_contradicted` nor `most_frequent_other`.
+    let mut value = serde_json::to_value(summary_of(entry(
+        Outcome::Identified,
+        &["a", "b"],
+        0.9,
+        100,
+        true,
+    )))
+    .unwrap();
+    let stability = &mut value["studies"]["line-a"]["targets"]["crush_strength"]["stability"];
+    let object = stability.as_object_mut().unwrap();
+    object.remove("headline_contradicted");
+    object.remove("most_frequent_other");
+    let summary: Summary = serde_json::from_value(value).unwrap();
+    let read = summary.studies["line-a"].targets["crush_strength"]
+        .stability
+        .as_ref()
+        .unwrap();
+    assert!(!read.headline_contradicted && read.most_frequent_other.is_none());
+}

@@ -410,3 +410,430 @@ fn force_replaces_a_previous_dossier_but_never_foreign_files() {
     assert_eq!(output.status.code(), Some(2));
     assert_eq!(read(&out, "notes.txt"), "mine", "left untouched");
 }
+
+// ---- issue 11: the headline against the resamples, the calibrated selection in words -----------
+
+use forebear::measure::permutation::{NullScheme, PermutationTest};
+use forebear::report::markdown::escape_markdown;
+use forebear::search::shrink::ShrinkTest;
+use forebear::search::StopReason;
+use std::sync::OnceLock;
+
+/// The demo analysed once for `target` with `extra` arguments, kept in `cell` for every test of
+/// this file that changes one part of the finding.
+fn shared_finding(cell: &'static OnceLock<Finding>, target: &str, extra: &[&str]) -> Finding {
+    cell.get_or_init(|| {
+        let s = Scratch::new(&format!("shared-{target}"));
+        let data = demo_csv(&s);
+        let out = s.path("out");
+        analyze(&data, target, &out, extra);
+        finding(&out)
+    })
+    .clone()
+}
+
+/// The demo's crush_strength with 10 replicates under the default (calibrated) rule.
+fn calibrated_finding() -> Finding {
+    static FINDING: OnceLock<Finding> = OnceLock::new();
+    shared_finding(&FINDING, "crush_strength", &["--replicates", "10"])
+}
+
+/// The demo's pore_density (one direct cause: not identifiable) without resampling.
+fn pore_density_finding() -> Finding {
+    static FINDING: OnceLock<Finding> = OnceLock::new();
+    shared_finding(&FINDING, "pore_density", &["--replicates", "0"])
+}
+
+fn status_line(markdown: &str) -> &str {
+    markdown
+        .lines()
+        .find(|l| l.starts_with("**Status:**"))
+        .expect("a status line")
+}
+
+/// Sections 1 and 2: what the first printed page holds.
+fn first_page(markdown: &str) -> &str {
+    &markdown[..markdown.find("\n## 3. Data\n").expect("section 3")]
+}
+
+fn percent(frequency: f64) -> String {
+    format!("{:.0} %", frequency * 100.0)
+}
+
+#[test]
+fn the_status_line_says_whether_the_headline_is_stable_or_that_stability_was_not_measured() {
+    let mut f = calibrated_finding();
+    let st = f.stability.as_mut().expect("resampled");
+    st.full_data_outcome_frequency = 0.9;
+    st.full_data_outcome_stable = true;
+    st.headline.contradicted = false;
+    let (markdown, _) = check_rendered(&f, "stable");
+    assert!(
+        status_line(&markdown).contains("— stable: this outcome recurred in 90 % of 10 resamples."),
+        "{}",
+        status_line(&markdown)
+    );
+
+    let st = f.stability.as_mut().unwrap();
+    st.full_data_outcome_frequency = 0.55;
+    st.full_data_outcome_stable = false;
+    let (markdown, _) = check_rendered(&f, "not stable");
+    assert!(
+        status_line(&markdown).contains(
+            "— not stable: this outcome recurred in 55 % of 10 resamples, below the threshold of \
+             60 %."
+        ),
+        "{}",
+        status_line(&markdown)
+    );
+
+    f.stability = None;
+    let (markdown, _) = check_rendered(&f, "no resampling");
+    assert!(
+        status_line(&markdown).contains("— stability not measured (no resampling)."),
+        "{}",
+        status_line(&markdown)
+    );
+    assert!(first_page(&markdown).contains("Stability was not measured"));
+}
+
+#[test]
+fn a_headline_that_the_resamples_contradict_gives_both_results_with_frequencies_on_the_first_page()
+{
+    // The case of issue 11: the demo scenario drawn with seed 7 under the published (natural)
+    // rule, where the full data say not identifiable and most replicates identify two parents.
+    let s = Scratch::new("contradicted");
+    let data = s.path("seed7.csv");
+    std::fs::write(&data, forebear::demo::generate_demo_csv_seeded(7)).unwrap();
+    let out = s.path("out");
+    analyze(
+        &data,
+        "crush_strength",
+        &out,
+        &["--stopping-rule", "natural", "--replicates", "20"],
+    );
+    let f = finding(&out);
+    let st = f.stability.as_ref().unwrap();
+    assert!(
+        st.headline.contradicted,
+        "the scenario of the issue: {st:?}"
+    );
+    let other = st.headline.most_frequent_other.as_ref().unwrap();
+    let markdown = read(&out, "dossier.md");
+    let page = first_page(&markdown);
+    let status = status_line(&markdown);
+    let reached = format!(
+        "{} of 20 resamples {}",
+        percent(other.frequency),
+        match other.outcome {
+            Outcome::Identified => format!(
+                "identify {} as the parents",
+                escape_markdown(&format!("{{{}}}", other.parent_sets[0].join(", ")))
+            ),
+            Outcome::NotIdentifiable => "find the parents not identifiable".into(),
+            Outcome::Conflict => "find the assumptions in conflict".into(),
+            Outcome::EmptyBoundary => "find an empty Markov boundary".into(),
+        }
+    );
+    assert!(
+        status.contains("**contradicted by resampling:**") && status.contains(&reached),
+        "{status}"
+    );
+    let full = format!(
+        "the full-data result recurred in only {}",
+        percent(st.full_data_outcome_frequency)
+    );
+    assert!(
+        page.contains("**Most resamples reach another result.** The full data find the parents")
+            && page.contains(&reached)
+            && page.contains(&full),
+        "{page}"
+    );
+    let html = read(&out, "dossier.html");
+    let summary =
+        &html[html.find("id=\"section-2\"").unwrap()..html.find("id=\"section-3\"").unwrap()];
+    assert!(
+        summary.contains("<blockquote>") && summary.contains("Most resamples reach another result"),
+        "set apart in the HTML: {summary}"
+    );
+}
+
+#[test]
+fn the_not_significant_stop_sentence_names_the_column_its_t_n_its_p_value_and_the_level() {
+    let mut f = calibrated_finding();
+    if f.trace.last().unwrap().chosen.is_some() {
+        let mut stop = f.trace.last().unwrap().clone();
+        stop.step += 1;
+        stop.chosen = None;
+        f.trace.push(stop);
+    }
+    f.stop = StopReason::NotSignificant {
+        best_t_n: 0.0424,
+        p_value: 0.075,
+    };
+    let column = f.trace.last().unwrap().candidates[0].column.clone();
+    let (markdown, _) = check_rendered(&f, "not significant");
+    let sentence = format!(
+        "Stopped: the best remaining column, {} with T_n 0.042, is not significant (p = 0.075, \
+         level 0.05).",
+        escape_markdown(&column)
+    );
+    assert!(markdown.contains(&sentence), "{markdown}");
+}
+
+fn permutation_test(p_value: f64, permutations: u32) -> PermutationTest {
+    PermutationTest {
+        p_value,
+        permutations,
+        exceedances: (p_value * f64::from(permutations)) as u32,
+        scheme: NullScheme::LocalPermutation,
+        critical_t_n: None,
+    }
+}
+
+#[test]
+fn the_shrink_phase_table_shows_every_test_and_the_member_that_left() {
+    let mut f = calibrated_finding();
+    let (a, b) = (f.markov_boundary[0].clone(), f.markov_boundary[1].clone());
+    // Round 1 given the other member: `a` is not significant and leaves, `b` is kept.
+    let tested =
+        |member: &str, other: &str, numerator: i128, p: f64, draws: u32, removed| ShrinkTest {
+            round: 1,
+            member: member.to_string(),
+            conditioning: vec![other.to_string()],
+            t_n: Some(numerator as f64 / 10_000.0),
+            numerator,
+            denominator: 10_000,
+            test: Some(permutation_test(p, draws)),
+            removed,
+        };
+    let tests = vec![
+        tested(&a, &b, 101, 0.4, 40, true),
+        tested(&b, &a, 3_000, 0.005, 199, false),
+    ];
+    f.shrink = tests.clone();
+    f.removed = vec![a.clone()];
+    f.boundaries.get_mut(&b).unwrap().shrink = tests;
+    let (markdown, _) = check_rendered(&f, "shrink");
+    let (ea, eb) = (escape_markdown(&a), escape_markdown(&b));
+    for row in [
+        format!("| 1 | {ea} | {eb} | 0.010 | 0.400 | 40 (stopped early) | **removed** |"),
+        format!("| 1 | {eb} | {ea} | 0.300 | 0.005 | 199 | kept (significant) |"),
+    ] {
+        assert_eq!(
+            markdown.matches(&row).count(),
+            2,
+            "target and appendix B: {row}"
+        );
+    }
+    assert!(markdown.contains(&format!("Removed: {ea}.")), "{markdown}");
+    assert!(markdown.contains(&format!("Shrink phase of the boundary of {eb}:")));
+    assert!(markdown.contains("| round | member | given | T_n | p-value | permutations | result |"));
+}
+
+/// An invented file of pure noise: `rows` rows of six mutually independent uniform columns
+/// (xorshift, Marsaglia 2003).
+fn noise_csv(rows: usize) -> String {
+    let mut state: u64 = 0x51_7cc1_b727_220a;
+    let mut text = String::from("y,a,b,c,d,e\n");
+    for _ in 0..rows {
+        let cells: Vec<String> = (0..6)
+            .map(|_| {
+                state ^= state << 13;
+                state ^= state >> 7;
+                state ^= state << 17;
+                format!("{:.6}", (state >> 11) as f64 / (1u64 << 53) as f64)
+            })
+            .collect();
+        text.push_str(&cells.join(","));
+        text.push('\n');
+    }
+    text
+}
+
+#[test]
+fn empty_boundary_and_not_identifiable_dossiers_state_the_smallest_detectable_t_n() {
+    let s = Scratch::new("detectable");
+    let data = s.path("noise.csv");
+    std::fs::write(&data, noise_csv(300)).unwrap();
+    let out = s.path("out");
+    analyze(&data, "y", &out, &["--replicates", "0"]);
+    let noise = finding(&out);
+    assert_eq!(
+        noise.outcome,
+        Outcome::EmptyBoundary,
+        "noise is reported as noise"
+    );
+    let detectable = noise.diagnostics.detectable_t_n.expect("calibrated rule");
+    let markdown = read(&out, "dossier.md");
+    let sentence = format!(
+        "With 300 rows, a column would have entered the boundary at the first step only with T_n \
+         above {detectable:.3}; weaker links cannot be told from chance here, so their absence is \
+         not evidence that they are absent."
+    );
+    assert!(first_page(&markdown).contains(&sentence), "{markdown}");
+    assert!(
+        !markdown.contains("found no positive value"),
+        "the calibrated rule's empty boundary is not about positive values"
+    );
+
+    let pore = pore_density_finding();
+    assert_eq!(pore.outcome, Outcome::NotIdentifiable);
+    let (markdown, _) = check_rendered(&pore, "not identifiable");
+    let step = pore.trace.len();
+    let sentence = format!(
+        "With {} rows, a further column would have entered the boundary at the last step (step \
+         {step}) only with T_n above {:.3}; weaker links cannot be told from chance here",
+        pore.data.rows_used,
+        pore.diagnostics.detectable_t_n.unwrap()
+    );
+    assert!(first_page(&markdown).contains(&sentence), "{markdown}");
+    assert!(markdown.contains("smallest T_n that would have been significant there"));
+}
+
+#[test]
+fn other_linked_columns_are_described_neutrally() {
+    let pore = pore_density_finding();
+    let (markdown, _) = check_rendered(&pore, "other linked columns");
+    let paragraph = markdown
+        .lines()
+        .find(|l| l.starts_with("**Other linked columns.**"))
+        .expect("pore_density has boundary members outside its candidate set");
+    assert!(
+        paragraph.contains(
+            "may be a cause of pore\\_density that depends on another of its causes, an effect of \
+             pore\\_density, or another cause of one of its effects"
+        ),
+        "{paragraph}"
+    );
+    assert!(!paragraph.contains("typically"), "{paragraph}");
+}
+
+#[test]
+fn collider_tests_and_spread_tests_are_tabled_under_the_calibrated_rule() {
+    let pore = pore_density_finding();
+    assert!(
+        !pore.collider_tests.is_empty(),
+        "the demo has untested pairs"
+    );
+    let (markdown, _) = check_rendered(&pore, "collider");
+    assert!(markdown.contains("**Collider tests.**"));
+    for t in &pore.collider_tests {
+        let cells = |d: &forebear::search::collider::DirectionTest| match (&d.t_n, &d.test) {
+            (Some(t_n), Some(test)) => {
+                format!("{t_n:.3} | {:.3} ({})", test.p_value, test.permutations)
+            }
+            (Some(t_n), None) => format!("{t_n:.3} | not tested (T_n not positive)"),
+            (None, _) => "undefined | not tested (T_n not positive)".into(),
+        };
+        let row = format!(
+            "| {} — {} | {} | {} | {}",
+            escape_markdown(&t.a),
+            escape_markdown(&t.b),
+            cells(&t.a_given_target),
+            cells(&t.b_given_target),
+            if t.joined { "**joined**" } else { "not joined" }
+        );
+        assert!(markdown.contains(&row), "{row}\n{markdown}");
+    }
+    let crush = calibrated_finding();
+    let (markdown, _) = check_rendered(&crush, "spread");
+    assert!(markdown.contains("| kiln\\_peak\\_temp → spread of pore\\_density |"));
+    assert!(markdown.contains("| pore\\_density → spread of kiln\\_peak\\_temp |"));
+}
+
+#[test]
+fn the_method_names_the_rule_used_and_a_natural_rule_dossier_shows_no_selection_tests() {
+    let (calibrated, _) = check_rendered(&calibrated_finding(), "calibrated");
+    for text in [
+        "**This analysis used the calibrated rule**",
+        "1 − 2^−p",
+        "Westfall and Young 1993",
+        "Runge 2018",
+        "Besag and Clifford 1991",
+        "Margaritis and Thrun 2000",
+        "Tsamardinos, Aliferis and Statnikov 2003",
+        "| stopping rule of every forward selection | calibrated",
+        "| p-value | permutations |",
+        "**Shrink phase.**",
+        "**Collider tests.**",
+        "--stopping-rule calibrated --selection-alpha 0.05 --permutations 199",
+    ] {
+        assert!(calibrated.contains(text), "calibrated: {text}");
+    }
+
+    let s = Scratch::new("natural");
+    let data = demo_csv(&s);
+    let out = s.path("out");
+    analyze(
+        &data,
+        "crush_strength",
+        &out,
+        &["--stopping-rule", "natural", "--replicates", "0"],
+    );
+    let natural = read(&out, "dossier.md");
+    for text in [
+        "**This analysis used the natural rule**: no step was tested",
+        "| stopping rule of every forward selection | natural (the published rule",
+        "| selection level α_sel | not used by the natural rule |",
+        "(the natural stopping rule)",
+        "--stopping-rule natural",
+    ] {
+        assert!(natural.contains(text), "natural: {text}");
+    }
+    for text in [
+        "| p-value | permutations |",
+        "**Shrink phase.**",
+        "**Collider tests.**",
+    ] {
+        assert!(!natural.contains(text), "natural: {text}");
+    }
+}
+
+#[test]
+fn the_reproduce_command_carries_non_default_selection_settings_to_the_same_digest() {
+    let s = Scratch::new("reproduce-selection");
+    let data = demo_csv(&s);
+    let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .current_dir(&s.0)
+        .args([
+            "--quiet",
+            "analyze",
+            "filter_discs.csv",
+            "--target",
+            "pore_density",
+        ])
+        .args(["--selection-alpha", "0.1", "--permutations", "99"])
+        .args(["--replicates", "0", "--out", "first"])
+        .output()
+        .unwrap();
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    assert!(data.is_file());
+    let manifest: serde_json::Value =
+        serde_json::from_str(&read(&s.path("first"), "manifest.json")).unwrap();
+    let command = manifest["command"]["reproduce"].as_str().unwrap();
+    assert!(
+        command.contains("--selection-alpha 0.1 --permutations 99"),
+        "{command}"
+    );
+    let status = Command::new("sh")
+        .current_dir(&s.0)
+        .arg("-c")
+        .arg(format!(
+            "\"$FOREBEAR\" --quiet {}",
+            command.strip_prefix("forebear ").unwrap()
+        ))
+        .env("FOREBEAR", env!("CARGO_BIN_EXE_forebear"))
+        .stdout(std::process::Stdio::null())
+        .status()
+        .unwrap();
+    assert!(status.success());
+    assert_eq!(
+        finding(&s.path("rerun")).digest,
+        finding(&s.path("first")).digest
+    );
+}

@@ -6,9 +6,19 @@
 //! - `data`: the content fingerprint of the data changed (a re-saved file with the same content,
 //!   other line endings or quoting, is not drift);
 //! - `outcome`: the outcome changed; `parent_sets`: the outcome is the same, the parent sets not;
-//! - `stability`: the headline frequency, or a column's frequency in the Markov boundary or in
-//!   the parent set, moved by more than the threshold (a column absent from one side counts as 0);
-//!   resampling switched on or off is one `stability` change too.
+//! - `unstable_outcome`: the outcome or the parent sets changed, but both runs resampled and
+//!   neither headline was stable: the replicates of each run already reach other results often,
+//!   so the change is within what resampling shows. It is listed apart (`unstable_outcomes`), with
+//!   both headlines' frequencies, and is not drift;
+//! - `stability`: the headline frequency (when the headline is the same in both runs), or a
+//!   column's frequency in the Markov boundary or in the parent set, moved by more than the
+//!   threshold *and* by more than twice the sampling error of the difference (a column absent
+//!   from one side counts as 0); resampling switched on or off is one `stability` change too.
+//!
+//! The sampling error of two frequencies p1 and p2 estimated from R1 and R2 replicates is
+//! sqrt(p1(1 − p1)/R1 + p2(1 − p2)/R2), the normal approximation for the difference of two
+//! proportions; twice it is common practice for a two-sided band of about 95 %. Replicates of one
+//! run are not independent (complementary pairs share rows), so the band is a guide, not a test.
 
 use super::{Entry, Status, Summary};
 use serde::{Deserialize, Serialize};
@@ -18,15 +28,24 @@ use std::collections::{BTreeMap, BTreeSet};
 /// far larger); it keeps "moved by more than 0.2" from firing on 0.8 − 0.6 in binary floating point.
 const FREQUENCY_TOLERANCE: f64 = 1e-9;
 
+/// How many sampling errors a frequency must move, besides the threshold, to count as drift
+/// (common practice: about a 95 % two-sided band under the normal approximation).
+pub const SAMPLING_ERRORS: f64 = 2.0;
+
 /// The comparison with a previous run.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Drift {
     /// SHA-256 of the previous `summary.json`.
     pub previous_summary_sha256: String,
-    /// A stability frequency counts as drift when it moves by more than this.
+    /// A stability frequency counts as drift when it moves by more than this (and by more than
+    /// [`SAMPLING_ERRORS`] times its sampling error).
     pub threshold: f64,
-    /// Every change, by study, target, kind.
+    /// Every change that is drift, by study, target, kind.
     pub changes: Vec<Change>,
+    /// Changes of outcome or parent sets between two runs whose headlines were both unstable
+    /// (kind `unstable_outcome`): listed, not drift.
+    #[serde(default)]
+    pub unstable_outcomes: Vec<Change>,
 }
 
 /// One change of one pair.
@@ -36,7 +55,8 @@ pub struct Change {
     pub study: String,
     /// The target.
     pub target: String,
-    /// `appeared`, `vanished`, `status`, `data`, `outcome`, `parent_sets` or `stability`.
+    /// `appeared`, `vanished`, `status`, `data`, `outcome`, `parent_sets`, `stability` or
+    /// `unstable_outcome`.
     pub kind: String,
     /// What changed, from what to what.
     pub detail: String,
@@ -55,43 +75,54 @@ pub fn compare(
         current.entries().map(|(s, t, e)| ((s, t), e)).collect();
     let keys: BTreeSet<(&str, &str)> = before.keys().chain(now.keys()).copied().collect();
     let mut changes = Vec::new();
+    let mut unstable_outcomes = Vec::new();
     for (study, target) in keys {
-        let mut add = |kind: &str, detail: String| {
-            changes.push(Change {
+        let found = match (before.get(&(study, target)), now.get(&(study, target))) {
+            (None, Some(_)) => vec![("appeared", "not in the previous run".into())],
+            (Some(_), None) => vec![("vanished", "in the previous run, not in this one".into())],
+            (Some(old), Some(new)) => compare_entries(old, new, threshold),
+            (None, None) => unreachable!("keys come from the two maps"),
+        };
+        for (kind, detail) in found {
+            let change = Change {
                 study: study.into(),
                 target: target.into(),
                 kind: kind.into(),
                 detail,
-            })
-        };
-        match (before.get(&(study, target)), now.get(&(study, target))) {
-            (None, Some(_)) => add("appeared", "not in the previous run".into()),
-            (Some(_), None) => add("vanished", "in the previous run, not in this one".into()),
-            (Some(old), Some(new)) => compare_entries(old, new, threshold, &mut add),
-            (None, None) => unreachable!("keys come from the two maps"),
+            };
+            match kind {
+                UNSTABLE_OUTCOME => unstable_outcomes.push(change),
+                _ => changes.push(change),
+            }
         }
     }
     Drift {
         previous_summary_sha256: previous_sha256.into(),
         threshold,
         changes,
+        unstable_outcomes,
     }
 }
 
-fn compare_entries(old: &Entry, new: &Entry, threshold: f64, add: &mut dyn FnMut(&str, String)) {
+/// The kind of an outcome change between two unstable headlines.
+pub const UNSTABLE_OUTCOME: &str = "unstable_outcome";
+
+/// Every change of one pair, as (kind, detail).
+fn compare_entries(old: &Entry, new: &Entry, threshold: f64) -> Vec<(&'static str, String)> {
+    let mut found = Vec::new();
     match (old.status, new.status) {
         (Status::Done, Status::Failed) => {
-            return add("status", "analysed before, failed now".into());
+            return vec![("status", "analysed before, failed now".into())];
         }
         (Status::Failed, Status::Done) => {
-            return add("status", "failed before, analysed now".into());
+            return vec![("status", "failed before, analysed now".into())];
         }
-        (Status::Failed, Status::Failed) => return,
+        (Status::Failed, Status::Failed) => return found,
         (Status::Done, Status::Done) => {}
     }
     if let (Some(a), Some(b)) = (&old.data, &new.data) {
         if a.content_sha256 != b.content_sha256 {
-            add(
+            found.push((
                 "data",
                 format!(
                     "content fingerprint {} → {} (rows {} → {})",
@@ -100,37 +131,33 @@ fn compare_entries(old: &Entry, new: &Entry, threshold: f64, add: &mut dyn FnMut
                     a.rows_read,
                     b.rows_read
                 ),
-            );
+            ));
         }
     }
-    let outcome = |e: &Entry| e.outcome.clone().unwrap_or_default();
-    if old.outcome != new.outcome {
-        add(
-            "outcome",
-            format!(
-                "{} {} → {} {}",
-                outcome(old),
-                sets(&old.parent_sets),
-                outcome(new),
-                sets(&new.parent_sets)
-            ),
-        );
-    } else if old.parent_sets != new.parent_sets {
-        add(
-            "parent_sets",
-            format!("{} → {}", sets(&old.parent_sets), sets(&new.parent_sets)),
-        );
+    if let Some(change) = outcome_change(old, new) {
+        found.push(change);
     }
     match (&old.stability, &new.stability) {
         (Some(a), Some(b)) => {
-            if moved(a.headline, b.headline, threshold) {
-                add(
+            let moved = |p: f64, q: f64| drifted(p, a.replicates, q, b.replicates, threshold);
+            let band =
+                |p: f64, q: f64| SAMPLING_ERRORS * sampling_error(p, a.replicates, q, b.replicates);
+            // The headline frequency of another headline measures something else: the change of
+            // headline is reported above (as drift or as an unstable outcome).
+            let same_headline = old.outcome == new.outcome && old.parent_sets == new.parent_sets;
+            if same_headline && moved(a.headline, b.headline) {
+                found.push((
                     "stability",
                     format!(
-                        "headline (full-data outcome) frequency {:.2} → {:.2}",
-                        a.headline, b.headline
+                        "headline (full-data outcome) frequency {:.2} of {} → {:.2} of {} (twice \
+                         the sampling error: {:.2})",
+                        a.headline,
+                        a.replicates,
+                        b.headline,
+                        b.replicates,
+                        band(a.headline, b.headline)
                     ),
-                );
+                ));
             }
             for (what, x, y) in [
                 (
@@ -146,20 +173,87 @@ fn compare_entries(old: &Entry, new: &Entry, threshold: f64, add: &mut dyn FnMut
                         x.get(column).copied().unwrap_or(0.0),
                         y.get(column).copied().unwrap_or(0.0),
                     );
-                    if moved(p, q, threshold) {
-                        add("stability", format!("{column} {what}: {p:.2} → {q:.2}"));
+                    if moved(p, q) {
+                        found.push((
+                            "stability",
+                            format!(
+                                "{column} {what}: {p:.2} → {q:.2} (twice the sampling error: \
+                                 {:.2})",
+                                band(p, q)
+                            ),
+                        ));
                     }
                 }
             }
         }
-        (Some(_), None) => add("stability", "resampled before, not now".into()),
-        (None, Some(_)) => add("stability", "resampled now, not before".into()),
+        (Some(_), None) => found.push(("stability", "resampled before, not now".into())),
+        (None, Some(_)) => found.push(("stability", "resampled now, not before".into())),
         (None, None) => {}
     }
+    found
 }
 
-fn moved(a: f64, b: f64, threshold: f64) -> bool {
-    (a - b).abs() > threshold + FREQUENCY_TOLERANCE
+/// A change of outcome or parent sets: drift, unless both runs resampled and neither headline was
+/// stable (then `unstable_outcome`, with both headlines' frequencies).
+fn outcome_change(old: &Entry, new: &Entry) -> Option<(&'static str, String)> {
+    let outcome = |e: &Entry| e.outcome.clone().unwrap_or_default();
+    if old.outcome == new.outcome && old.parent_sets == new.parent_sets {
+        return None;
+    }
+    if let (Some(a), Some(b)) = (&old.stability, &new.stability) {
+        if !a.headline_stable && !b.headline_stable {
+            return Some((
+                UNSTABLE_OUTCOME,
+                format!(
+                    "{} {} (recurred in {:.2} of {} replicates) → {} {} (recurred in {:.2} of {}); \
+                     neither headline is stable, so the change is within what resampling shows",
+                    outcome(old),
+                    sets(&old.parent_sets),
+                    a.headline,
+                    a.replicates,
+                    outcome(new),
+                    sets(&new.parent_sets),
+                    b.headline,
+                    b.replicates
+                ),
+            ));
+        }
+    }
+    Some(if old.outcome != new.outcome {
+        (
+            "outcome",
+            format!(
+                "{} {} → {} {}",
+                outcome(old),
+                sets(&old.parent_sets),
+                outcome(new),
+                sets(&new.parent_sets)
+            ),
+        )
+    } else {
+        (
+            "parent_sets",
+            format!("{} → {}", sets(&old.parent_sets), sets(&new.parent_sets)),
+        )
+    })
+}
+
+/// The sampling error of the difference of two frequencies from `ra` and `rb` replicates (the
+/// two-proportion normal approximation; a side without replicates adds nothing).
+pub fn sampling_error(a: f64, ra: u32, b: f64, rb: u32) -> f64 {
+    let variance = |p: f64, r: u32| match r {
+        0 => 0.0,
+        _ => p * (1.0 - p) / f64::from(r),
+    };
+    (variance(a, ra) + variance(b, rb)).sqrt()
+}
+
+/// Whether a frequency moved from `a` (of `ra` replicates) to `b` (of `rb`) by more than the
+/// threshold and by more than [`SAMPLING_ERRORS`] sampling errors.
+pub fn drifted(a: f64, ra: u32, b: f64, rb: u32, threshold: f64) -> bool {
+    let change = (a - b).abs();
+    change > threshold + FREQUENCY_TOLERANCE
+        && change > SAMPLING_ERRORS * sampling_error(a, ra, b, rb) + FREQUENCY_TOLERANCE
 }
 
 fn short(hash: &str) -> &str {
@@ -184,9 +278,23 @@ mod tests {
 
     #[test]
     fn a_move_of_exactly_the_threshold_is_not_drift() {
-        assert!(!moved(0.8, 0.6, 0.2));
-        assert!(moved(0.8, 0.55, 0.2));
-        assert!(!moved(0.5, 0.5, 0.0));
+        // With many replicates the sampling error is small and the threshold decides.
+        assert!(!drifted(0.8, 10_000, 0.6, 10_000, 0.2));
+        assert!(drifted(0.8, 10_000, 0.55, 10_000, 0.2));
+        assert!(!drifted(0.5, 10_000, 0.5, 10_000, 0.0));
+    }
+
+    #[test]
+    fn a_move_within_twice_the_sampling_error_is_not_drift() {
+        // 0.5 → 0.25 with 20 replicates each: the error is sqrt(0.25/20 + 0.1875/20) ≈ 0.148, so
+        // twice it (0.296) exceeds the move of 0.25, which passes the threshold of 0.2.
+        let error = sampling_error(0.5, 20, 0.25, 20);
+        assert!((error - (0.4375f64 / 20.0).sqrt()).abs() < 1e-12, "{error}");
+        assert!(!drifted(0.5, 20, 0.25, 20, 0.2));
+        // The same move over 200 replicates each is far outside the band.
+        assert!(drifted(0.5, 200, 0.25, 200, 0.2));
+        // Frequencies of 0 or 1 have no sampling error: the threshold alone decides.
+        assert!(drifted(1.0, 4, 0.0, 4, 0.2));
     }
 
     #[test]

@@ -29,29 +29,40 @@ struct Row {
     parent_sets: String,
     stability: Option<String>,
     stable: bool,
+    /// More than half of the replicates reached another result.
+    contradicted: bool,
+    /// The most frequent other replicate result, as "0.96: identified {a, b}".
+    other: Option<String>,
     replicates: Option<u32>,
     fingerprint: Option<String>,
     rows_used: Option<usize>,
     compared: bool,
     changes: Vec<Change>,
+    /// Outcome changes between two unstable headlines (not drift).
+    unstable: Vec<Change>,
     /// Percent-encoded folder path relative to the index (`study/target`).
     href: Option<String>,
 }
 
 fn rows(summary: &Summary) -> Vec<Row> {
-    let changes: Vec<Change> = summary
-        .drift
-        .as_ref()
-        .map(|d| d.changes.clone())
-        .unwrap_or_default();
+    let (changes, unstable): (&[Change], &[Change]) = match &summary.drift {
+        Some(d) => (&d.changes, &d.unstable_outcomes),
+        None => (&[], &[]),
+    };
     summary
         .entries()
-        .map(|(study, target, entry)| row(study, target, entry, &changes, summary))
+        .map(|(study, target, entry)| row(study, target, entry, [changes, unstable], summary))
         .collect()
 }
 
-fn row(study: &str, target: &str, e: &Entry, changes: &[Change], summary: &Summary) -> Row {
+fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], summary: &Summary) -> Row {
     let failed = e.status == Status::Failed;
+    let of_pair = |list: &[Change]| -> Vec<Change> {
+        list.iter()
+            .filter(|c| c.study == study && c.target == target)
+            .cloned()
+            .collect()
+    };
     Row {
         study: study.into(),
         target: target.into(),
@@ -69,6 +80,22 @@ fn row(study: &str, target: &str, e: &Entry, changes: &[Change], summary: &Summa
         },
         stability: e.stability.as_ref().map(|s| format!("{:.2}", s.headline)),
         stable: e.stability.as_ref().is_some_and(|s| s.headline_stable),
+        contradicted: e
+            .stability
+            .as_ref()
+            .is_some_and(|s| s.headline_contradicted),
+        other: e
+            .stability
+            .as_ref()
+            .and_then(|s| s.most_frequent_other.as_ref())
+            .map(|o| {
+                format!(
+                    "{:.2}: {} {}",
+                    o.frequency,
+                    o.outcome.name(),
+                    sets(&o.parent_sets)
+                )
+            }),
         replicates: e.stability.as_ref().map(|s| s.replicates),
         fingerprint: e
             .data
@@ -76,11 +103,8 @@ fn row(study: &str, target: &str, e: &Entry, changes: &[Change], summary: &Summa
             .map(|d| d.content_sha256.chars().take(12).collect()),
         rows_used: e.data.as_ref().map(|d| d.rows_used),
         compared: summary.drift.is_some(),
-        changes: changes
-            .iter()
-            .filter(|c| c.study == study && c.target == target)
-            .cloned()
-            .collect(),
+        changes: of_pair(lists[0]),
+        unstable: of_pair(lists[1]),
         href: e
             .dossier
             .as_ref()

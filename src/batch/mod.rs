@@ -114,6 +114,14 @@ pub struct EntryStability {
     pub headline: f64,
     /// Whether the headline is at least π_thr.
     pub headline_stable: bool,
+    /// More than half of the replicates reached another outcome or other parent sets (false in
+    /// summaries written before it was recorded).
+    #[serde(default)]
+    pub headline_contradicted: bool,
+    /// The most frequent replicate result other than the headline, if any replicate reached one
+    /// (absent in summaries written before it was recorded).
+    #[serde(default)]
+    pub most_frequent_other: Option<crate::resample::stability::OutcomeFrequency>,
     /// Frequency of each candidate in MB(target).
     pub markov_boundary: BTreeMap<String, f64>,
     /// Frequency of each candidate in an identified parent set.
@@ -142,8 +150,11 @@ pub struct Totals {
     pub done: usize,
     /// Pairs that failed.
     pub failed: usize,
-    /// Changes listed under `drift`.
+    /// Changes listed under `drift` (drift only).
     pub changes: usize,
+    /// Outcome changes between two unstable headlines, listed under `drift` but not drift.
+    #[serde(default)]
+    pub unstable_outcomes: usize,
 }
 
 impl Summary {

@@ -65,7 +65,14 @@ fn describe(entry: &Entry) -> String {
             let stability = entry
                 .stability
                 .as_ref()
-                .map(|s| format!(", stability {:.2}", s.headline))
+                .map(|s| {
+                    let verdict = match (s.headline_contradicted, s.headline_stable) {
+                        (true, _) => "contradicted by resamples",
+                        (false, true) => "stable",
+                        (false, false) => "not stable",
+                    };
+                    format!(", stability {:.2} ({verdict})", s.headline)
+                })
                 .unwrap_or_default();
             format!(
                 "{} {}{stability}",
@@ -141,6 +148,8 @@ pub fn entry_of(finding: &Finding, pair: usize, dossier: String) -> Entry {
             threshold: s.threshold,
             headline: s.full_data_outcome_frequency,
             headline_stable: s.full_data_outcome_stable,
+            headline_contradicted: s.headline.contradicted,
+            most_frequent_other: s.headline.most_frequent_other.clone(),
             markov_boundary: s.markov_boundary.clone(),
             parents: s.parents.clone(),
         }),
@@ -172,6 +181,7 @@ pub fn summary(
         }
     }
     totals.changes = drift.as_ref().map_or(0, |d| d.changes.len());
+    totals.unstable_outcomes = drift.as_ref().map_or(0, |d| d.unstable_outcomes.len());
     Summary {
         schema: BATCH_SCHEMA.into(),
         tool,

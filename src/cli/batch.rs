@@ -172,6 +172,14 @@ fn report(
         Some(d) if d.changes.is_empty() => "no drift".to_string(),
         Some(d) => format!("drift: {} change(s)", d.changes.len()),
     };
+    let drift = match summary
+        .drift
+        .as_ref()
+        .map_or(0, |d| d.unstable_outcomes.len())
+    {
+        0 => drift,
+        n => format!("{drift}, {n} outcome change(s) between unstable headlines (not drift)"),
+    };
     let index = args.out.join("index.html");
     progress.say(&format!(
         "batch finished in {:.1} s: {} pairs, {} analysed, {} failed; {drift}; index: {}",

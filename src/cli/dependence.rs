@@ -1,9 +1,15 @@
-//! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n.
+//! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n and the p-value
+//! of the permutation test the calibrated selection uses (`measure::permutation`): the response
+//! permuted over all rows without `--given`, locally within pools of nearby rows of the `--given`
+//! columns otherwise; every draw is made, so p = (G + 1)/(N + 1) with G of N draws at or above T_n.
 
 use crate::data::checks::FileFacts;
 use crate::data::fingerprint::sha256_file;
 use crate::data::read_csv;
 use crate::error::{Error, Result};
+use crate::measure::permutation::{max_statistic_test, NullScheme, Observed, TestPlan};
+use crate::measure::TargetRanks;
+use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA, MAX_PERMUTATIONS};
 use crate::search::SearchData;
 use clap::Args;
 use std::path::PathBuf;
@@ -22,9 +28,12 @@ pub struct DependenceArgs {
     /// The conditioning columns X (comma-separated; none for the unconditional coefficient).
     #[arg(long, value_name = "COLS")]
     pub given: Vec<String>,
-    /// Seed of the nearest-neighbour tie-breaks.
+    /// Seed of the nearest-neighbour tie-breaks and of the permutations.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
+    /// Permutations of the response for the p-value (all are made).
+    #[arg(long, default_value_t = DEFAULT_PERMUTATIONS, value_name = "N")]
+    pub permutations: u32,
     /// Predictor scaling: rank, standardize or none.
     #[arg(long, default_value = "rank")]
     pub scaling: String,
@@ -39,6 +48,12 @@ pub struct DependenceArgs {
 /// Runs `dependence`.
 pub fn run(args: DependenceArgs) -> Result<()> {
     let scaling = super::analyze::parse_scaling(&args.scaling)?;
+    if !(1..=MAX_PERMUTATIONS).contains(&args.permutations) {
+        return Err(Error::input(format!(
+            "--permutations {} is not a number of draws: give one from 1 to {MAX_PERMUTATIONS}",
+            args.permutations
+        )));
+    }
     let options = args.reader.load_options()?;
     let raw = read_csv(&args.data, &options)?;
     let response = raw.require_column(&args.response, "response")?;
@@ -92,18 +107,46 @@ pub fn run(args: DependenceArgs) -> Result<()> {
     let z: Vec<usize> = on.iter().map(idx).collect();
     let x: Vec<usize> = given.iter().map(idx).collect();
     let xz: Vec<usize> = x.iter().chain(&z).copied().collect();
-    let ratio = crate::measure::conditional_dependence(
-        data.raw(y),
-        &data.space(&z),
-        &data.space(&x),
-        &data.neighbour_key(y, &x),
-        &data.neighbour_key(y, &xz),
-    );
+    // The neighbours and keys of `conditional_dependence`, kept for the permutation test.
+    let ranks = TargetRanks::new(data.raw(y));
+    let conditioning = (!x.is_empty()).then(|| data.neighbours(y, &x));
+    let joint = data.neighbours(y, &xz);
+    let ratio = crate::measure::Ratio {
+        numerator: ranks.numerator(conditioning.as_deref(), &joint),
+        denominator: ranks.denominator(conditioning.as_deref()),
+    };
+    // One "candidate", the joint space of --given and --on; every draw is made (exhaustive), so
+    // the level only sets the critical value, which is not printed.
+    let test = (ratio.denominator != 0).then(|| {
+        let observed = Observed {
+            ranks: &ranks,
+            conditioning: conditioning.as_deref(),
+            joints: vec![&joint],
+            numerator: ratio.numerator,
+            denominator: ratio.denominator,
+        };
+        let pools = (!x.is_empty()).then(|| data.permutation_pools(&x));
+        let plan = TestPlan {
+            max_permutations: args.permutations,
+            alpha: DEFAULT_SELECTION_ALPHA,
+            exhaustive: true,
+        };
+        max_statistic_test(
+            &observed,
+            pools.as_ref(),
+            &data.permutation_key("dependence", y, &x, None),
+            &plan,
+        )
+    });
     if args.json {
         let value = serde_json::json!({
             "response": args.response, "on": on, "given": given, "rows_used": report.rows_used,
             "t_n": ratio.value(), "numerator": ratio.numerator, "denominator": ratio.denominator,
             "response_is_function_of_given": ratio.denominator == 0,
+            "p_value": test.as_ref().map(|t| t.p_value),
+            "permutations": test.as_ref().map(|t| t.permutations),
+            "exceedances": test.as_ref().map(|t| t.exceedances),
+            "scheme": test.as_ref().map(|t| t.scheme),
             "seed": args.seed, "scaling": scaling.name(),
         });
         println!(
@@ -117,14 +160,33 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             format!(" | {}", given.join(", "))
         };
         match ratio.value() {
-            Some(t) => println!(
-                "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
-                args.response,
-                on.join(", "),
-                ratio.numerator,
-                ratio.denominator,
-                report.rows_used
-            ),
+            Some(t) => {
+                println!(
+                    "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
+                    args.response,
+                    on.join(", "),
+                    ratio.numerator,
+                    ratio.denominator,
+                    report.rows_used
+                );
+                if let Some(test) = &test {
+                    let how = match test.scheme {
+                        NullScheme::Permutation => "over all rows".to_string(),
+                        NullScheme::LocalPermutation => {
+                            format!("within pools of nearby rows of {}", given.join(", "))
+                        }
+                    };
+                    println!(
+                        "p = {}   (permutation test: {} permuted {how}; {} of {} permutations at or \
+                         above T_n; seed {})",
+                        crate::report::markdown::p_value(test.p_value),
+                        args.response,
+                        test.exceedances,
+                        test.permutations,
+                        args.seed
+                    );
+                }
+            }
             None => println!(
                 "T_n({}, {}{given_text}) is undefined: '{}' is a function of the conditioning set on \
                  these data (denominator 0, n = {})",

@@ -42,18 +42,35 @@ fn short(name: &str) -> String {
     }
 }
 
-/// T_n of the best candidate at each step, with the zero line.
+/// T_n of the best candidate at each step, with the zero line; a filled dot where the step admitted
+/// its column, an open dot where it stopped, and (calibrated rule) a short bar at the value T_n had
+/// to exceed to be significant.
 fn trace_chart(finding: &Finding) -> Option<String> {
-    let points: Vec<(f64, f64)> = finding
+    let points: Vec<(f64, f64, bool)> = finding
         .trace
         .iter()
-        .filter_map(|s| s.candidates.first().map(|c| (s.step as f64, c.t_n)))
+        .filter_map(|s| {
+            s.candidates
+                .first()
+                .map(|c| (s.step as f64, c.t_n, s.chosen.is_some()))
+        })
         .collect();
     if points.is_empty() {
         return None;
     }
-    let low = points.iter().map(|p| p.1).fold(0.0f64, f64::min);
-    let high = points.iter().map(|p| p.1).fold(0.0f64, f64::max);
+    let critical: Vec<(f64, f64)> = finding
+        .trace
+        .iter()
+        .filter_map(|s| {
+            let value = s.test.as_ref()?.critical_t_n?;
+            Some((s.step as f64, value))
+        })
+        .collect();
+    let values = points
+        .iter()
+        .map(|p| p.1)
+        .chain(critical.iter().map(|c| c.1));
+    let (low, high) = values.fold((0.0f64, 0.0f64), |(lo, hi), v| (lo.min(v), hi.max(v)));
     let pad = ((high - low) * 0.1).max(0.05);
     let (y0, y1) = (low - pad, high + pad);
     let last = points.len() as f64;
@@ -97,21 +114,44 @@ fn trace_chart(finding: &Finding) -> Option<String> {
             ))
             .ok()?;
         chart
-            .draw_series(LineSeries::new(points.clone(), BLUE.stroke_width(2)))
+            .draw_series(critical.iter().map(|&(x, y)| {
+                PathElement::new(vec![(x - 0.18, y), (x + 0.18, y)], ORANGE.stroke_width(3))
+            }))
+            .ok()?;
+        let line: Vec<(f64, f64)> = points.iter().map(|&(x, y, _)| (x, y)).collect();
+        chart
+            .draw_series(LineSeries::new(line, BLUE.stroke_width(2)))
             .ok()?;
         chart
-            .draw_series(points.iter().map(|&(x, y)| {
-                let style = if y > 0.0 {
+            .draw_series(points.iter().map(|&(x, y, admitted)| {
+                let style = if admitted {
                     BLUE.filled()
                 } else {
-                    VERMILLION.filled()
+                    VERMILLION.stroke_width(3)
                 };
                 Circle::new((x, y), 5, style)
             }))
             .ok()?;
+        if let Some(&(x, y)) = critical.first() {
+            // Name the bars once, beside the first.
+            let at = chart.backend_coord(&(x + 0.2, y));
+            root.draw(&Text::new(
+                "needed to be significant",
+                (at.0 + 4, at.1),
+                (FONT, 12)
+                    .into_font()
+                    .color(&GREY)
+                    .pos(Pos::new(HPos::Left, VPos::Center)),
+            ))
+            .ok()?;
+        }
         let zero_label = chart.backend_coord(&(last + 0.5, 0.0));
+        let zero_text = match critical.is_empty() {
+            true => "0 (stop when not above)",
+            false => "0",
+        };
         root.draw(&Text::new(
-            "0 (stop when not above)",
+            zero_text,
             (zero_label.0 - 4, zero_label.1 - 4),
             (FONT, 12)
                 .into_font()
@@ -278,13 +318,20 @@ fn membership_graph(finding: &Finding) -> Option<String> {
             "<line x1=\"{cx:.1}\" y1=\"{cy:.1}\" x2=\"{x:.1}\" y2=\"{y:.1}\" stroke=\"#9a9a9a\" stroke-width=\"1.5\"{dash}/>\n"
         ));
     }
-    for [a, b] in &finding.edges {
+    // Member to member: solid for a mutual membership, dashed where the collider test joined them.
+    let mutual = super::mutual_edges(finding);
+    let collider = super::collider_edges(finding);
+    let edges = mutual
+        .iter()
+        .map(|e| (e, ""))
+        .chain(collider.iter().map(|e| (e, " stroke-dasharray=\"8 5\"")));
+    for ([a, b], dash) in edges {
         let (Some(i), Some(j)) = (index(a), index(b)) else {
             continue;
         };
         let ((x1, y1), (x2, y2)) = (position(i), position(j));
         svg.push_str(&format!(
-            "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"#333333\" stroke-width=\"2.5\"/>\n"
+            "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"#333333\" stroke-width=\"2.5\"{dash}/>\n"
         ));
     }
     for (i, m) in members.iter().enumerate() {

@@ -44,6 +44,12 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
             settings_sha256 => settings_sha256(finding),
             other_members => other_members(finding),
             candidate_names => finding.parent_sets.iter().flatten().cloned().collect::<Vec<_>>(),
+            calibrated => finding.settings.selection.is_calibrated(),
+            stop_step => Value::from(minijinja::value::Serde(stop_step(finding))),
+            stop_column => stop_step(finding).and_then(|s| s.candidates.first()).map(|c| c.column.clone()),
+            mutual_edges => super::mutual_edges(finding).to_vec(),
+            collider_edges => super::collider_edges(finding).to_vec(),
+            pool_rows => crate::measure::permutation::LOCAL_PERMUTATION_ROWS,
         })
         .map_err(|e| Error::internal(format!("cannot render the dossier: {e:#}")))
 }
@@ -56,6 +62,9 @@ fn environment() -> Result<Environment<'static>> {
     env.add_filter("pval", p_value);
     env.add_filter("pct", percent);
     env.add_filter("names", names);
+    env.add_filter("braced", |list: Vec<String>| {
+        format!("{{{}}}", list.join(", "))
+    });
     env.add_template("dossier.md", TEMPLATE)
         .map_err(|e| Error::internal(format!("dossier template: {e}")))?;
     Ok(env)
@@ -171,6 +180,12 @@ fn other_members(finding: &Finding) -> Vec<String> {
         .collect()
 }
 
+/// The step at which the target's forward selection stopped (its last step, when that admitted
+/// nothing).
+fn stop_step(finding: &Finding) -> Option<&crate::search::Step> {
+    finding.trace.last().filter(|s| s.chosen.is_none())
+}
+
 /// A code fence longer than any run of backticks in `text`.
 fn fence_for(text: &str) -> String {
     let longest = text.split(|c| c != '`').map(str::len).max().unwrap_or(0);
@@ -190,6 +205,9 @@ pub fn reproduce_command(finding: &Finding) -> String {
         format!("--replicates {}", s.resampling.count),
         format!("--resample {}", s.resampling.kind.name()),
         format!("--stability-threshold {}", s.stability_threshold),
+        format!("--stopping-rule {}", s.selection.stopping_rule.name()),
+        format!("--selection-alpha {}", s.selection.alpha),
+        format!("--permutations {}", s.selection.permutations),
     ];
     if s.resampling.kind == crate::resample::PlanKind::Subsample {
         parts.push(format!("--fraction {}", s.resampling.fraction));

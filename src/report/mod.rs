@@ -32,6 +32,18 @@ pub fn renderers() -> Vec<Box<dyn Renderer>> {
     ]
 }
 
+/// The edges of the member graph that come from mutual membership: `edges` lists them first,
+/// then the pairs the collider test joined.
+pub fn mutual_edges(finding: &Finding) -> &[[String; 2]] {
+    let joined = finding.collider_tests.iter().filter(|t| t.joined).count();
+    &finding.edges[..finding.edges.len().saturating_sub(joined)]
+}
+
+/// The edges of the member graph that the collider test added (calibrated rule).
+pub fn collider_edges(finding: &Finding) -> &[[String; 2]] {
+    &finding.edges[mutual_edges(finding).len()..]
+}
+
 /// Names a forebear output folder may hold besides the files being written now: what this and
 /// earlier layouts of the dossier write (DESIGN.md), so that re-running replaces them all.
 const DOSSIER_NAMES: [&str; 8] = [

@@ -114,6 +114,8 @@ impl Renderer for TraceCsv {
         "trace.csv"
     }
 
+    /// Forward steps (every candidate; the step's test on the row of its best candidate, whose
+    /// largest T_n it tests), then the shrink phase (phase `shrink`, `step` is the round).
     fn render(&self, finding: &Finding) -> Result<String> {
         let header = [
             "response",
@@ -124,17 +126,22 @@ impl Renderer for TraceCsv {
             "numerator",
             "denominator",
             "chosen",
+            "p_value",
+            "permutations",
+            "phase",
+            "removed",
         ];
         let mut rows = Vec::new();
-        let selections = std::iter::once((&finding.target, &finding.trace)).chain(
+        let selections = std::iter::once((&finding.target, &finding.trace, &finding.shrink)).chain(
             finding
                 .markov_boundary
                 .iter()
-                .filter_map(|m| finding.boundaries.get(m).map(|b| (m, &b.steps))),
+                .filter_map(|m| finding.boundaries.get(m).map(|b| (m, &b.steps, &b.shrink))),
         );
-        for (response, steps) in selections {
+        for (response, steps, shrink) in selections {
             for step in steps {
-                for candidate in &step.candidates {
+                for (rank, candidate) in step.candidates.iter().enumerate() {
+                    let test = step.test.as_ref().filter(|_| rank == 0);
                     rows.push(vec![
                         text(response),
                         number(step.step),
@@ -144,12 +151,37 @@ impl Renderer for TraceCsv {
                         number(candidate.numerator),
                         number(step.denominator),
                         number(step.chosen.as_ref() == Some(&candidate.column)),
+                        optional(test.map(|t| t.p_value)),
+                        optional(test.map(|t| t.permutations)),
+                        number("forward"),
+                        Cell::Number(String::new()),
                     ]);
                 }
+            }
+            for t in shrink {
+                rows.push(vec![
+                    text(response),
+                    number(t.round),
+                    text(&t.conditioning.join(";")),
+                    text(&t.member),
+                    optional(t.t_n),
+                    number(t.numerator),
+                    number(t.denominator),
+                    Cell::Number(String::new()),
+                    optional(t.test.as_ref().map(|t| t.p_value)),
+                    optional(t.test.as_ref().map(|t| t.permutations)),
+                    number("shrink"),
+                    number(t.removed),
+                ]);
             }
         }
         write_csv(&header, rows)
     }
+}
+
+/// A number, or an empty cell when there is none.
+fn optional(value: Option<impl ToString>) -> Cell {
+    value.map_or(Cell::Number(String::new()), number)
 }
 
 #[cfg(test)]

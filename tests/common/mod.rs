@@ -140,13 +140,7 @@ pub fn result_json(dir: &Path) -> serde_json::Value {
 /// An invented table of `rows` rows as columns x1, x2, y, z: y depends on x1 and x2, z is
 /// unrelated. Deterministic (xorshift, Marsaglia 2003).
 pub fn table(rows: usize) -> Vec<[f64; 4]> {
-    let mut state: u64 = 0x2545_f491_4f6c_dd1d;
-    let mut next = move || {
-        state ^= state << 13;
-        state ^= state >> 7;
-        state ^= state << 17;
-        (state >> 11) as f64 / (1u64 << 53) as f64
-    };
+    let mut next = uniform_stream(0x2545_f491_4f6c_dd1d);
     (0..rows)
         .map(|_| {
             let (x1, x2, z, e) = (next(), next(), next(), next());
@@ -167,4 +161,16 @@ pub fn delimited(rows: &[[f64; 4]], delimiter: &str, point: &str) -> String {
         text.push('\n');
     }
     text
+}
+
+/// A deterministic stream of uniform numbers in [0, 1) from `seed` (xorshift, Marsaglia 2003), for
+/// invented test data.
+pub fn uniform_stream(seed: u64) -> impl FnMut() -> f64 {
+    let mut state = seed;
+    move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64
+    }
 }
