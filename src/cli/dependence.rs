@@ -1,6 +1,6 @@
 //! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n and the p-value
 //! of the permutation test the calibrated selection uses (`measure::permutation`): the response
-//! permuted over all rows without `--given`, locally within pools of nearby rows of the `--given`
+//! permuted over all rows without `--given`, locally within blocks of nearby rows of the `--given`
 //! columns otherwise; every draw is made, so p = (G + 1)/(N + 1) with G of N draws at or above T_n.
 
 use crate::data::checks::FileFacts;
@@ -125,7 +125,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             numerator: ratio.numerator,
             denominator: ratio.denominator,
         };
-        let pools = (!x.is_empty()).then(|| data.permutation_pools(&x));
+        let blocks = (!x.is_empty()).then(|| data.permutation_blocks(&x));
         let plan = TestPlan {
             max_permutations: args.permutations,
             alpha: DEFAULT_SELECTION_ALPHA,
@@ -133,7 +133,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         };
         max_statistic_test(
             &observed,
-            pools.as_ref(),
+            blocks.as_ref(),
             &data.permutation_key("dependence", y, &x, None),
             &plan,
         )
@@ -173,7 +173,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
                     let how = match test.scheme {
                         NullScheme::Permutation => "over all rows".to_string(),
                         NullScheme::LocalPermutation => {
-                            format!("within pools of nearby rows of {}", given.join(", "))
+                            format!("within blocks of nearby rows of {}", given.join(", "))
                         }
                     };
                     println!(

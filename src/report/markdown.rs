@@ -49,7 +49,7 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
             stop_column => stop_step(finding).and_then(|s| s.candidates.first()).map(|c| c.column.clone()),
             mutual_edges => super::mutual_edges(finding).to_vec(),
             collider_edges => super::collider_edges(finding).to_vec(),
-            pool_rows => crate::measure::permutation::LOCAL_PERMUTATION_ROWS,
+            block_rows => crate::measure::permutation::LOCAL_PERMUTATION_ROWS,
         })
         .map_err(|e| Error::internal(format!("cannot render the dossier: {e:#}")))
 }

@@ -399,6 +399,31 @@ fn explain(
     components: &[Component],
     unconfirmed: &[String],
 ) -> String {
+    let mut text = explain_outcome(target, outcome, parent_sets, components, unconfirmed);
+    for c in components {
+        if let Some(t) = c.screening.iter().find(|t| t.screened_off) {
+            text.push_str(&format!(
+                " The group {} formed the pattern of independent causes, but '{}' is screened off \
+                 from '{target}' by '{}' (the screening check): a direct cause would stay linked \
+                 with '{target}' whatever else is known, so the group is not claimed; '{}' may \
+                 stand in for a cause that the search did not select.",
+                quoted(&c.members),
+                t.member,
+                t.by,
+                t.member
+            ));
+        }
+    }
+    text
+}
+
+fn explain_outcome(
+    target: &str,
+    outcome: Outcome,
+    parent_sets: &[Vec<String>],
+    components: &[Component],
+    unconfirmed: &[String],
+) -> String {
     match outcome {
         Outcome::Identified => {
             let mut text = format!(
