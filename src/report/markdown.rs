@@ -50,6 +50,7 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
             mutual_edges => super::mutual_edges(finding).to_vec(),
             collider_edges => super::collider_edges(finding).to_vec(),
             block_rows => crate::measure::permutation::LOCAL_PERMUTATION_ROWS,
+            column_rows => Value::from(minijinja::value::Serde(column_rows(finding))),
         })
         .map_err(|e| Error::internal(format!("cannot render the dossier: {e:#}")))
 }
@@ -168,6 +169,53 @@ fn run_date(finding: &Finding) -> String {
 /// manifest records it.
 pub fn settings_sha256(finding: &Finding) -> String {
     crate::manifest::settings_sha256(finding)
+}
+
+/// One row of the data section's column table.
+#[derive(serde::Serialize)]
+struct ColumnRow<'a> {
+    name: &'a str,
+    /// `target`, `excluded`, `constant`, `duplicate` or `candidate`.
+    role: &'static str,
+    /// The column a duplicate repeats.
+    original: Option<&'a str>,
+    missing: usize,
+    profile: Option<&'a crate::finding::ColumnProfile>,
+}
+
+/// The column table in name order, each row's facts looked up once (sets and maps, not scans of
+/// lists, so that the dossier's length and time grow linearly with the number of columns).
+fn column_rows(finding: &Finding) -> Vec<ColumnRow<'_>> {
+    use std::collections::{BTreeMap, BTreeSet};
+    let data = &finding.data;
+    let excluded: BTreeSet<&str> = data.excluded_columns.iter().map(String::as_str).collect();
+    let constant: BTreeSet<&str> = data.constant_columns.iter().map(String::as_str).collect();
+    let profiles: BTreeMap<&str, &crate::finding::ColumnProfile> =
+        finding.columns.iter().map(|c| (c.name.as_str(), c)).collect();
+    data.missing_by_column
+        .iter()
+        .map(|(name, &missing)| {
+            let original = data.duplicate_columns.get(name).map(String::as_str);
+            let role = if *name == finding.target {
+                "target"
+            } else if excluded.contains(name.as_str()) {
+                "excluded"
+            } else if constant.contains(name.as_str()) {
+                "constant"
+            } else if original.is_some() {
+                "duplicate"
+            } else {
+                "candidate"
+            };
+            ColumnRow {
+                name,
+                role,
+                original,
+                missing,
+                profile: profiles.get(name.as_str()).copied(),
+            }
+        })
+        .collect()
 }
 
 /// Members of the target's boundary that are in no candidate parent set.
