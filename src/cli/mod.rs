@@ -70,11 +70,21 @@ pub fn split_names(list: &[String]) -> Vec<String> {
         .collect()
 }
 
+/// Most worker threads `--threads` may ask for (a bound of our own: far above the cores of any
+/// machine this runs on, far below what takes minutes to start).
+pub const MAX_THREADS: usize = 256;
+
 /// Runs the parsed command line.
 pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
     if let Some(threads) = cli.threads {
         if threads == 0 {
             return Err(crate::error::Error::input("--threads must be at least 1"));
+        }
+        if threads > MAX_THREADS {
+            return Err(crate::error::Error::input(format!(
+                "--threads {threads} is above the limit of {MAX_THREADS}; results do not depend on \
+                 the thread count, and more threads than cores only add overhead"
+            )));
         }
         rayon::ThreadPoolBuilder::new()
             .num_threads(threads)

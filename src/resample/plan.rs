@@ -64,6 +64,10 @@ pub struct ReplicateRows {
     pub with_replacement: bool,
 }
 
+/// Most replicates a plan may ask for: each replicate repeats the whole search, and stability
+/// frequencies are already resolved to 0.1 % at this count (a bound of our own).
+pub const MAX_REPLICATES: u32 = 10_000;
+
 impl ResamplePlan {
     /// Checks the settings of a plan. `fraction` applies to `subsample` only (default 0.5).
     pub fn new(
@@ -72,6 +76,13 @@ impl ResamplePlan {
         fraction: Option<f64>,
         seed: u64,
     ) -> Result<ResamplePlan> {
+        if count > MAX_REPLICATES {
+            return Err(Error::input(format!(
+                "--replicates {count} is above the limit of {MAX_REPLICATES}: each replicate repeats \
+                 the whole search, and 100 to 1000 replicates resolve a stability frequency well \
+                 beyond what it can tell"
+            )));
+        }
         if kind == PlanKind::ComplementaryPairs && !count.is_multiple_of(2) {
             return Err(Error::input(format!(
                 "--replicates {count}: complementary pairs come in twos (two halves per split), so \
