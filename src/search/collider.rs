@@ -9,8 +9,9 @@
 //! parents identifiable), and that is what mutual membership is meant to see. But a member's own
 //! forward selection conditions on everything it admits before b, and a weak spouse signal is
 //! easily lost there; testing the pair given Y alone asks the question directly. It only adds
-//! edges, and an edge only joins members into a component that must still pass the pairwise
-//! independence tests, so a spurious edge costs a claim rather than making one.
+//! edges; a spurious one (at most α per independent pair) can join a non-parent to a parent's
+//! group, which must still pass the pairwise independence tests and the screening check before
+//! anything is claimed.
 
 use super::forward::evaluate_step;
 use super::rule::SelectionRule;
