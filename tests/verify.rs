@@ -1029,3 +1029,46 @@ fn dossiers_with_other_settings_verify_in_full_and_as_a_spot_check() {
         assert_statuses(&stdout, &CHECKS, "ok");
     }
 }
+
+#[test]
+fn a_dossier_recording_another_build_verifies_and_an_edit_still_fails_with_a_hint() {
+    // The build is a run fact taken from the record: a dossier that records another build of the
+    // same method verifies. An edited file still fails; the report adds that another build's
+    // renderers could explain a difference, and how to tell.
+    let (_dir, data, out) = analysed("other-build");
+    let build = read_manifest(&out).tool.build;
+    if build.len() < 40 {
+        eprintln!("built outside a checkout: no commit to replace");
+        return;
+    }
+    // Another commit, with the same "-modified" mark (if any) as this build.
+    let other = format!("0123456789abcdef0123456789abcdef01234567{}", &build[40..]);
+    let other = other.as_str();
+    for name in ["result.json", "dossier.md", "dossier.html"] {
+        let path = out.join(name);
+        let text = std::fs::read_to_string(&path).unwrap();
+        std::fs::write(
+            &path,
+            text.replace(&build, other)
+                .replace(&build[..12], &other[..12]),
+        )
+        .unwrap();
+    }
+    reseal(&out, |m| m.tool.build = other.into());
+    let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
+    assert!(
+        stdout.contains("another build (dossier: forebear"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("commit 0123456789ab"), "{stdout}");
+    forge_text(&out, "dossier.md", "— stable:", "— not stable:");
+    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    assert!(
+        stdout.contains("dossier.md differs from its re-rendering"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("the dossier records that another build wrote it (forebear"),
+        "{stdout}"
+    );
+}

@@ -67,7 +67,11 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
             Some(analysed) => {
                 progress.say("rendering every file of the dossier again from the re-run");
                 match rerender::render_dossier(analysed, &manifest) {
-                    Ok(rendered) => rerender::check_rendered(&request.dir, &rendered),
+                    Ok(rendered) => rerender::check_rendered(
+                        &request.dir,
+                        &rendered,
+                        other_build(&manifest).as_deref(),
+                    ),
                     Err(e) => check(
                         "rendered files",
                         Status::Fail,
@@ -113,6 +117,13 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
         taken_from_record,
         verdict: if verified { "VERIFIED" } else { "MISMATCH" }.into(),
     })
+}
+
+/// The build that wrote the dossier, described, when it is not this build.
+fn other_build(manifest: &crate::manifest::Manifest) -> Option<String> {
+    let this = crate::finding::ToolInfo::current();
+    (manifest.tool.version != this.version || manifest.tool.build != this.build)
+        .then(|| manifest.tool.describe())
 }
 
 #[cfg(test)]

@@ -89,7 +89,14 @@ pub(super) fn render_dossier(
 }
 
 /// Compares every re-rendered file with the file of that name in `dir`, byte for byte.
-pub(super) fn check_rendered(dir: &Path, rendered: &[(&'static str, String)]) -> Check {
+/// `other_build` describes the build that wrote the dossier when it is not this one: its
+/// renderers may differ from this build's, which the report then says (the difference still
+/// fails, since the recorded build is itself only a record).
+pub(super) fn check_rendered(
+    dir: &Path,
+    rendered: &[(&'static str, String)],
+    other_build: Option<&str>,
+) -> Check {
     let mut problems = Vec::new();
     for (name, text) in rendered {
         match std::fs::read(dir.join(name)) {
@@ -118,6 +125,13 @@ pub(super) fn check_rendered(dir: &Path, rendered: &[(&'static str, String)]) ->
             )],
         )
     } else {
+        if let Some(build) = other_build {
+            problems.push(format!(
+                "the dossier records that another build wrote it ({build}); if that build \
+                 rendered files differently from this one, verify with it to tell a change of \
+                 renderer from an edit"
+            ));
+        }
         check("rendered files", Status::Fail, problems)
     }
 }
