@@ -68,6 +68,16 @@ fn assert_verdict(output: &Output, code: i32, verdict: &str) -> String {
     stdout
 }
 
+/// Runs `verify` and asserts exit 0 and `VERIFIED`; returns the report.
+fn verified(out: &Path, data: &Path, extra: &[&str]) -> String {
+    assert_verdict(&verify(out, data, extra), 0, "VERIFIED")
+}
+
+/// Runs `verify` and asserts exit 1 and `MISMATCH`; returns the report.
+fn mismatched(out: &Path, data: &Path, extra: &[&str]) -> String {
+    assert_verdict(&verify(out, data, extra), 1, "MISMATCH")
+}
+
 /// The data file's lines, changed by `edit`, written to `name` beside it.
 fn edited_data(data: &Path, name: &str, edit: impl FnOnce(&mut Vec<String>)) -> PathBuf {
     let mut lines: Vec<String> = std::fs::read_to_string(data)
@@ -108,6 +118,11 @@ fn status<'a>(stdout: &'a str, check: &str) -> &'a str {
         .unwrap_or_else(|| panic!("no check {check}: {stdout}"))
 }
 
+/// Asserts that the report says `needle`.
+fn assert_says(stdout: &str, needle: &str) {
+    assert!(stdout.contains(needle), "{needle:?} expected in: {stdout}");
+}
+
 /// Asserts that each of `checks` printed `label`.
 fn assert_statuses(stdout: &str, checks: &[&str], label: &str) {
     for check in checks {
@@ -144,33 +159,26 @@ fn line_number(dossier: &Path, name: &str, needle: &str) -> usize {
 #[test]
 fn demo_round_trip_verifies_with_exit_0_and_every_check_ok() {
     let (_dir, data, out) = analysed("round-trip");
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
+    let stdout = verified(&out, &data, &[]);
     assert_statuses(&stdout, &CHECKS, "ok");
-    assert!(stdout.contains("bytes identical"), "{stdout}");
-    assert!(
-        stdout.contains("all 10 replicates reproduce the recorded digest"),
-        "{stdout}"
+    assert_says(&stdout, "bytes identical");
+    assert_says(&stdout, "all 10 replicates reproduce the recorded digest");
+    assert_says(
+        &stdout,
+        "and result.json field for field, stability included",
     );
-    assert!(
-        stdout.contains("and result.json field for field, stability included"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        &format!("{TAKEN_FROM_RECORD}; manifest.json /generated_utc\n"),
     );
-    assert!(
-        stdout.contains(&format!(
-            "{TAKEN_FROM_RECORD}; manifest.json /generated_utc\n"
-        )),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "the 6 files rendered again from the re-run equal the files on disk byte for byte: \
+             result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json",
     );
-    assert!(
-        stdout.contains(
-            "the 6 files rendered again from the re-run equal the files on disk byte for byte: \
-             result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json"
-        ),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("the 6 files of a dossier are present and match the manifest"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "the 6 files of a dossier are present and match the manifest",
     );
 }
 
@@ -238,15 +246,12 @@ fn one_changed_byte_of_data_is_located_by_row_line_and_column() {
         .split(',')
         .next()
         .unwrap();
-    let stdout = assert_verdict(&verify(&out, &changed, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("different data"), "{stdout}");
-    assert!(
-        stdout.contains(&format!(
+    let stdout = mismatched(&out, &changed, &[]);
+    assert_says(&stdout, "different data");
+    assert_says(&stdout, &format!(
             "1 data row(s) differ from the analysed file, first at data row 49 (line 50), column '{column}'"
-        )),
-        "{stdout}"
-    );
-    assert!(stdout.contains("not run: the data differ"), "{stdout}");
+        ));
+    assert_says(&stdout, "not run: the data differ");
 }
 
 #[test]
@@ -255,18 +260,18 @@ fn a_removed_row_is_named_with_both_row_counts() {
     let fewer = edited_data(&data, "fewer.csv", |lines| {
         lines.remove(101);
     });
-    let stdout = assert_verdict(&verify(&out, &fewer, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &fewer, &[]);
     let rows = forebear::demo::DEMO_CSV.lines().count() - 1;
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "rows: the analysed file has {rows} data rows, the received file {}",
             rows - 1
-        )),
-        "{stdout}"
+        ),
     );
-    assert!(
-        stdout.contains("data row 101 of the analysed file is missing from the received file"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "data row 101 of the analysed file is missing from the received file",
     );
 }
 
@@ -276,12 +281,10 @@ fn a_renamed_column_is_named_and_its_values_reported_unchanged() {
     let renamed = edited_data(&data, "renamed.csv", |lines| {
         lines[0] = lines[0].replace("probe_gap", "probe_gap_mm");
     });
-    let stdout = assert_verdict(&verify(&out, &renamed, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains(
-            "'probe_gap' is named 'probe_gap_mm' in the received file (its values are unchanged)"
-        ),
-        "{stdout}"
+    let stdout = mismatched(&out, &renamed, &[]);
+    assert_says(
+        &stdout,
+        "'probe_gap' is named 'probe_gap_mm' in the received file (its values are unchanged)",
     );
 }
 
@@ -299,16 +302,16 @@ fn resaved_with_crlf_and_quotes_verifies_with_a_same_content_note() {
         .collect();
     let resaved = data.with_file_name("resaved.csv");
     std::fs::write(&resaved, quoted.join("\r\n") + "\r\n").unwrap();
-    let stdout = assert_verdict(&verify(&out, &resaved, &[]), 0, "VERIFIED");
-    assert!(stdout.contains("data           ok (note)"), "{stdout}");
-    assert!(stdout.contains("same content, different bytes"), "{stdout}");
-    assert!(stdout.contains("reproduce the recorded digest"), "{stdout}");
+    let stdout = verified(&out, &resaved, &[]);
+    assert_says(&stdout, "data           ok (note)");
+    assert_says(&stdout, "same content, different bytes");
+    assert_says(&stdout, "reproduce the recorded digest");
     // The dossier records the analysed file's name, bytes hash and size, not the copy's.
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "{TAKEN_FROM_RECORD}, /data/sha256, /data/size_bytes; manifest.json /generated_utc"
-        )),
-        "{stdout}"
+        ),
     );
     assert_eq!(status(&stdout, "rendered files"), "ok", "{stdout}");
 }
@@ -319,17 +322,14 @@ fn an_edited_html_dossier_is_detected_and_named() {
     let path = out.join("dossier.html");
     let html = std::fs::read_to_string(&path).unwrap();
     std::fs::write(&path, html.replacen("identified", "confirmed", 1)).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("dossier files  MISMATCH"), "{stdout}");
-    assert!(
-        stdout.contains("dossier.html was edited after generation"),
-        "{stdout}"
-    );
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "dossier files  MISMATCH");
+    assert_says(&stdout, "dossier.html was edited after generation");
     // The analysis itself still reproduces: the reviewer learns that only the page was touched.
-    assert!(stdout.contains("reproduce the recorded digest"), "{stdout}");
-    assert!(
-        stdout.contains("dossier.html differs from its re-rendering: first difference at line"),
-        "{stdout}"
+    assert_says(&stdout, "reproduce the recorded digest");
+    assert_says(
+        &stdout,
+        "dossier.html differs from its re-rendering: first difference at line",
     );
 }
 
@@ -341,19 +341,10 @@ fn an_edited_result_json_is_detected_and_the_edited_field_named() {
         serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
     result["parent_sets"] = serde_json::json!([["ambient_humidity"]]);
     std::fs::write(&path, serde_json::to_string_pretty(&result).unwrap()).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("result.json was edited after generation"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("result.json no longer matches it"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("first difference from result.json at /parent_sets"),
-        "{stdout}"
-    );
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "result.json was edited after generation");
+    assert_says(&stdout, "result.json no longer matches it");
+    assert_says(&stdout, "first difference from result.json at /parent_sets");
 }
 
 #[test]
@@ -363,30 +354,24 @@ fn settings_changed_in_the_manifest_are_detected_without_and_with_a_new_seal() {
     let mut manifest = read_manifest(&out);
     manifest.settings.canonical["study"]["alpha"] = serde_json::json!(0.01);
     std::fs::write(out.join("manifest.json"), manifest.to_text()).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("manifest.json was edited after generation"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("the settings in manifest.json were changed"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("at /study/alpha: 0.05 in result.json, 0.01 in manifest.json"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "manifest.json was edited after generation");
+    assert_says(&stdout, "the settings in manifest.json were changed");
+    assert_says(
+        &stdout,
+        "at /study/alpha: 0.05 in result.json, 0.01 in manifest.json",
     );
     // Resealed with the settings hash recomputed: the disagreement with result.json remains.
     std::fs::write(out.join("manifest.json"), &original).unwrap();
     reseal(&out, |m| {
         m.settings.canonical["study"]["alpha"] = serde_json::json!(0.01);
     });
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("manifest       ok"), "{stdout}");
-    assert!(stdout.contains("at /study/alpha"), "{stdout}");
-    assert!(
-        stdout.contains("first difference from result.json at /settings/alpha"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "manifest       ok");
+    assert_says(&stdout, "at /study/alpha");
+    assert_says(
+        &stdout,
+        "first difference from result.json at /settings/alpha",
     );
 }
 
@@ -405,7 +390,7 @@ fn a_different_seed_recorded_consistently_everywhere_fails_the_rerun() {
     reseal(&out, |m| {
         m.settings.canonical["study"] = result["settings"].clone();
     });
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &data, &[]);
     for check in ["manifest", "dossier files", "settings", "data", "tool"] {
         assert!(
             stdout
@@ -414,15 +399,12 @@ fn a_different_seed_recorded_consistently_everywhere_fails_the_rerun() {
             "{check} should pass: {stdout}"
         );
     }
-    assert!(stdout.contains("re-run         MISMATCH"), "{stdout}");
-    assert!(stdout.contains("seed 2"), "{stdout}");
-    assert!(
-        stdout.contains("first difference from result.json at /trace/"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("re-run differ from their records; the first is replicate 0"),
-        "{stdout}"
+    assert_says(&stdout, "re-run         MISMATCH");
+    assert_says(&stdout, "seed 2");
+    assert_says(&stdout, "first difference from result.json at /trace/");
+    assert_says(
+        &stdout,
+        "re-run differ from their records; the first is replicate 0",
     );
 }
 
@@ -445,13 +427,13 @@ fn verification_on_one_thread_and_as_a_spot_check_both_verify() {
     let stdout = assert_verdict(&spot, 0, "VERIFIED");
     let chosen = forebear::verify::sample_replicates(10, 3, 7);
     let listed: Vec<String> = chosen.iter().map(u32::to_string).collect();
-    assert!(
-        stdout.contains(&format!("the 3 sampled replicates ({})", listed.join(", "))),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        &format!("the 3 sampled replicates ({})", listed.join(", ")),
     );
-    assert!(
-        stdout.contains("SPOT CHECK ONLY: 3 of 10 replicates re-run (sample seed 7)"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "SPOT CHECK ONLY: 3 of 10 replicates re-run (sample seed 7)",
     );
     assert!(
         stdout
@@ -469,19 +451,12 @@ fn a_spot_check_finds_a_changed_replicate_record() {
     reseal(&out, |m| {
         m.results.replicates[chosen[1] as usize] = "0".repeat(64);
     });
-    let stdout = assert_verdict(
-        &verify(
-            &out,
-            &data,
-            &["--replicates-sample", "2", "--sample-seed", "5"],
-        ),
-        1,
-        "MISMATCH",
+    let stdout = mismatched(
+        &out,
+        &data,
+        &["--replicates-sample", "2", "--sample-seed", "5"],
     );
-    assert!(
-        stdout.contains(&format!("the first is replicate {}", chosen[1])),
-        "{stdout}"
-    );
+    assert_says(&stdout, &format!("the first is replicate {}", chosen[1]));
 }
 
 #[test]
@@ -497,22 +472,19 @@ fn another_method_version_is_refused_unless_allowed_and_then_every_difference_li
     reseal(&out, |m| {
         m.tool.method = "forebear-method/0".into();
     });
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("with method version 'forebear-method/0'"),
-        "{stdout}"
-    );
-    assert!(stdout.contains("--allow-other-version"), "{stdout}");
-    assert!(stdout.contains("re-run         skipped"), "{stdout}");
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "with method version 'forebear-method/0'");
+    assert_says(&stdout, "--allow-other-version");
+    assert_says(&stdout, "re-run         skipped");
     let allowed = verify(&out, &data, &["--allow-other-version"]);
     let stdout = assert_verdict(&allowed, 1, "MISMATCH");
-    assert!(stdout.contains("re-running anyway"), "{stdout}");
-    assert!(stdout.contains("re-run         MISMATCH"), "{stdout}");
+    assert_says(&stdout, "re-running anyway");
+    assert_says(&stdout, "re-run         MISMATCH");
     let expected = format!(
         "first difference from result.json at /tool/method: recorded \"forebear-method/0\", re-run \"{}\"",
         forebear::finding::METHOD_VERSION
     );
-    assert!(stdout.contains(&expected), "{stdout}");
+    assert_says(&stdout, &expected);
 }
 
 #[test]
@@ -613,8 +585,8 @@ fn fingerprint_prints_both_hashes_and_tells_a_resave_from_a_change() {
     );
     let plain = bin().arg("fingerprint").arg(&a).output().unwrap();
     let stdout = text(&plain);
-    assert!(stdout.contains(fa["sha256"].as_str().unwrap()), "{stdout}");
-    assert!(stdout.contains("2 data rows × 2 columns"), "{stdout}");
+    assert_says(&stdout, fa["sha256"].as_str().unwrap());
+    assert_says(&stdout, "2 data rows × 2 columns");
 }
 
 #[test]
@@ -647,7 +619,7 @@ fn a_dossier_merged_from_replicate_shards_verifies_with_the_single_run_digest() 
         read_manifest(&merged).results,
         read_manifest(&single).results
     );
-    assert_verdict(&verify(&merged, &data, &[]), 0, "VERIFIED");
+    verified(&merged, &data, &[]);
 }
 
 #[test]
@@ -724,36 +696,31 @@ fn forged_stability_in_result_and_dossier_with_every_hash_recomputed_is_a_mismat
     let (_dir, data, out) = analysed("forged-stability");
     let line = line_number(&out, "dossier.md", "— stable:");
     forge_texts(&out, &NOT_STABLE);
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &data, &[]);
     assert_statuses(
         &stdout,
         &["manifest", "dossier files", "settings", "data", "tool"],
         "ok",
     );
     assert_statuses(&stdout, &["re-run", "rendered files"], "MISMATCH");
-    assert!(
-        stdout.contains(
-            "first difference from result.json at /stability/full_data_outcome_stable: recorded \
-             false, re-run true"
-        ),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_stable: recorded \
+             false, re-run true",
     );
-    assert!(
-        stdout.contains("also /stability/headline/stable: recorded false, re-run true"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "also /stability/headline/stable: recorded false, re-run true",
     );
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "dossier.md differs from its re-rendering: first difference at line {line}: on disk"
-        )),
-        "{stdout}"
+        ),
     );
-    assert!(stdout.contains("— not stable:"), "{stdout}");
+    assert_says(&stdout, "— not stable:");
     for name in ["result.json", "dossier.html"] {
-        assert!(
-            stdout.contains(&format!("{name} differs from its re-rendering")),
-            "{name}: {stdout}"
-        );
+        assert_says(&stdout, &format!("{name} differs from its re-rendering"));
     }
 }
 
@@ -775,19 +742,19 @@ fn forged_stability_with_the_digest_recomputed_too_is_a_mismatch() {
         .unwrap();
     }
     reseal(&out, |m| m.results.digest = new.clone());
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &data, &[]);
     assert_statuses(&stdout, &["manifest", "dossier files", "settings"], "ok");
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "the re-run digest {} differs from the recorded {}",
             &old[..16],
             &new[..16]
-        )),
-        "{stdout}"
+        ),
     );
-    assert!(
-        stdout.contains("first difference from result.json at /stability/full_data_outcome_stable"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_stable",
     );
     assert_eq!(status(&stdout, "rendered files"), "MISMATCH", "{stdout}");
 }
@@ -806,19 +773,13 @@ fn a_spot_check_recomputes_the_stability_figures_and_catches_a_forged_frequency(
             NOT_STABLE[0],
         ],
     );
-    let stdout = assert_verdict(
-        &verify(&out, &data, &["--replicates-sample", "2"]),
-        1,
-        "MISMATCH",
+    let stdout = mismatched(&out, &data, &["--replicates-sample", "2"]);
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_frequency: \
+             recorded 0.4, re-run 0.8",
     );
-    assert!(
-        stdout.contains(
-            "first difference from result.json at /stability/full_data_outcome_frequency: \
-             recorded 0.4, re-run 0.8"
-        ),
-        "{stdout}"
-    );
-    assert!(stdout.contains("SPOT CHECK ONLY: 2 of 10"), "{stdout}");
+    assert_says(&stdout, "SPOT CHECK ONLY: 2 of 10");
 }
 
 #[test]
@@ -841,21 +802,17 @@ fn a_spot_check_catches_an_edited_replicate_record_it_did_not_rerun() {
         &rows,
         &rows.replace("\"rows\": ", "\"rows\": 1"),
     );
-    let stdout = assert_verdict(
-        &verify(
-            &out,
-            &data,
-            &["--replicates-sample", "1", "--sample-seed", "3"],
-        ),
-        1,
-        "MISMATCH",
+    let stdout = mismatched(
+        &out,
+        &data,
+        &["--replicates-sample", "1", "--sample-seed", "3"],
     );
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "1 replicate record(s) in result.json do not hash to their own digest (edited after \
              generation); the first is replicate {other}"
-        )),
-        "{stdout}"
+        ),
     );
 }
 
@@ -876,20 +833,17 @@ fn each_rendered_file_edited_with_its_hash_recomputed_is_named_with_its_first_di
         let text = original.lines().nth(line - 1).unwrap();
         assert!(text.contains(from), "{name}: {text}");
         forge_text(&copy, name, text, &text.replacen(from, to, 1));
-        let stdout = assert_verdict(&verify(&copy, &data, &[]), 1, "MISMATCH");
+        let stdout = mismatched(&copy, &data, &[]);
         assert_statuses(&stdout, &CHECKS[..6], "ok");
         assert_eq!(status(&stdout, "rendered files"), "MISMATCH", "{stdout}");
-        assert!(
-            stdout.contains(&format!(
+        assert_says(
+            &stdout,
+            &format!(
                 "{name} differs from its re-rendering: first difference at line {line}: on disk"
-            )),
-            "{name}: {stdout}"
+            ),
         );
         // The manifest on disk lists the forged hash, the re-rendered one the true hash.
-        assert!(
-            stdout.contains("manifest.json differs from its re-rendering"),
-            "{stdout}"
-        );
+        assert_says(&stdout, "manifest.json differs from its re-rendering");
     }
 }
 
@@ -902,29 +856,24 @@ fn a_file_deleted_and_dropped_from_the_manifest_is_named_missing() {
         reseal(&copy, |m| {
             m.files.remove(name);
         });
-        let stdout = assert_verdict(&verify(&copy, &data, &[]), 1, "MISMATCH");
+        let stdout = mismatched(&copy, &data, &[]);
         assert_eq!(status(&stdout, "manifest"), "ok", "{stdout}");
         assert_eq!(status(&stdout, "dossier files"), "MISMATCH", "{stdout}");
-        assert!(
-            stdout.contains(&format!("{name} is missing or unreadable (")),
-            "{name}: {stdout}"
-        );
-        assert!(
-            stdout.contains("every dossier holds it, and the manifest does not list it either"),
-            "{name}: {stdout}"
+        assert_says(&stdout, &format!("{name} is missing or unreadable ("));
+        assert_says(
+            &stdout,
+            "every dossier holds it, and the manifest does not list it either",
         );
         if name == "result.json" {
-            assert!(
-                stdout.contains("result.json is missing or does not read, so the re-run cannot"),
-                "{stdout}"
+            assert_says(
+                &stdout,
+                "result.json is missing or does not read, so the re-run cannot",
             );
             assert_eq!(status(&stdout, "rendered files"), "skipped", "{stdout}");
         } else {
-            assert!(
-                stdout.contains(&format!(
-                    "{name} cannot be compared with its re-rendering: it is missing"
-                )),
-                "{name}: {stdout}"
+            assert_says(
+                &stdout,
+                &format!("{name} cannot be compared with its re-rendering: it is missing"),
             );
         }
     }
@@ -937,7 +886,7 @@ fn extra_files_and_folders_in_the_dossier_are_each_named() {
     std::fs::write(out.join(".hidden"), "").unwrap();
     std::fs::create_dir(out.join("figures")).unwrap();
     std::fs::write(out.join("evil\u{202e}txt.md"), "").unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &data, &[]);
     assert_eq!(status(&stdout, "dossier files"), "MISMATCH", "{stdout}");
     for named in [
         "'.hidden' is in the dossier folder but is no file of a dossier",
@@ -946,7 +895,7 @@ fn extra_files_and_folders_in_the_dossier_are_each_named() {
         // A right-to-left override in a name is shown escaped, never applied.
         "'evil\\u{202e}txt.md' is in the dossier folder",
     ] {
-        assert!(stdout.contains(named), "{named}: {stdout}");
+        assert_says(&stdout, named);
     }
     // Nothing else is wrong: the analysis and every file of the dossier reproduce.
     assert_statuses(&stdout, &["re-run", "rendered files"], "ok");
@@ -954,10 +903,10 @@ fn extra_files_and_folders_in_the_dossier_are_each_named() {
     reseal(&out, |m| {
         m.files.insert("notes.txt".into(), String::new());
     });
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("manifest.json lists 'notes.txt', which is no file of a dossier"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(
+        &stdout,
+        "manifest.json lists 'notes.txt', which is no file of a dossier",
     );
 }
 
@@ -968,20 +917,18 @@ fn a_signatures_folder_of_signature_files_is_listed_in_a_note_and_anything_else_
     std::fs::create_dir(&signatures).unwrap();
     std::fs::write(signatures.join("1-approved.json"), "{}\n").unwrap();
     std::fs::write(signatures.join("1-approved.json.sig"), "").unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
+    let stdout = verified(&out, &data, &[]);
     assert_eq!(status(&stdout, "dossier files"), "ok (note)", "{stdout}");
-    assert!(
-        stdout.contains(
-            "signatures/ holds 2 signature file(s) (1-approved.json, 1-approved.json.sig); this \
-             build does not check signatures"
-        ),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "signatures/ holds 2 signature file(s) (1-approved.json, 1-approved.json.sig); this \
+             build does not check signatures",
     );
     std::fs::write(signatures.join("readme.txt"), "").unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("'signatures/readme.txt' is in the dossier folder but is no signature"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(
+        &stdout,
+        "'signatures/readme.txt' is in the dossier folder but is no signature",
     );
 }
 
@@ -1022,7 +969,7 @@ fn dossiers_with_other_settings_verify_in_full_and_as_a_spot_check() {
             .status()
             .unwrap();
         assert!(status_code.success(), "{extra:?}");
-        let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
+        let stdout = verified(&out, &data, &[]);
         assert_statuses(&stdout, &CHECKS, "ok");
         let spot = verify(&out, &data, &["--replicates-sample", "2"]);
         let stdout = assert_verdict(&spot, 0, "VERIFIED");
@@ -1055,20 +1002,14 @@ fn a_dossier_recording_another_build_verifies_and_an_edit_still_fails_with_a_hin
         .unwrap();
     }
     reseal(&out, |m| m.tool.build = other.into());
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
-    assert!(
-        stdout.contains("another build (dossier: forebear"),
-        "{stdout}"
-    );
-    assert!(stdout.contains("commit 0123456789ab"), "{stdout}");
+    let stdout = verified(&out, &data, &[]);
+    assert_says(&stdout, "another build (dossier: forebear");
+    assert_says(&stdout, "commit 0123456789ab");
     forge_text(&out, "dossier.md", "— stable:", "— not stable:");
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("dossier.md differs from its re-rendering"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("the dossier records that another build wrote it (forebear"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "dossier.md differs from its re-rendering");
+    assert_says(
+        &stdout,
+        "the dossier records that another build wrote it (forebear",
     );
 }
