@@ -63,32 +63,12 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
         spot_check = rerun.spot;
         taken_from_record = rerun.taken_from_record;
         checks.push(rerun.check);
-        checks.push(match &rerun.analysed {
-            Some(analysed) => {
-                progress.say("rendering every file of the dossier again from the re-run");
-                match rerender::render_dossier(analysed, &manifest) {
-                    Ok(rendered) => rerender::check_rendered(
-                        &request.dir,
-                        &rendered,
-                        other_build(&manifest).as_deref(),
-                    ),
-                    Err(e) => check(
-                        "rendered files",
-                        Status::Fail,
-                        vec![format!("the files could not be rendered again: {e}")],
-                    ),
-                }
-            }
-            None => check(
-                "rendered files",
-                Status::Skipped,
-                vec![
-                    "not compared: the re-run did not complete, or result.json (which holds \
-                      the run facts the files print) does not read"
-                        .into(),
-                ],
-            ),
-        });
+        checks.push(rerender::check_rendered_dossier(
+            &request.dir,
+            &manifest,
+            rerun.analysed.as_ref(),
+            progress,
+        ));
     } else {
         let why = if data_ok {
             "the dossier was made by another method version"
@@ -117,13 +97,6 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
         taken_from_record,
         verdict: if verified { "VERIFIED" } else { "MISMATCH" }.into(),
     })
-}
-
-/// The build that wrote the dossier, described, when it is not this build.
-fn other_build(manifest: &crate::manifest::Manifest) -> Option<String> {
-    let this = crate::finding::ToolInfo::current();
-    (manifest.tool.version != this.version || manifest.tool.build != this.build)
-        .then(|| manifest.tool.describe())
 }
 
 #[cfg(test)]

@@ -9,7 +9,7 @@
 //! the result digest as well (a unit test holds that), and the report lists them.
 
 use super::report::{check, visible, Check, Status};
-use crate::analysis::Analysed;
+use crate::analysis::{Analysed, Progress};
 use crate::manifest::{Manifest, MANIFEST_FILE};
 use serde::de::DeserializeOwned;
 use serde::Serialize;
@@ -76,7 +76,7 @@ pub(super) fn with_recorded<T: Serialize + DeserializeOwned>(
 
 /// Every file of the dossier of `analysed`, in writing order, the manifest last with the
 /// generation time of `recorded_manifest`.
-pub(super) fn render_dossier(
+fn render_dossier(
     analysed: &Analysed,
     recorded_manifest: &Manifest,
 ) -> Result<Vec<(&'static str, String)>, String> {
@@ -88,11 +88,48 @@ pub(super) fn render_dossier(
     Ok(files)
 }
 
+/// The `rendered files` check: every file of the dossier rendered again from `analysed` (the
+/// re-run with the recorded run facts) and compared with the files in `dir`; skipped without it.
+pub(super) fn check_rendered_dossier(
+    dir: &Path,
+    manifest: &Manifest,
+    analysed: Option<&Analysed>,
+    progress: &dyn Progress,
+) -> Check {
+    let Some(analysed) = analysed else {
+        return check(
+            "rendered files",
+            Status::Skipped,
+            vec![
+                "not compared: the re-run did not complete, or result.json (which holds the run \
+                  facts the files print) does not read"
+                    .into(),
+            ],
+        );
+    };
+    progress.say("rendering every file of the dossier again from the re-run");
+    match render_dossier(analysed, manifest) {
+        Ok(rendered) => check_rendered(dir, &rendered, other_build(manifest).as_deref()),
+        Err(e) => check(
+            "rendered files",
+            Status::Fail,
+            vec![format!("the files could not be rendered again: {e}")],
+        ),
+    }
+}
+
+/// The build that wrote the dossier, described, when it is not this build.
+fn other_build(manifest: &Manifest) -> Option<String> {
+    let this = crate::finding::ToolInfo::current();
+    (manifest.tool.version != this.version || manifest.tool.build != this.build)
+        .then(|| manifest.tool.describe())
+}
+
 /// Compares every re-rendered file with the file of that name in `dir`, byte for byte.
 /// `other_build` describes the build that wrote the dossier when it is not this one: its
 /// renderers may differ from this build's, which the report then says (the difference still
 /// fails, since the recorded build is itself only a record).
-pub(super) fn check_rendered(
+fn check_rendered(
     dir: &Path,
     rendered: &[(&'static str, String)],
     other_build: Option<&str>,
@@ -138,7 +175,7 @@ pub(super) fn check_rendered(
 
 /// Where the bytes on disk first differ from the re-rendered text, by line, or `None` when they
 /// are equal.
-pub(super) fn first_difference(on_disk: &[u8], rendered: &str) -> Option<String> {
+fn first_difference(on_disk: &[u8], rendered: &str) -> Option<String> {
     if on_disk == rendered.as_bytes() {
         return None;
     }
