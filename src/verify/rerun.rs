@@ -6,7 +6,7 @@ use super::checks::{recorded_reader, recorded_study, short};
 use super::report::{check, Check, SpotCheck, Status};
 use super::rerender::{recorded_fact_pointers, taken_from_record, with_recorded};
 use super::Request;
-use crate::analysis::{attach_stability, prepare, Analysed, Progress};
+use crate::analysis::{attach_stability, prepare, Analysed, Prepared, Progress};
 use crate::finding::Finding;
 use crate::manifest::{differences, Difference, Manifest};
 use crate::resample::ReplicateRecord;
@@ -99,42 +99,11 @@ pub(super) fn rerun(
     resaved: bool,
     progress: &dyn Progress,
 ) -> Rerun {
-    let (options, study) = match (recorded_reader(manifest), recorded_study(manifest)) {
-        (Ok(o), Ok(s)) => (o, s),
-        (Err(why), _) | (_, Err(why)) => return Rerun::failed(vec![why]),
+    let prepared = match prepare_rerun(request, manifest, progress) {
+        Ok(prepared) => prepared,
+        Err(details) => return Rerun::failed(details),
     };
-    let prepared = match prepare(
-        &request.data,
-        &StudyInput::replaying(&study),
-        &options,
-        progress,
-    ) {
-        Ok(p) => p,
-        Err(e) => return Rerun::failed(vec![format!("the re-run stopped: {e}")]),
-    };
-    if prepared.study != study {
-        let found = differences(
-            &serde_json::to_value(&study).unwrap_or_default(),
-            &serde_json::to_value(&prepared.study).unwrap_or_default(),
-            &[],
-            &[],
-            SHOWN_DIFFERENCES,
-        );
-        return Rerun::failed(
-            std::iter::once(
-                "the settings validated on the received data differ from the recorded ones"
-                    .to_string(),
-            )
-            .chain(found.iter().map(Difference::to_string))
-            .collect(),
-        );
-    }
-    let limit = if request.allow_other_version {
-        ALL_DIFFERENCES
-    } else {
-        SHOWN_DIFFERENCES
-    };
-    let count = study.resampling.count;
+    let count = prepared.study.resampling.count;
     let sample_seed = request.sample_seed.unwrap_or_else(|| seal_seed(manifest));
     let spot = request.replicates_sample.map(|k| SpotCheck {
         replicates: sample_replicates(count, k, sample_seed),
@@ -177,83 +146,26 @@ pub(super) fn rerun(
             }
         },
     };
-    let digest_reproduced = complete.digest == manifest.results.digest;
-    if !digest_reproduced {
-        problems.push(match &spot {
-            None => format!(
-                "the re-run digest {} differs from the recorded {}",
-                short(&complete.digest),
-                short(&manifest.results.digest)
-            ),
-            Some(_) => format!(
-                "the digest of the re-run full-data search with the recorded replicate records, \
-                 {}, differs from the recorded {}",
-                short(&complete.digest),
-                short(&manifest.results.digest)
-            ),
-        });
-    }
-    match recorded {
-        None => problems.push(
-            "result.json is missing or does not read, so the re-run cannot be compared with it \
-             field by field"
-                .into(),
-        ),
-        Some(r) => {
-            let found = differences(
-                &serde_json::to_value(r).unwrap_or_default(),
-                &serde_json::to_value(&complete).unwrap_or_default(),
-                &FINDING_ORDER,
-                &[],
-                limit,
-            );
-            if let Some(first) = found.first() {
-                if digest_reproduced {
-                    problems.push(format!(
-                        "the re-run reproduces the manifest's digest {}, but result.json no \
-                         longer matches it",
-                        short(&manifest.results.digest)
-                    ));
-                }
-                problems.push(format!("first difference from result.json at {first}"));
-                problems.extend(found[1..].iter().map(|d| format!("also {d}")));
-            }
-        }
-    }
+    let limit = if request.allow_other_version {
+        ALL_DIFFERENCES
+    } else {
+        SHOWN_DIFFERENCES
+    };
+    problems.extend(result_problems(
+        &complete,
+        recorded,
+        manifest,
+        spot.is_some(),
+        limit,
+    ));
     problems.extend(replicate_problems(
         &rerun_records,
         recorded_records,
         manifest,
         count,
     ));
-    let mut details = match (&spot, problems.is_empty()) {
-        (None, true) if count == 0 => vec![format!(
-            "the full-data search reproduces the recorded digest {}, and result.json field for \
-             field (no resampling)",
-            short(&manifest.results.digest)
-        )],
-        (None, true) => vec![format!(
-            "the full-data search and all {count} replicates reproduce the recorded digest {}, \
-             and result.json field for field, stability included",
-            short(&manifest.results.digest)
-        )],
-        (Some(s), true) => vec![format!(
-            "spot check: the full-data search and the {} sampled replicates ({}) reproduce their \
-             records; the stability figures, aggregated again from all {count} recorded replicate \
-             records, equal result.json's, and the recorded digest {} is reproduced; the other {} \
-             replicates were not re-run",
-            s.replicates.len(),
-            list_numbers(&s.replicates),
-            short(&manifest.results.digest),
-            count as usize - s.replicates.len()
-        )],
-        (Some(s), false) => vec![format!(
-            "spot check (replicates {} re-run): differences found",
-            list_numbers(&s.replicates)
-        )],
-        (None, false) => Vec::new(),
-    };
     let ok = problems.is_empty();
+    let mut details = summary(spot.as_ref(), count, ok, manifest);
     details.extend(problems);
     if !taken.is_empty() {
         details.push(format!(
@@ -274,6 +186,121 @@ pub(super) fn rerun(
         spot,
         analysed,
         taken_from_record: taken,
+    }
+}
+
+/// Reads the received data with the recorded reader options and settings; the sentences of a
+/// failed check when that stops or validates other settings.
+fn prepare_rerun(
+    request: &Request,
+    manifest: &Manifest,
+    progress: &dyn Progress,
+) -> Result<Prepared, Vec<String>> {
+    let (options, study) = match (recorded_reader(manifest), recorded_study(manifest)) {
+        (Ok(o), Ok(s)) => (o, s),
+        (Err(why), _) | (_, Err(why)) => return Err(vec![why]),
+    };
+    let prepared = prepare(
+        &request.data,
+        &StudyInput::replaying(&study),
+        &options,
+        progress,
+    )
+    .map_err(|e| vec![format!("the re-run stopped: {e}")])?;
+    if prepared.study != study {
+        let found = differences(
+            &serde_json::to_value(&study).unwrap_or_default(),
+            &serde_json::to_value(&prepared.study).unwrap_or_default(),
+            &[],
+            &[],
+            SHOWN_DIFFERENCES,
+        );
+        return Err(std::iter::once(
+            "the settings validated on the received data differ from the recorded ones".to_string(),
+        )
+        .chain(found.iter().map(Difference::to_string))
+        .collect());
+    }
+    Ok(prepared)
+}
+
+/// The complete re-run result against the manifest's digest and, field by field, `result.json`.
+fn result_problems(
+    complete: &Finding,
+    recorded: Option<&Finding>,
+    manifest: &Manifest,
+    spot: bool,
+    limit: usize,
+) -> Vec<String> {
+    let mut problems = Vec::new();
+    let digest_reproduced = complete.digest == manifest.results.digest;
+    if !digest_reproduced {
+        let what = if spot {
+            "the digest of the re-run full-data search with the recorded replicate records,"
+        } else {
+            "the re-run digest"
+        };
+        problems.push(format!(
+            "{what} {} differs from the recorded {}",
+            short(&complete.digest),
+            short(&manifest.results.digest)
+        ));
+    }
+    let Some(recorded) = recorded else {
+        problems.push(
+            "result.json is missing or does not read, so the re-run cannot be compared with it \
+             field by field"
+                .into(),
+        );
+        return problems;
+    };
+    let found = differences(
+        &serde_json::to_value(recorded).unwrap_or_default(),
+        &serde_json::to_value(complete).unwrap_or_default(),
+        &FINDING_ORDER,
+        &[],
+        limit,
+    );
+    if let Some(first) = found.first() {
+        if digest_reproduced {
+            problems.push(format!(
+                "the re-run reproduces the manifest's digest {}, but result.json no longer \
+                 matches it",
+                short(&manifest.results.digest)
+            ));
+        }
+        problems.push(format!("first difference from result.json at {first}"));
+        problems.extend(found[1..].iter().map(|d| format!("also {d}")));
+    }
+    problems
+}
+
+/// The re-run check's first sentence: what was reproduced, or that a spot check found differences.
+fn summary(spot: Option<&SpotCheck>, count: u32, ok: bool, manifest: &Manifest) -> Vec<String> {
+    let digest = short(&manifest.results.digest);
+    match (spot, ok) {
+        (None, true) if count == 0 => vec![format!(
+            "the full-data search reproduces the recorded digest {digest}, and result.json field \
+             for field (no resampling)"
+        )],
+        (None, true) => vec![format!(
+            "the full-data search and all {count} replicates reproduce the recorded digest \
+             {digest}, and result.json field for field, stability included"
+        )],
+        (Some(s), true) => vec![format!(
+            "spot check: the full-data search and the {} sampled replicates ({}) reproduce their \
+             records; the stability figures, aggregated again from all {count} recorded replicate \
+             records, equal result.json's, and the recorded digest {digest} is reproduced; the \
+             other {} replicates were not re-run",
+            s.replicates.len(),
+            list_numbers(&s.replicates),
+            count as usize - s.replicates.len()
+        )],
+        (Some(s), false) => vec![format!(
+            "spot check (replicates {} re-run): differences found",
+            list_numbers(&s.replicates)
+        )],
+        (None, false) => Vec::new(),
     }
 }
 
