@@ -105,11 +105,15 @@ pub(super) fn rerun(
     };
     let count = prepared.study.resampling.count;
     let sample_seed = request.sample_seed.unwrap_or_else(|| seal_seed(manifest));
-    let spot = request.replicates_sample.map(|k| SpotCheck {
-        replicates: sample_replicates(count, k, sample_seed),
-        of: count,
-        sample_seed,
-    });
+    // Without resampling there is nothing to sample: the verification is complete.
+    let spot = request
+        .replicates_sample
+        .filter(|_| count > 0)
+        .map(|k| SpotCheck {
+            replicates: sample_replicates(count, k, sample_seed),
+            of: count,
+            sample_seed,
+        });
     let full = prepared.full_search(progress);
     let rerun_records: Vec<ReplicateRecord> = match &spot {
         None => prepared.replicates(0..count, &full, progress),
