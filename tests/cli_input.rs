@@ -7,7 +7,8 @@
 mod common;
 
 use common::{
-    analyze, assert_input_error, assert_success, result_json, run, stderr_of, table, Scratch,
+    analyze, assert_input_error, assert_success, result_json, run, sha256_hex, stderr_of, table,
+    Scratch,
 };
 use std::ffi::OsStr;
 use std::path::Path;
@@ -715,14 +716,6 @@ fn result_json_has_every_key_the_contract_lists() {
         digest.len() == 64 && digest.bytes().all(|b| b.is_ascii_hexdigit()),
         "{digest}"
     );
-}
-
-fn sha256_hex(bytes: &[u8]) -> String {
-    use sha2::Digest;
-    sha2::Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
 }
 
 // ---- the output folder --------------------------------------------------------------------------

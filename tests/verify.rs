@@ -1,9 +1,13 @@
-//! `forebear verify` on real dossiers: the round trip, every tamper case of issue 5 with the
-//! explanation the reviewer reads, another thread count, a spot check, and `fingerprint`. Runs the
-//! real binary on files written by `forebear analyze`.
+//! `forebear verify` on real dossiers: the round trip, every tamper case of issues 5 and 12 with
+//! the explanation the reviewer reads (forgeries done as a careful forger would: every hash in the
+//! manifest recomputed and the manifest re-sealed), another thread count, spot checks, dossiers
+//! made with other settings, and `fingerprint`. Runs the real binary on files written by
+//! `forebear analyze`.
 
-use forebear::manifest::{canonical_json, Manifest};
-use sha2::{Digest, Sha256};
+mod common;
+
+use common::{forge_text, forge_texts, reseal, sha256_hex as hex_sha256};
+use forebear::manifest::Manifest;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
@@ -16,13 +20,6 @@ fn scratch(name: &str) -> PathBuf {
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
     dir
-}
-
-fn hex_sha256(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
 }
 
 /// The demo data and its dossier (10 replicates) in a fresh folder.
@@ -71,6 +68,16 @@ fn assert_verdict(output: &Output, code: i32, verdict: &str) -> String {
     stdout
 }
 
+/// Runs `verify` and asserts exit 0 and `VERIFIED`; returns the report.
+fn verified(out: &Path, data: &Path, extra: &[&str]) -> String {
+    assert_verdict(&verify(out, data, extra), 0, "VERIFIED")
+}
+
+/// Runs `verify` and asserts exit 1 and `MISMATCH`; returns the report.
+fn mismatched(out: &Path, data: &Path, extra: &[&str]) -> String {
+    assert_verdict(&verify(out, data, extra), 1, "MISMATCH")
+}
+
 /// The data file's lines, changed by `edit`, written to `name` beside it.
 fn edited_data(data: &Path, name: &str, edit: impl FnOnce(&mut Vec<String>)) -> PathBuf {
     let mut lines: Vec<String> = std::fs::read_to_string(data)
@@ -88,36 +95,90 @@ fn read_manifest(out: &Path) -> Manifest {
     serde_json::from_str(&std::fs::read_to_string(out.join("manifest.json")).unwrap()).unwrap()
 }
 
-/// Writes a manifest with its settings hash and seal recomputed, as a careful forger would.
-fn write_resealed(out: &Path, mut manifest: Manifest) {
-    manifest.settings.sha256 = hex_sha256(canonical_json(&manifest.settings.canonical).as_bytes());
-    manifest.seal = manifest.computed_seal();
-    std::fs::write(out.join("manifest.json"), manifest.to_text()).unwrap();
+/// Every check of a verification, in order.
+const CHECKS: [&str; 7] = [
+    "manifest",
+    "dossier files",
+    "settings",
+    "data",
+    "tool",
+    "re-run",
+    "rendered files",
+];
+
+/// The status label a check printed ("ok", "ok (note)", "MISMATCH", "skipped").
+fn status<'a>(stdout: &'a str, check: &str) -> &'a str {
+    stdout
+        .lines()
+        .find_map(|l| {
+            l.strip_prefix(check)
+                .filter(|rest| rest.starts_with(' '))
+                .map(str::trim)
+        })
+        .unwrap_or_else(|| panic!("no check {check}: {stdout}"))
+}
+
+/// Asserts that the report says `needle`.
+fn assert_says(stdout: &str, needle: &str) {
+    assert!(stdout.contains(needle), "{needle:?} expected in: {stdout}");
+}
+
+/// Asserts that each of `checks` printed `label`.
+fn assert_statuses(stdout: &str, checks: &[&str], label: &str) {
+    for check in checks {
+        assert_eq!(status(stdout, check), label, "{check}: {stdout}");
+    }
+}
+
+/// The run facts verify takes from the record, as the text report lists them.
+const TAKEN_FROM_RECORD: &str = "taken from the record, not recomputed (run facts, which the \
+     digest leaves out too): result.json /run/started_utc, /run/duration_seconds, /run/threads, \
+     /run/data_path, /run/command_line, /tool/version, /tool/build, /data/file";
+
+/// A copy of a dossier folder (its files) beside it, to forge without analysing again.
+fn copy_dossier(out: &Path, name: &str) -> PathBuf {
+    let copy = out.with_file_name(name);
+    std::fs::create_dir_all(&copy).unwrap();
+    for entry in std::fs::read_dir(out).unwrap() {
+        let entry = entry.unwrap();
+        std::fs::copy(entry.path(), copy.join(entry.file_name())).unwrap();
+    }
+    copy
+}
+
+/// The 1-based number of the first line of `name` in `dossier` that contains `needle`.
+fn line_number(dossier: &Path, name: &str, needle: &str) -> usize {
+    std::fs::read_to_string(dossier.join(name))
+        .unwrap()
+        .lines()
+        .position(|l| l.contains(needle))
+        .unwrap_or_else(|| panic!("{name} holds no {needle:?}"))
+        + 1
 }
 
 #[test]
 fn demo_round_trip_verifies_with_exit_0_and_every_check_ok() {
     let (_dir, data, out) = analysed("round-trip");
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 0, "VERIFIED");
-    for check in [
-        "manifest",
-        "dossier files",
-        "settings",
-        "data",
-        "tool",
-        "re-run",
-    ] {
-        assert!(
-            stdout
-                .lines()
-                .any(|l| l.starts_with(check) && l.ends_with(" ok")),
-            "{check}: {stdout}"
-        );
-    }
-    assert!(stdout.contains("bytes identical"), "{stdout}");
-    assert!(
-        stdout.contains("all 10 replicates reproduce the recorded digest"),
-        "{stdout}"
+    let stdout = verified(&out, &data, &[]);
+    assert_statuses(&stdout, &CHECKS, "ok");
+    assert_says(&stdout, "bytes identical");
+    assert_says(&stdout, "all 10 replicates reproduce the recorded digest");
+    assert_says(
+        &stdout,
+        "and result.json field for field, stability included",
+    );
+    assert_says(
+        &stdout,
+        &format!("{TAKEN_FROM_RECORD}; manifest.json /generated_utc\n"),
+    );
+    assert_says(
+        &stdout,
+        "the 6 files rendered again from the re-run equal the files on disk byte for byte: \
+             result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json",
+    );
+    assert_says(
+        &stdout,
+        "the 6 files of a dossier are present and match the manifest",
     );
 }
 
@@ -185,15 +246,12 @@ fn one_changed_byte_of_data_is_located_by_row_line_and_column() {
         .split(',')
         .next()
         .unwrap();
-    let stdout = assert_verdict(&verify(&out, &changed, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("different data"), "{stdout}");
-    assert!(
-        stdout.contains(&format!(
+    let stdout = mismatched(&out, &changed, &[]);
+    assert_says(&stdout, "different data");
+    assert_says(&stdout, &format!(
             "1 data row(s) differ from the analysed file, first at data row 49 (line 50), column '{column}'"
-        )),
-        "{stdout}"
-    );
-    assert!(stdout.contains("not run: the data differ"), "{stdout}");
+        ));
+    assert_says(&stdout, "not run: the data differ");
 }
 
 #[test]
@@ -202,18 +260,18 @@ fn a_removed_row_is_named_with_both_row_counts() {
     let fewer = edited_data(&data, "fewer.csv", |lines| {
         lines.remove(101);
     });
-    let stdout = assert_verdict(&verify(&out, &fewer, &[]), 1, "MISMATCH");
+    let stdout = mismatched(&out, &fewer, &[]);
     let rows = forebear::demo::DEMO_CSV.lines().count() - 1;
-    assert!(
-        stdout.contains(&format!(
+    assert_says(
+        &stdout,
+        &format!(
             "rows: the analysed file has {rows} data rows, the received file {}",
             rows - 1
-        )),
-        "{stdout}"
+        ),
     );
-    assert!(
-        stdout.contains("data row 101 of the analysed file is missing from the received file"),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        "data row 101 of the analysed file is missing from the received file",
     );
 }
 
@@ -223,12 +281,10 @@ fn a_renamed_column_is_named_and_its_values_reported_unchanged() {
     let renamed = edited_data(&data, "renamed.csv", |lines| {
         lines[0] = lines[0].replace("probe_gap", "probe_gap_mm");
     });
-    let stdout = assert_verdict(&verify(&out, &renamed, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains(
-            "'probe_gap' is named 'probe_gap_mm' in the received file (its values are unchanged)"
-        ),
-        "{stdout}"
+    let stdout = mismatched(&out, &renamed, &[]);
+    assert_says(
+        &stdout,
+        "'probe_gap' is named 'probe_gap_mm' in the received file (its values are unchanged)",
     );
 }
 
@@ -246,10 +302,18 @@ fn resaved_with_crlf_and_quotes_verifies_with_a_same_content_note() {
         .collect();
     let resaved = data.with_file_name("resaved.csv");
     std::fs::write(&resaved, quoted.join("\r\n") + "\r\n").unwrap();
-    let stdout = assert_verdict(&verify(&out, &resaved, &[]), 0, "VERIFIED");
-    assert!(stdout.contains("data           ok (note)"), "{stdout}");
-    assert!(stdout.contains("same content, different bytes"), "{stdout}");
-    assert!(stdout.contains("reproduce the recorded digest"), "{stdout}");
+    let stdout = verified(&out, &resaved, &[]);
+    assert_says(&stdout, "data           ok (note)");
+    assert_says(&stdout, "same content, different bytes");
+    assert_says(&stdout, "reproduce the recorded digest");
+    // The dossier records the analysed file's name, bytes hash and size, not the copy's.
+    assert_says(
+        &stdout,
+        &format!(
+            "{TAKEN_FROM_RECORD}, /data/sha256, /data/size_bytes; manifest.json /generated_utc"
+        ),
+    );
+    assert_eq!(status(&stdout, "rendered files"), "ok", "{stdout}");
 }
 
 #[test]
@@ -258,14 +322,15 @@ fn an_edited_html_dossier_is_detected_and_named() {
     let path = out.join("dossier.html");
     let html = std::fs::read_to_string(&path).unwrap();
     std::fs::write(&path, html.replacen("identified", "confirmed", 1)).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("dossier files  MISMATCH"), "{stdout}");
-    assert!(
-        stdout.contains("dossier.html was edited after generation"),
-        "{stdout}"
-    );
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "dossier files  MISMATCH");
+    assert_says(&stdout, "dossier.html was edited after generation");
     // The analysis itself still reproduces: the reviewer learns that only the page was touched.
-    assert!(stdout.contains("reproduce the recorded digest"), "{stdout}");
+    assert_says(&stdout, "reproduce the recorded digest");
+    assert_says(
+        &stdout,
+        "dossier.html differs from its re-rendering: first difference at line",
+    );
 }
 
 #[test]
@@ -276,19 +341,10 @@ fn an_edited_result_json_is_detected_and_the_edited_field_named() {
         serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
     result["parent_sets"] = serde_json::json!([["ambient_humidity"]]);
     std::fs::write(&path, serde_json::to_string_pretty(&result).unwrap()).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("result.json was edited after generation"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("result.json no longer matches it"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("first difference from result.json at /parent_sets"),
-        "{stdout}"
-    );
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "result.json was edited after generation");
+    assert_says(&stdout, "result.json no longer matches it");
+    assert_says(&stdout, "first difference from result.json at /parent_sets");
 }
 
 #[test]
@@ -298,30 +354,24 @@ fn settings_changed_in_the_manifest_are_detected_without_and_with_a_new_seal() {
     let mut manifest = read_manifest(&out);
     manifest.settings.canonical["study"]["alpha"] = serde_json::json!(0.01);
     std::fs::write(out.join("manifest.json"), manifest.to_text()).unwrap();
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("manifest.json was edited after generation"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("the settings in manifest.json were changed"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("at /study/alpha: 0.05 in result.json, 0.01 in manifest.json"),
-        "{stdout}"
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "manifest.json was edited after generation");
+    assert_says(&stdout, "the settings in manifest.json were changed");
+    assert_says(
+        &stdout,
+        "at /study/alpha: 0.05 in result.json, 0.01 in manifest.json",
     );
     // Resealed with the settings hash recomputed: the disagreement with result.json remains.
     std::fs::write(out.join("manifest.json"), &original).unwrap();
-    let mut manifest = read_manifest(&out);
-    manifest.settings.canonical["study"]["alpha"] = serde_json::json!(0.01);
-    write_resealed(&out, manifest);
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(stdout.contains("manifest       ok"), "{stdout}");
-    assert!(stdout.contains("at /study/alpha"), "{stdout}");
-    assert!(
-        stdout.contains("first difference from result.json at /settings/alpha"),
-        "{stdout}"
+    reseal(&out, |m| {
+        m.settings.canonical["study"]["alpha"] = serde_json::json!(0.01);
+    });
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "manifest       ok");
+    assert_says(&stdout, "at /study/alpha");
+    assert_says(
+        &stdout,
+        "first difference from result.json at /settings/alpha",
     );
 }
 
@@ -337,13 +387,10 @@ fn a_different_seed_recorded_consistently_everywhere_fails_the_rerun() {
     result["settings"]["resampling"]["seed"] = 2.into();
     let text = serde_json::to_string_pretty(&result).unwrap() + "\n";
     std::fs::write(&path, &text).unwrap();
-    let mut manifest = read_manifest(&out);
-    manifest.settings.canonical["study"] = result["settings"].clone();
-    manifest
-        .files
-        .insert("result.json".into(), hex_sha256(text.as_bytes()));
-    write_resealed(&out, manifest);
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
+    reseal(&out, |m| {
+        m.settings.canonical["study"] = result["settings"].clone();
+    });
+    let stdout = mismatched(&out, &data, &[]);
     for check in ["manifest", "dossier files", "settings", "data", "tool"] {
         assert!(
             stdout
@@ -352,15 +399,12 @@ fn a_different_seed_recorded_consistently_everywhere_fails_the_rerun() {
             "{check} should pass: {stdout}"
         );
     }
-    assert!(stdout.contains("re-run         MISMATCH"), "{stdout}");
-    assert!(stdout.contains("seed 2"), "{stdout}");
-    assert!(
-        stdout.contains("full-data search: first difference from result.json at /trace/"),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("re-run differ from their recorded digests; the first is replicate 0"),
-        "{stdout}"
+    assert_says(&stdout, "re-run         MISMATCH");
+    assert_says(&stdout, "seed 2");
+    assert_says(&stdout, "first difference from result.json at /trace/");
+    assert_says(
+        &stdout,
+        "re-run differ from their records; the first is replicate 0",
     );
 }
 
@@ -383,14 +427,20 @@ fn verification_on_one_thread_and_as_a_spot_check_both_verify() {
     let stdout = assert_verdict(&spot, 0, "VERIFIED");
     let chosen = forebear::verify::sample_replicates(10, 3, 7);
     let listed: Vec<String> = chosen.iter().map(u32::to_string).collect();
-    assert!(
-        stdout.contains(&format!("the 3 sampled replicates ({})", listed.join(", "))),
-        "{stdout}"
+    assert_says(
+        &stdout,
+        &format!("the 3 sampled replicates ({})", listed.join(", ")),
+    );
+    assert_says(
+        &stdout,
+        "SPOT CHECK ONLY: 3 of 10 replicates re-run (sample seed 7)",
     );
     assert!(
-        stdout.contains("SPOT CHECK ONLY: 3 of 10 replicates re-run (sample seed 7)"),
+        stdout
+            .contains("not checked: whether the other 7 replicate records are what a re-run gives"),
         "{stdout}"
     );
+    assert_statuses(&stdout, &CHECKS, "ok");
 }
 
 #[test]
@@ -398,22 +448,15 @@ fn a_spot_check_finds_a_changed_replicate_record() {
     // Replicate digests edited in a resealed manifest: the sampled replicate must disagree.
     let (_dir, data, out) = analysed("spot-mismatch");
     let chosen = forebear::verify::sample_replicates(10, 2, 5);
-    let mut manifest = read_manifest(&out);
-    manifest.results.replicates[chosen[1] as usize] = "0".repeat(64);
-    write_resealed(&out, manifest);
-    let stdout = assert_verdict(
-        &verify(
-            &out,
-            &data,
-            &["--replicates-sample", "2", "--sample-seed", "5"],
-        ),
-        1,
-        "MISMATCH",
+    reseal(&out, |m| {
+        m.results.replicates[chosen[1] as usize] = "0".repeat(64);
+    });
+    let stdout = mismatched(
+        &out,
+        &data,
+        &["--replicates-sample", "2", "--sample-seed", "5"],
     );
-    assert!(
-        stdout.contains(&format!("the first is replicate {}", chosen[1])),
-        "{stdout}"
-    );
+    assert_says(&stdout, &format!("the first is replicate {}", chosen[1]));
 }
 
 #[test]
@@ -426,28 +469,22 @@ fn another_method_version_is_refused_unless_allowed_and_then_every_difference_li
     result["tool"]["method"] = "forebear-method/0".into();
     let text = serde_json::to_string_pretty(&result).unwrap() + "\n";
     std::fs::write(&path, &text).unwrap();
-    let mut manifest = read_manifest(&out);
-    manifest.tool.method = "forebear-method/0".into();
-    manifest
-        .files
-        .insert("result.json".into(), hex_sha256(text.as_bytes()));
-    write_resealed(&out, manifest);
-    let stdout = assert_verdict(&verify(&out, &data, &[]), 1, "MISMATCH");
-    assert!(
-        stdout.contains("with method version 'forebear-method/0'"),
-        "{stdout}"
-    );
-    assert!(stdout.contains("--allow-other-version"), "{stdout}");
-    assert!(stdout.contains("re-run         skipped"), "{stdout}");
+    reseal(&out, |m| {
+        m.tool.method = "forebear-method/0".into();
+    });
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "with method version 'forebear-method/0'");
+    assert_says(&stdout, "--allow-other-version");
+    assert_says(&stdout, "re-run         skipped");
     let allowed = verify(&out, &data, &["--allow-other-version"]);
     let stdout = assert_verdict(&allowed, 1, "MISMATCH");
-    assert!(stdout.contains("re-running anyway"), "{stdout}");
-    assert!(stdout.contains("re-run         MISMATCH"), "{stdout}");
+    assert_says(&stdout, "re-running anyway");
+    assert_says(&stdout, "re-run         MISMATCH");
     let expected = format!(
         "first difference from result.json at /tool/method: recorded \"forebear-method/0\", re-run \"{}\"",
         forebear::finding::METHOD_VERSION
     );
-    assert!(stdout.contains(&expected), "{stdout}");
+    assert_says(&stdout, &expected);
 }
 
 #[test]
@@ -472,7 +509,8 @@ fn json_report_carries_every_check_and_the_verdict() {
             "settings",
             "data",
             "tool",
-            "re-run"
+            "re-run",
+            "rendered files"
         ]
     );
     assert!(report["checks"]
@@ -480,6 +518,20 @@ fn json_report_carries_every_check_and_the_verdict() {
         .unwrap()
         .iter()
         .all(|c| c["status"] == "pass"));
+    assert_eq!(
+        report["taken_from_record"],
+        serde_json::json!([
+            "result.json#/run/started_utc",
+            "result.json#/run/duration_seconds",
+            "result.json#/run/threads",
+            "result.json#/run/data_path",
+            "result.json#/run/command_line",
+            "result.json#/tool/version",
+            "result.json#/tool/build",
+            "result.json#/data/file",
+            "manifest.json#/generated_utc"
+        ])
+    );
 }
 
 #[test]
@@ -533,8 +585,8 @@ fn fingerprint_prints_both_hashes_and_tells_a_resave_from_a_change() {
     );
     let plain = bin().arg("fingerprint").arg(&a).output().unwrap();
     let stdout = text(&plain);
-    assert!(stdout.contains(fa["sha256"].as_str().unwrap()), "{stdout}");
-    assert!(stdout.contains("2 data rows × 2 columns"), "{stdout}");
+    assert_says(&stdout, fa["sha256"].as_str().unwrap());
+    assert_says(&stdout, "2 data rows × 2 columns");
 }
 
 #[test]
@@ -567,7 +619,7 @@ fn a_dossier_merged_from_replicate_shards_verifies_with_the_single_run_digest() 
         read_manifest(&merged).results,
         read_manifest(&single).results
     );
-    assert_verdict(&verify(&merged, &data, &[]), 0, "VERIFIED");
+    verified(&merged, &data, &[]);
 }
 
 #[test]
@@ -624,4 +676,341 @@ fn the_manifest_reproduce_command_gives_the_same_digest_with_every_reader_option
         .unwrap();
     assert!(status.success());
     assert_eq!(read_manifest(&dir.join("rerun")).results, manifest.results);
+}
+
+/// The forgery of issue 12: the full-data outcome's stability turned into "not stable" in
+/// result.json and in the dossier's words.
+const NOT_STABLE: [(&str, &str, &str); 4] = [
+    (
+        "result.json",
+        "\"full_data_outcome_stable\": true",
+        "\"full_data_outcome_stable\": false",
+    ),
+    ("result.json", "\"stable\": true,", "\"stable\": false,"),
+    ("dossier.md", "— stable:", "— not stable:"),
+    ("dossier.html", "— stable:", "— not stable:"),
+];
+
+#[test]
+fn forged_stability_in_result_and_dossier_with_every_hash_recomputed_is_a_mismatch() {
+    let (_dir, data, out) = analysed("forged-stability");
+    let line = line_number(&out, "dossier.md", "— stable:");
+    forge_texts(&out, &NOT_STABLE);
+    let stdout = mismatched(&out, &data, &[]);
+    assert_statuses(
+        &stdout,
+        &["manifest", "dossier files", "settings", "data", "tool"],
+        "ok",
+    );
+    assert_statuses(&stdout, &["re-run", "rendered files"], "MISMATCH");
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_stable: recorded \
+             false, re-run true",
+    );
+    assert_says(
+        &stdout,
+        "also /stability/headline/stable: recorded false, re-run true",
+    );
+    assert_says(
+        &stdout,
+        &format!(
+            "dossier.md differs from its re-rendering: first difference at line {line}: on disk"
+        ),
+    );
+    assert_says(&stdout, "— not stable:");
+    for name in ["result.json", "dossier.html"] {
+        assert_says(&stdout, &format!("{name} differs from its re-rendering"));
+    }
+}
+
+#[test]
+fn forged_stability_with_the_digest_recomputed_too_is_a_mismatch() {
+    let (_dir, data, out) = analysed("forged-digest");
+    forge_texts(&out, &NOT_STABLE);
+    // The forger also recomputes the result digest and writes it wherever the old one appears.
+    let result = common::result_json(&out);
+    let old = result["digest"].as_str().unwrap().to_string();
+    let new = forebear::manifest::digest(&result);
+    for name in ["result.json", "dossier.md", "dossier.html"] {
+        let path = out.join(name);
+        let text = std::fs::read_to_string(&path).unwrap();
+        std::fs::write(
+            &path,
+            text.replace(&old, &new).replace(&old[..16], &new[..16]),
+        )
+        .unwrap();
+    }
+    reseal(&out, |m| m.results.digest = new.clone());
+    let stdout = mismatched(&out, &data, &[]);
+    assert_statuses(&stdout, &["manifest", "dossier files", "settings"], "ok");
+    assert_says(
+        &stdout,
+        &format!(
+            "the re-run digest {} differs from the recorded {}",
+            &old[..16],
+            &new[..16]
+        ),
+    );
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_stable",
+    );
+    assert_eq!(status(&stdout, "rendered files"), "MISMATCH", "{stdout}");
+}
+
+#[test]
+fn a_spot_check_recomputes_the_stability_figures_and_catches_a_forged_frequency() {
+    let (_dir, data, out) = analysed("spot-forged");
+    forge_texts(
+        &out,
+        &[
+            (
+                "result.json",
+                "\"full_data_outcome_frequency\": 0.8",
+                "\"full_data_outcome_frequency\": 0.4",
+            ),
+            NOT_STABLE[0],
+        ],
+    );
+    let stdout = mismatched(&out, &data, &["--replicates-sample", "2"]);
+    assert_says(
+        &stdout,
+        "first difference from result.json at /stability/full_data_outcome_frequency: \
+             recorded 0.4, re-run 0.8",
+    );
+    assert_says(&stdout, "SPOT CHECK ONLY: 2 of 10");
+}
+
+#[test]
+fn a_spot_check_catches_an_edited_replicate_record_it_did_not_rerun() {
+    // A record's outcome changed in result.json (hashes recomputed, the record's own digest
+    // left): the aggregate is recomputed from every record, and every record must hash to the
+    // digest the manifest binds.
+    let (_dir, data, out) = analysed("spot-record");
+    let chosen = forebear::verify::sample_replicates(10, 1, 3);
+    let other = (0..10u32).find(|k| !chosen.contains(k)).unwrap();
+    let result = common::result_json(&out);
+    let record = &result["stability"]["records"][other as usize];
+    let rows = format!(
+        "\"replicate\": {other},\n        \"rows\": {}",
+        record["rows"]
+    );
+    forge_text(
+        &out,
+        "result.json",
+        &rows,
+        &rows.replace("\"rows\": ", "\"rows\": 1"),
+    );
+    let stdout = mismatched(
+        &out,
+        &data,
+        &["--replicates-sample", "1", "--sample-seed", "3"],
+    );
+    assert_says(
+        &stdout,
+        &format!(
+            "1 replicate record(s) in result.json do not hash to their own digest (edited after \
+             generation); the first is replicate {other}"
+        ),
+    );
+}
+
+#[test]
+fn each_rendered_file_edited_with_its_hash_recomputed_is_named_with_its_first_differing_line() {
+    let (_dir, data, out) = analysed("rendered");
+    // (file, a text that finds the line, the edit within that line)
+    let cases = [
+        ("dossier.md", "— stable:", ("stable", "not stable")),
+        ("dossier.html", "— stable:", ("stable", "not stable")),
+        ("trace.csv", ",true,", (",true,", ",false,")),
+        ("stability.csv", "kiln_peak_temp,", (",0.8,", ",0.9,")),
+    ];
+    for (name, needle, (from, to)) in cases {
+        let copy = copy_dossier(&out, &format!("forged-{name}"));
+        let line = line_number(&copy, name, needle);
+        let original = std::fs::read_to_string(copy.join(name)).unwrap();
+        let text = original.lines().nth(line - 1).unwrap();
+        assert!(text.contains(from), "{name}: {text}");
+        forge_text(&copy, name, text, &text.replacen(from, to, 1));
+        let stdout = mismatched(&copy, &data, &[]);
+        assert_statuses(&stdout, &CHECKS[..6], "ok");
+        assert_eq!(status(&stdout, "rendered files"), "MISMATCH", "{stdout}");
+        assert_says(
+            &stdout,
+            &format!(
+                "{name} differs from its re-rendering: first difference at line {line}: on disk"
+            ),
+        );
+        // The manifest on disk lists the forged hash, the re-rendered one the true hash.
+        assert_says(&stdout, "manifest.json differs from its re-rendering");
+    }
+}
+
+#[test]
+fn a_file_deleted_and_dropped_from_the_manifest_is_named_missing() {
+    let (_dir, data, out) = analysed("deleted");
+    for name in ["result.json", "dossier.html", "trace.csv"] {
+        let copy = copy_dossier(&out, &format!("without-{name}"));
+        std::fs::remove_file(copy.join(name)).unwrap();
+        reseal(&copy, |m| {
+            m.files.remove(name);
+        });
+        let stdout = mismatched(&copy, &data, &[]);
+        assert_eq!(status(&stdout, "manifest"), "ok", "{stdout}");
+        assert_eq!(status(&stdout, "dossier files"), "MISMATCH", "{stdout}");
+        assert_says(&stdout, &format!("{name} is missing or unreadable ("));
+        assert_says(
+            &stdout,
+            "every dossier holds it, and the manifest does not list it either",
+        );
+        if name == "result.json" {
+            assert_says(
+                &stdout,
+                "result.json is missing or does not read, so the re-run cannot",
+            );
+            assert_eq!(status(&stdout, "rendered files"), "skipped", "{stdout}");
+        } else {
+            assert_says(
+                &stdout,
+                &format!("{name} cannot be compared with its re-rendering: it is missing"),
+            );
+        }
+    }
+}
+
+#[test]
+fn extra_files_and_folders_in_the_dossier_are_each_named() {
+    let (_dir, data, out) = analysed("extra");
+    std::fs::write(out.join("notes.txt"), "approved\n").unwrap();
+    std::fs::write(out.join(".hidden"), "").unwrap();
+    std::fs::create_dir(out.join("figures")).unwrap();
+    std::fs::write(out.join("evil\u{202e}txt.md"), "").unwrap();
+    let stdout = mismatched(&out, &data, &[]);
+    assert_eq!(status(&stdout, "dossier files"), "MISMATCH", "{stdout}");
+    for named in [
+        "'.hidden' is in the dossier folder but is no file of a dossier",
+        "'notes.txt' is in the dossier folder but is no file of a dossier",
+        "the folder 'figures/' is in the dossier folder but is no part of a dossier",
+        // A right-to-left override in a name is shown escaped, never applied.
+        "'evil\\u{202e}txt.md' is in the dossier folder",
+    ] {
+        assert_says(&stdout, named);
+    }
+    // Nothing else is wrong: the analysis and every file of the dossier reproduce.
+    assert_statuses(&stdout, &["re-run", "rendered files"], "ok");
+    // Listed in a re-sealed manifest, an extra file is named twice over.
+    reseal(&out, |m| {
+        m.files.insert("notes.txt".into(), String::new());
+    });
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(
+        &stdout,
+        "manifest.json lists 'notes.txt', which is no file of a dossier",
+    );
+}
+
+#[test]
+fn a_signatures_folder_of_signature_files_is_listed_in_a_note_and_anything_else_in_it_named() {
+    let (_dir, data, out) = analysed("signatures");
+    let signatures = out.join("signatures");
+    std::fs::create_dir(&signatures).unwrap();
+    std::fs::write(signatures.join("1-approved.json"), "{}\n").unwrap();
+    std::fs::write(signatures.join("1-approved.json.sig"), "").unwrap();
+    let stdout = verified(&out, &data, &[]);
+    assert_eq!(status(&stdout, "dossier files"), "ok (note)", "{stdout}");
+    assert_says(
+        &stdout,
+        "signatures/ holds 2 signature file(s) (1-approved.json, 1-approved.json.sig); this \
+             build does not check signatures",
+    );
+    std::fs::write(signatures.join("readme.txt"), "").unwrap();
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(
+        &stdout,
+        "'signatures/readme.txt' is in the dossier folder but is no signature",
+    );
+}
+
+#[test]
+fn dossiers_with_other_settings_verify_in_full_and_as_a_spot_check() {
+    let dir = scratch("other-settings");
+    let data = dir.join("filter_discs.csv");
+    std::fs::write(&data, forebear::demo::DEMO_CSV).unwrap();
+    let settings: [&[&str]; 2] = [
+        &[
+            "--stopping-rule",
+            "natural",
+            "--scaling",
+            "standardize",
+            "--resample",
+            "subsample",
+            "--fraction",
+            "0.6",
+            "--replicates",
+            "6",
+            "--seed",
+            "3",
+            "--threads",
+            "1",
+        ],
+        &["--replicates", "0", "--scaling", "none", "--alpha", "0.1"],
+    ];
+    for (i, extra) in settings.iter().enumerate() {
+        let out = dir.join(format!("dossier-{i}"));
+        let status_code = bin()
+            .args(["--quiet", "analyze"])
+            .arg(&data)
+            .args(["--target", "crush_strength"])
+            .args(*extra)
+            .arg("--out")
+            .arg(&out)
+            .stdout(std::process::Stdio::null())
+            .status()
+            .unwrap();
+        assert!(status_code.success(), "{extra:?}");
+        let stdout = verified(&out, &data, &[]);
+        assert_statuses(&stdout, &CHECKS, "ok");
+        let stdout = verified(&out, &data, &["--replicates-sample", "2"]);
+        assert_statuses(&stdout, &CHECKS, "ok");
+        // Without resampling a spot check has nothing to leave out: it is a full verification.
+        assert_eq!(stdout.contains("SPOT CHECK ONLY"), i == 0, "{stdout}");
+    }
+}
+
+#[test]
+fn a_dossier_recording_another_build_verifies_and_an_edit_still_fails_with_a_hint() {
+    // The build is a run fact taken from the record: a dossier that records another build of the
+    // same method verifies. An edited file still fails; the report adds that another build's
+    // renderers could explain a difference, and how to tell.
+    let (_dir, data, out) = analysed("other-build");
+    let build = read_manifest(&out).tool.build;
+    if build.len() < 40 {
+        eprintln!("built outside a checkout: no commit to replace");
+        return;
+    }
+    // Another commit, with the same "-modified" mark (if any) as this build.
+    let other = format!("0123456789abcdef0123456789abcdef01234567{}", &build[40..]);
+    let other = other.as_str();
+    for name in ["result.json", "dossier.md", "dossier.html"] {
+        let path = out.join(name);
+        let text = std::fs::read_to_string(&path).unwrap();
+        std::fs::write(
+            &path,
+            text.replace(&build, other)
+                .replace(&build[..12], &other[..12]),
+        )
+        .unwrap();
+    }
+    reseal(&out, |m| m.tool.build = other.into());
+    let stdout = verified(&out, &data, &[]);
+    assert_says(&stdout, "another build (dossier: forebear");
+    assert_says(&stdout, "commit 0123456789ab");
+    forge_text(&out, "dossier.md", "— stable:", "— not stable:");
+    let stdout = mismatched(&out, &data, &[]);
+    assert_says(&stdout, "dossier.md differs from its re-rendering");
+    assert_says(
+        &stdout,
+        "the dossier records that another build wrote it (forebear",
+    );
 }

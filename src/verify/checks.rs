@@ -1,5 +1,5 @@
-//! The checks that need no re-run: the manifest's seal, the dossier's files, the settings, the
-//! data against both fingerprints, and the method version.
+//! The checks that need no re-run: the manifest's seal, the settings, the data against both
+//! fingerprints, and the method version (the dossier's files: `files.rs`).
 
 use super::report::{check, Check, Status};
 use super::rerun::SHOWN_DIFFERENCES;
@@ -63,53 +63,6 @@ pub(super) fn check_seal(manifest: &Manifest) -> Check {
             )],
         )
     }
-}
-
-/// Checks every file the manifest lists; returns the recorded finding when `result.json` reads.
-pub(super) fn check_files(dir: &Path, manifest: &Manifest) -> (Check, Option<Finding>) {
-    let mut problems = Vec::new();
-    for (name, recorded) in &manifest.files {
-        match std::fs::read(dir.join(name)) {
-            Err(e) => problems.push(format!("{name} is missing or unreadable ({e})")),
-            Ok(bytes) => {
-                let actual = sha256_bytes(&bytes);
-                if &actual != recorded {
-                    problems.push(format!(
-                        "{name} was edited after generation (SHA-256 recorded {}, now {})",
-                        short(recorded),
-                        short(&actual)
-                    ));
-                }
-            }
-        }
-    }
-    let recorded = std::fs::read_to_string(dir.join("result.json"))
-        .ok()
-        .and_then(|text| serde_json::from_str::<Finding>(&text).ok());
-    if recorded.is_none() && manifest.files.contains_key("result.json") {
-        problems.push("result.json does not read as a forebear result".into());
-    }
-    let names: Vec<&str> = manifest.files.keys().map(String::as_str).collect();
-    let status = if problems.is_empty() {
-        Status::Pass
-    } else {
-        Status::Fail
-    };
-    let details = if problems.is_empty() {
-        vec![format!(
-            "{} files match the manifest: {}",
-            names.len(),
-            names.join(", ")
-        )]
-    } else {
-        problems
-    };
-    (check("dossier files", status, details), recorded)
-}
-
-fn sha256_bytes(bytes: &[u8]) -> String {
-    use sha2::Digest;
-    crate::data::fingerprint::hex(&sha2::Sha256::digest(bytes))
 }
 
 pub(super) fn check_settings(manifest: &Manifest, recorded: Option<&Finding>) -> Check {

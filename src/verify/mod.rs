@@ -1,10 +1,13 @@
-//! Verification of a dossier against the data a reviewer received: the dossier's files against
-//! its manifest, the data against both fingerprints, the method version, and a re-run of the
-//! analysis whose digests are compared with the recorded ones. Every check says what it found; the
-//! verdict is `VERIFIED` only when every check passed (notes allowed).
+//! Verification of a dossier against the data a reviewer received: the dossier's full file set
+//! against its manifest, the data against both fingerprints, the method version, a re-run of the
+//! analysis compared with the complete recorded result and the manifest's digests, and every file
+//! of the dossier rendered again from the re-run and compared byte for byte. Every check says what
+//! it found; the verdict is `VERIFIED` only when every check passed (notes allowed).
 
 mod checks;
+mod files;
 mod report;
+mod rerender;
 mod rerun;
 
 pub use report::{render_text, Check, Report, SpotCheck, Status, REPORT_SCHEMA};
@@ -13,7 +16,8 @@ pub use rerun::sample_replicates;
 use crate::analysis::Progress;
 use crate::data::fingerprint::sha256_file;
 use crate::error::Result;
-use checks::{check_data, check_files, check_seal, check_settings, check_tool, read_manifest};
+use checks::{check_data, check_seal, check_settings, check_tool, read_manifest};
+use files::check_files;
 use report::check;
 use std::path::PathBuf;
 
@@ -51,21 +55,33 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
     let tool_ok = tool.status != Status::Fail;
     checks.push(tool);
     let mut spot_check = None;
+    let mut taken_from_record = Vec::new();
     if data_ok && (tool_ok || request.allow_other_version) {
-        let (rerun, spot) = rerun::rerun(request, &manifest, recorded.as_ref(), progress);
-        spot_check = spot;
-        checks.push(rerun);
+        // The data check passed: the received bytes are the analysed ones, or a re-saved copy.
+        let resaved = data_bytes.0 != manifest.data.sha256;
+        let rerun = rerun::rerun(request, &manifest, recorded.as_ref(), resaved, progress);
+        spot_check = rerun.spot;
+        taken_from_record = rerun.taken_from_record;
+        checks.push(rerun.check);
+        checks.push(rerender::check_rendered_dossier(
+            &request.dir,
+            &manifest,
+            rerun.analysed.as_ref(),
+            progress,
+        ));
     } else {
         let why = if data_ok {
             "the dossier was made by another method version"
         } else {
             "the data differ from the analysed data"
         };
-        checks.push(check(
-            "re-run",
-            Status::Skipped,
-            vec![format!("not run: {why}")],
-        ));
+        for name in ["re-run", "rendered files"] {
+            checks.push(check(
+                name,
+                Status::Skipped,
+                vec![format!("not run: {why}")],
+            ));
+        }
     }
     let verified = checks
         .iter()
@@ -78,6 +94,7 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
         produced_by: manifest.tool.describe(),
         checks,
         spot_check,
+        taken_from_record,
         verdict: if verified { "VERIFIED" } else { "MISMATCH" }.into(),
     })
 }

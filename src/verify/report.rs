@@ -58,6 +58,9 @@ pub struct Report {
     pub checks: Vec<Check>,
     /// Set when only some replicates were re-run.
     pub spot_check: Option<SpotCheck>,
+    /// The fields the comparisons took from the record rather than recomputed (run facts no re-run
+    /// can re-derive), as `file#pointer` (RFC 6901, section 6).
+    pub taken_from_record: Vec<String>,
     /// `VERIFIED` or `MISMATCH`.
     pub verdict: String,
 }
@@ -75,6 +78,21 @@ pub(super) fn check(name: &str, status: Status, details: Vec<String>) -> Check {
         status,
         details,
     }
+}
+
+/// `text` with control characters and characters that print as nothing or reorder text (format
+/// and combining characters) written as `\u{…}` escapes, everything else as it is: what a
+/// reviewer reads of a name or a line is what is there.
+pub(super) fn visible(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if matches!(c, '\\' | '\'' | '"') {
+            out.push(c);
+        } else {
+            out.extend(c.escape_debug());
+        }
+    }
+    out
 }
 
 /// The report as text for a reviewer to paste: one block per check, the verdict on the last line.
@@ -97,10 +115,15 @@ pub fn render_text(report: &Report) -> String {
     }
     if let Some(s) = &report.spot_check {
         out.push_str(&format!(
-            "\nSPOT CHECK ONLY: {} of {} replicates re-run (sample seed {}); a full verification re-runs all.\n",
+            "\nSPOT CHECK ONLY: {} of {} replicates re-run (sample seed {}). Checked: the \
+             full-data search, the sampled replicates against their records, the stability \
+             figures aggregated again from all recorded replicate records, and every file \
+             rendered again; not checked: whether the other {} replicate records are what a \
+             re-run gives. A full verification re-runs all.\n",
             s.replicates.len(),
             s.of,
-            s.sample_seed
+            s.sample_seed,
+            s.of as usize - s.replicates.len()
         ));
     }
     out.push_str(&format!("\n{}\n", report.verdict));

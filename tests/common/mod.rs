@@ -174,3 +174,53 @@ pub fn uniform_stream(seed: u64) -> impl FnMut() -> f64 {
         (state >> 11) as f64 / (1u64 << 53) as f64
     }
 }
+
+/// SHA-256 of `bytes`, lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    sha2::Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+/// Re-seals a dossier's `manifest.json` as a careful forger would after editing the dossier:
+/// `edit` may change the manifest (drop a file from its list, change a digest); then every hash
+/// the manifest holds is recomputed: each listed file that exists from its bytes, the settings
+/// from their canonical JSON, and the seal as src/manifest.rs computes it (SHA-256 of the
+/// canonical JSON, keys sorted and no whitespace, of the manifest without its seal). The
+/// manifest keeps its layout.
+pub fn reseal(dossier: &Path, edit: impl FnOnce(&mut forebear::manifest::Manifest)) {
+    let path = dossier.join("manifest.json");
+    let mut manifest: forebear::manifest::Manifest =
+        serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    edit(&mut manifest);
+    for (name, hash) in manifest.files.iter_mut() {
+        if let Ok(bytes) = std::fs::read(dossier.join(name)) {
+            *hash = sha256_hex(&bytes);
+        }
+    }
+    let settings = serde_json::to_string(&manifest.settings.canonical).unwrap();
+    manifest.settings.sha256 = sha256_hex(settings.as_bytes());
+    let mut tree = serde_json::to_value(&manifest).unwrap();
+    tree.as_object_mut().unwrap().remove("seal");
+    manifest.seal = sha256_hex(serde_json::to_string(&tree).unwrap().as_bytes());
+    std::fs::write(&path, manifest.to_text()).unwrap();
+}
+
+/// Replaces every `from` by `to` in the dossier file `name` (which must hold `from`), then
+/// re-seals the manifest with every hash recomputed.
+pub fn forge_text(dossier: &Path, name: &str, from: &str, to: &str) {
+    forge_texts(dossier, &[(name, from, to)]);
+}
+
+/// Several edits of [`forge_text`], the manifest re-sealed once after all of them.
+pub fn forge_texts(dossier: &Path, edits: &[(&str, &str, &str)]) {
+    for (name, from, to) in edits {
+        let path = dossier.join(name);
+        let text = std::fs::read_to_string(&path).unwrap();
+        assert!(text.contains(from), "{name} holds no {from:?}");
+        std::fs::write(&path, text.replace(from, to)).unwrap();
+    }
+    reseal(dossier, |_| {});
+}
