@@ -10,8 +10,8 @@ use super::{
     Entry, EntryData, EntryStability, PlanRef, Status, StudySummary, Summary, Totals, BATCH_SCHEMA,
 };
 use crate::analysis::{analyze_file, Progress, Silent};
-use crate::output::{Claim, Kind};
 use crate::finding::{Finding, ToolInfo};
+use crate::output::{Claim, Kind};
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;

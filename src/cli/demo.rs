@@ -4,7 +4,7 @@ use crate::analysis::Progress;
 use crate::data::LoadOptions;
 use crate::demo::{generate_demo_csv, DEMO_CSV, DEMO_FILE, DEMO_TARGETS};
 use crate::error::{Error, Result};
-use crate::output::{fs_error, rename_file_noreplace, write_synced};
+use crate::output::{fs_error, rename_file_noreplace, sync_dir, write_synced};
 use crate::study::StudyInput;
 use clap::Args;
 use std::path::{Path, PathBuf};
@@ -37,8 +37,7 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         return Ok(());
     }
     let data_dir = args.out.join("demo-data");
-    std::fs::create_dir_all(&data_dir)
-        .map_err(|e| fs_error("create the folder", &data_dir, &e))?;
+    std::fs::create_dir_all(&data_dir).map_err(|e| fs_error("create the folder", &data_dir, &e))?;
     let data = data_dir.join(DEMO_FILE);
     write_demo_data(&data)?;
     progress.say(&format!(
@@ -98,7 +97,10 @@ fn write_demo_data(path: &Path) -> Result<()> {
     let placed = rename_file_noreplace(&staged, path);
     let _ = std::fs::remove_file(&staged);
     match placed {
-        Ok(()) => Ok(()),
+        Ok(()) => {
+            let folder = path.parent().unwrap_or(Path::new("."));
+            sync_dir(folder).map_err(|e| fs_error("write in", folder, &e))
+        }
         // Another demo run placed it first.
         Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && same(path) => Ok(()),
         Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => refuse(),

@@ -182,7 +182,11 @@ mod tests {
         );
         assert_eq!(denied.exit_code(), 2);
         assert!(denied.to_string().contains("permission denied"));
-        let read_only = fs_error("write", path, &io::Error::from(ErrorKind::ReadOnlyFilesystem));
+        let read_only = fs_error(
+            "write",
+            path,
+            &io::Error::from(ErrorKind::ReadOnlyFilesystem),
+        );
         assert!(read_only.to_string().contains("read-only"));
         let other = fs_error("write", path, &io::Error::other("device gone"));
         assert_eq!(other.exit_code(), 2);

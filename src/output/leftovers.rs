@@ -108,7 +108,10 @@ fn process_is_running(pid: u32) -> bool {
 fn recover_staging(leftover: &Leftover) -> String {
     let name = &leftover.name;
     if still_running(leftover.pid) {
-        return format!("left '{name}' alone (its process {} still runs)", leftover.pid);
+        return format!(
+            "left '{name}' alone (its process {} still runs)",
+            leftover.pid
+        );
     }
     match std::fs::remove_dir_all(&leftover.path) {
         Ok(()) => format!("removed the unfinished '{name}'"),
@@ -119,9 +122,13 @@ fn recover_staging(leftover: &Leftover) -> String {
 fn recover_former(dir: &Path, leftover: &Leftover) -> String {
     let name = &leftover.name;
     if still_running(leftover.pid) {
-        return format!("left '{name}' alone (its process {} still runs)", leftover.pid);
+        return format!(
+            "left '{name}' alone (its process {} still runs)",
+            leftover.pid
+        );
     }
-    let keep = |why: &str| format!("left '{name}' as it is ({why}); look at it and move it by hand");
+    let keep =
+        |why: &str| format!("left '{name}' as it is ({why}); look at it and move it by hand");
     let former = match examine_any(&leftover.path) {
         Ok(Found::Former(former)) => former,
         Ok(_) => return keep("it does not hold a forebear output"),

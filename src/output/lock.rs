@@ -31,7 +31,7 @@ impl OutputLock {
                 .create(true)
                 .truncate(false)
                 .open(&path)
-                .map_err(|e| fs_error("create the lock file", &path, &e))?;
+                .map_err(|e| fs_error("create files in", super::parent_of(dir), &e))?;
             match file.try_lock() {
                 Ok(()) => {}
                 Err(TryLockError::WouldBlock) => return Err(busy(&path, shown)),

@@ -17,7 +17,7 @@ mod lock;
 mod rules;
 mod staging;
 
-pub use fsio::{fs_error, rename_file_noreplace, write_synced};
+pub use fsio::{fs_error, rename_file_noreplace, sync_dir, write_synced};
 pub use rules::Kind;
 pub use staging::Staging;
 

@@ -138,7 +138,10 @@ fn examine_dossier(dir: &Path, entries: Vec<String>) -> Found {
     }
     Found::Former(Former {
         identity: sha256_text(&proof_text),
-        entries: entries.into_iter().filter(|n| !proofs.contains(n)).collect(),
+        entries: entries
+            .into_iter()
+            .filter(|n| !proofs.contains(n))
+            .collect(),
         proofs,
     })
 }
@@ -258,7 +261,8 @@ mod tests {
     use super::*;
 
     fn scratch(name: &str) -> std::path::PathBuf {
-        let dir = std::env::temp_dir().join(format!("forebear-rules-{}-{name}", std::process::id()));
+        let dir =
+            std::env::temp_dir().join(format!("forebear-rules-{}-{name}", std::process::id()));
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(&dir).unwrap();
         dir
@@ -280,7 +284,11 @@ mod tests {
             examine(&dir, Kind::Dossier).unwrap(),
             Found::Foreign(why) if why.contains("no result.json")
         ));
-        std::fs::write(dir.join("result.json"), r#"{"schema": "forebear.result/1"}"#).unwrap();
+        std::fs::write(
+            dir.join("result.json"),
+            r#"{"schema": "forebear.result/1"}"#,
+        )
+        .unwrap();
         let Found::Former(former) = examine(&dir, Kind::Dossier).unwrap() else {
             panic!("a former dossier");
         };
@@ -304,13 +312,20 @@ mod tests {
     #[test]
     fn removing_a_former_output_keeps_a_folder_that_gained_a_file() {
         let dir = scratch("gained");
-        std::fs::write(dir.join("result.json"), r#"{"schema": "forebear.result/1"}"#).unwrap();
+        std::fs::write(
+            dir.join("result.json"),
+            r#"{"schema": "forebear.result/1"}"#,
+        )
+        .unwrap();
         let Found::Former(former) = examine(&dir, Kind::Dossier).unwrap() else {
             panic!("a former dossier");
         };
         std::fs::write(dir.join("notes.txt"), "mine").unwrap();
         assert!(remove_former(&dir, &former).is_err());
-        assert_eq!(std::fs::read_to_string(dir.join("notes.txt")).unwrap(), "mine");
+        assert_eq!(
+            std::fs::read_to_string(dir.join("notes.txt")).unwrap(),
+            "mine"
+        );
         let _ = std::fs::remove_dir_all(&dir);
     }
 }

@@ -190,8 +190,11 @@ fn column_rows(finding: &Finding) -> Vec<ColumnRow<'_>> {
     let data = &finding.data;
     let excluded: BTreeSet<&str> = data.excluded_columns.iter().map(String::as_str).collect();
     let constant: BTreeSet<&str> = data.constant_columns.iter().map(String::as_str).collect();
-    let profiles: BTreeMap<&str, &crate::finding::ColumnProfile> =
-        finding.columns.iter().map(|c| (c.name.as_str(), c)).collect();
+    let profiles: BTreeMap<&str, &crate::finding::ColumnProfile> = finding
+        .columns
+        .iter()
+        .map(|c| (c.name.as_str(), c))
+        .collect();
     data.missing_by_column
         .iter()
         .map(|(name, &missing)| {
