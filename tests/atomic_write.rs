@@ -131,6 +131,16 @@ fn terminated_in_the_middle_of_writing_leaves_no_dossier_and_no_staging_folder()
 #[cfg(unix)]
 #[test]
 fn a_hangup_just_before_the_rename_leaves_no_dossier_and_no_staging_folder() {
+    #[cfg(target_os = "linux")]
+    if std::fs::read_to_string("/proc/self/status")
+        .unwrap()
+        .lines()
+        .find_map(|l| l.strip_prefix("SigIgn:"))
+        .is_some_and(|mask| u64::from_str_radix(mask.trim(), 16).unwrap() & 1 == 1)
+    {
+        eprintln!("skipped: the tests run with SIGHUP ignored (nohup), which the binary keeps");
+        return;
+    }
     let s = Scratch::new("atomic-hup");
     let data = demo(&s);
     let out = s.path("dossier");
@@ -139,12 +149,55 @@ fn a_hangup_just_before_the_rename_leaves_no_dossier_and_no_staging_folder() {
     let mut child = spawn_in(&s.dir, args, Some((&hold, "dossier:before-swap")));
     hold.wait(&mut child);
     assert_eq!(staging_folders(&out).len(), 1, "staged, not yet renamed");
+    #[cfg(target_os = "linux")]
+    assert!(signal_mask(&child, "SigCgt") & 1 == 1, "SIGHUP is caught");
     send_signal(&child, "HUP");
     let exit = child.wait().unwrap();
     hold.release();
     assert_eq!(exit.code(), Some(128 + 1), "exit code after SIGHUP");
     assert!(!out.exists(), "no dossier folder");
     assert_eq!(beside(&out), Vec::<String>::new(), "staging folder or lock");
+}
+
+/// Under `nohup` SIGHUP is ignored, and stays ignored: the run goes on.
+#[cfg(target_os = "linux")]
+#[test]
+fn a_hangup_ignored_when_the_run_started_stays_ignored() {
+    let s = Scratch::new("atomic-nohup");
+    let data = demo(&s);
+    let out = s.path("dossier");
+    let hold = Hold::new(&s.dir, "hold");
+    let mut command = Command::new("sh");
+    command
+        .args(["-c", "trap '' HUP; exec \"$0\" \"$@\""])
+        .arg(env!("CARGO_BIN_EXE_forebear"))
+        .args(analyze_args(&data, &out, &[]))
+        .current_dir(&s.dir)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped());
+    hold.apply(&mut command, "dossier:before-swap");
+    let mut child = command.spawn().unwrap();
+    hold.wait(&mut child);
+    assert!(signal_mask(&child, "SigIgn") & 1 == 1, "SIGHUP is ignored");
+    assert!(
+        signal_mask(&child, "SigCgt") & 1 == 0,
+        "SIGHUP is not caught"
+    );
+    send_signal(&child, "HUP");
+    hold.release();
+    common::assert_success(&child.wait_with_output().unwrap());
+    assert!(out.join("manifest.json").is_file());
+}
+
+/// A signal mask (`SigIgn`, `SigCgt`) of a running process from /proc: bit n − 1 is signal n.
+#[cfg(target_os = "linux")]
+fn signal_mask(child: &Child, field: &str) -> u64 {
+    let status = std::fs::read_to_string(format!("/proc/{}/status", child.id())).unwrap();
+    let line = status
+        .lines()
+        .find_map(|l| l.strip_prefix(&format!("{field}:")))
+        .unwrap();
+    u64::from_str_radix(line.trim(), 16).unwrap()
 }
 
 /// Runs `analyze --force --seed 2` on an existing dossier, kills it with SIGKILL at `point`, and

@@ -1,6 +1,7 @@
 //! What a termination signal must remove: this process's staging folders and lock files. On
 //! SIGINT, SIGTERM or SIGHUP (a closed terminal or a dropped remote session) the process removes
-//! them and exits with 128 + the signal's number. SIGKILL cannot be caught: the next run into the
+//! them and exits with 128 + the signal's number; a signal that was ignored when the process
+//! started (`nohup`, a background job) stays ignored. SIGKILL cannot be caught: the next run into the
 //! same folder recovers its leftovers (`leftovers.rs`).
 
 use std::path::{Path, PathBuf};
@@ -53,7 +54,13 @@ fn install_signal_handler() {
     use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
     static INSTALL: std::sync::Once = std::sync::Once::new();
     INSTALL.call_once(|| {
-        let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP]) else {
+        // A signal ignored when the process started stays ignored: `nohup` ignores SIGHUP, and a
+        // shell ignores SIGINT for a job it starts in the background.
+        let handled: Vec<i32> = [SIGINT, SIGTERM, SIGHUP]
+            .into_iter()
+            .filter(|&s| !ignored(s))
+            .collect();
+        let Ok(mut signals) = signal_hook::iterator::Signals::new(handled) else {
             return;
         };
         std::thread::spawn(move || {
@@ -70,6 +77,18 @@ fn install_signal_handler() {
             }
         });
     });
+}
+
+/// Whether `signal` is ignored (its disposition is SIG_IGN).
+#[cfg(unix)]
+fn ignored(signal: i32) -> bool {
+    // SAFETY: with a null new action, sigaction only writes the current disposition into `current`,
+    // a zeroed plain C struct that it fully owns for the call.
+    unsafe {
+        let mut current: libc::sigaction = std::mem::zeroed();
+        libc::sigaction(signal, std::ptr::null(), &mut current) == 0
+            && current.sa_sigaction == libc::SIG_IGN
+    }
 }
 
 #[cfg(not(unix))]
