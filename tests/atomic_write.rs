@@ -208,12 +208,7 @@ fn kill_a_forced_run_at(s: &Scratch, data: &Path, out: &Path, point: &str) -> (S
     let hold = Hold::new(&s.dir, "hold");
     let args = analyze_args(data, out, &["--force", "--seed", "2"]);
     let mut child = spawn_in(&s.dir, args, Some((&hold, point)));
-    hold.wait(&mut child);
-    let pid = child.id();
-    child.kill().unwrap();
-    child.wait().unwrap();
-    hold.release();
-    (former, pid)
+    (former, hold.kill_there(&mut child))
 }
 
 #[test]
@@ -233,15 +228,14 @@ fn killed_between_the_two_renames_the_next_run_puts_the_former_output_back() {
     );
     // The next run (without --force) recovers, then refuses to replace the restored result.
     let next = analyze(&s, &data, &out, &[]);
-    let stderr = stderr_of(&next);
-    assert_eq!(next.status.code(), Some(2), "{stderr}");
-    assert!(
-        stderr.contains(&format!(
-            "put back the former output from '.dossier.old-{pid}'"
-        )) && stderr.contains(&format!("removed the unfinished '.dossier.partial-{pid}'")),
-        "{stderr}"
+    common::assert_refused(
+        &next,
+        &[
+            &format!("put back the former output from '.dossier.old-{pid}'"),
+            &format!("removed the unfinished '.dossier.partial-{pid}'"),
+            "pass --force",
+        ],
     );
-    assert!(stderr.contains("pass --force"), "{stderr}");
     assert_eq!(result_text(&out), former, "the former output, unchanged");
     assert_eq!(beside(&out), Vec::<String>::new());
     common::assert_success(&analyze(&s, &data, &out, &["--force", "--seed", "2"]));
@@ -259,14 +253,8 @@ fn killed_after_the_renames_the_next_run_removes_the_replaced_output() {
     assert_ne!(new, former, "the new output is in place");
     assert!(beside(&out).contains(&format!(".dossier.old-{pid}")));
     let next = analyze(&s, &data, &out, &[]);
-    let stderr = stderr_of(&next);
-    assert_eq!(next.status.code(), Some(2), "{stderr}");
-    assert!(
-        stderr.contains(&format!(
-            "removed '.dossier.old-{pid}', a former output already replaced"
-        )),
-        "{stderr}"
-    );
+    let removed = format!("removed '.dossier.old-{pid}', a former output already replaced");
+    common::assert_refused(&next, &[&removed]);
     assert_eq!(result_text(&out), new, "the new output stays");
     assert_eq!(beside(&out), Vec::<String>::new());
 }
@@ -278,8 +266,7 @@ fn leftovers_of_a_running_process_are_left_alone() {
     let out = s.path("dossier");
     // This test's own process is alive; a leftover with its id is not anyone's to remove.
     let live = out.with_file_name(format!(".dossier.old-{}", std::process::id()));
-    std::fs::create_dir(&live).unwrap();
-    std::fs::write(live.join("notes.txt"), "mine").unwrap();
+    common::place_user_file(&live.join("notes.txt"));
     let run = analyze(&s, &data, &out, &[]);
     common::assert_success(&run);
     assert!(
@@ -287,10 +274,7 @@ fn leftovers_of_a_running_process_are_left_alone() {
         "{}",
         stderr_of(&run)
     );
-    assert_eq!(
-        std::fs::read_to_string(live.join("notes.txt")).unwrap(),
-        "mine"
-    );
+    common::assert_user_file(&live.join("notes.txt"));
 }
 
 #[test]
@@ -302,20 +286,11 @@ fn a_folder_that_appears_at_out_during_the_run_is_left_as_it_is() {
     let args = analyze_args(&data, &out, &["--force"]);
     let mut child = spawn_in(&s.dir, args, Some((&hold, "dossier:before-swap")));
     hold.wait(&mut child);
-    std::fs::create_dir(&out).unwrap();
-    std::fs::write(out.join("notes.txt"), "mine").unwrap();
+    common::place_user_file(&out.join("notes.txt"));
     hold.release();
     let output = child.wait_with_output().unwrap();
-    let stderr = stderr_of(&output);
-    assert_eq!(output.status.code(), Some(2), "{stderr}");
-    assert!(
-        stderr.contains("changed while forebear ran") && stderr.contains("'notes.txt'"),
-        "{stderr}"
-    );
-    assert_eq!(
-        std::fs::read_to_string(out.join("notes.txt")).unwrap(),
-        "mine"
-    );
+    common::assert_refused(&output, &["changed while forebear ran", "'notes.txt'"]);
+    common::assert_user_file(&out.join("notes.txt"));
     assert_eq!(s.entries(), ["dossier", "filter_discs.csv"]);
 }
 
@@ -329,15 +304,11 @@ fn a_second_run_on_the_same_out_fails_while_the_first_writes_it() {
     let mut first = spawn_in(&s.dir, args, Some((&hold, "dossier:before-swap")));
     hold.wait(&mut first);
     let second = analyze(&s, &data, &out, &["--force"]);
-    let stderr = stderr_of(&second);
-    assert_eq!(second.status.code(), Some(2), "{stderr}");
-    assert!(
-        stderr.contains(&format!(
-            "another forebear run (process {}) is writing the output folder",
-            first.id()
-        )),
-        "{stderr}"
+    let busy = format!(
+        "another forebear run (process {}) is writing the output folder",
+        first.id()
     );
+    common::assert_refused(&second, &[&busy]);
     hold.release();
     common::assert_success(&first.wait_with_output().unwrap());
     assert!(out.join("manifest.json").is_file());
@@ -417,7 +388,7 @@ fn a_refused_run_removes_the_parent_folders_it_created() {
     let args = ["analyze".as_ref(), data.as_os_str(), "--target".as_ref()];
     let rest = ["no_such".as_ref(), "--out".as_ref(), out.as_os_str()];
     let output = common::run(args.into_iter().chain(rest));
-    assert_eq!(output.status.code(), Some(2), "{}", stderr_of(&output));
+    common::assert_refused(&output, &["no_such"]);
     assert_eq!(s.entries(), ["filter_discs.csv"]);
 }
 
@@ -449,12 +420,9 @@ fn a_full_disk_is_refused_with_exit_code_2_and_leaves_nothing() {
     }
     let _unmount = Unmount(disk.clone());
     let output = analyze(&s, &data, &disk.join("out"), &["--quiet"]);
-    let stderr = stderr_of(&output);
-    assert_eq!(output.status.code(), Some(2), "{stderr}");
+    let stderr = common::assert_refused(&output, &["the disk is full"]);
     assert!(
-        stderr.starts_with("forebear: error: cannot write '")
-            && stderr.contains("the disk is full")
-            && stderr.lines().count() == 1,
+        stderr.starts_with("forebear: error: cannot write '") && stderr.lines().count() == 1,
         "{stderr}"
     );
     assert_eq!(std::fs::read_dir(&disk).unwrap().count(), 0, "nothing left");
@@ -467,12 +435,7 @@ fn demo_never_overwrites_a_different_file_where_its_data_goes() {
     let mine = s.write("demo/demo-data/filter_discs.csv", "a,b\n1,2\n");
     let args = ["demo".as_ref(), "--force".as_ref(), "--out".as_ref()];
     let output = common::run(args.into_iter().chain([s.path("demo").as_os_str()]));
-    assert_eq!(output.status.code(), Some(2), "{}", stderr_of(&output));
-    assert!(
-        stderr_of(&output).contains("is not the demo data"),
-        "{}",
-        stderr_of(&output)
-    );
+    common::assert_refused(&output, &["is not the demo data"]);
     assert_eq!(std::fs::read_to_string(&mine).unwrap(), "a,b\n1,2\n");
     assert_eq!(
         std::fs::read_dir(s.path("demo/demo-data")).unwrap().count(),

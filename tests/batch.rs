@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::{beside, spawn_in, Hold};
+use common::{assert_refused, beside, spawn_in, Hold};
 use forebear::demo::generate_demo_csv_seeded;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
@@ -468,20 +468,14 @@ fn a_folder_that_appears_at_out_during_a_batch_is_left_as_it_is_and_the_batch_re
     let hold = Hold::new(&s.0, "hold");
     let mut child = s.start_small(&["--out", "out"], Some((&hold, "batch:before-swap")));
     hold.wait(&mut child);
-    std::fs::create_dir(s.path("out")).unwrap();
-    std::fs::write(s.path("out/notes.txt"), "mine").unwrap();
+    common::place_user_file(&s.path("out/notes.txt"));
     hold.release();
     let run = child.wait_with_output().unwrap();
-    assert_eq!(exit_code(&run), 2, "{}", stderr(&run));
-    assert!(
-        stderr(&run).contains("changed while forebear ran (it now holds files but no summary.json"),
-        "{}",
-        stderr(&run)
+    assert_refused(
+        &run,
+        &["changed while forebear ran (it now holds files but no summary.json"],
     );
-    assert_eq!(
-        std::fs::read_to_string(s.path("out/notes.txt")).unwrap(),
-        "mine"
-    );
+    common::assert_user_file(&s.path("out/notes.txt"));
     assert_eq!(std::fs::read_dir(s.path("out")).unwrap().count(), 1);
     assert_eq!(beside(&s.path("out")), Vec::<String>::new());
 }
@@ -493,15 +487,11 @@ fn a_second_batch_on_one_out_fails_while_the_first_runs_and_never_replaces_its_o
     let mut first = s.start_small(&["--out", "out"], Some((&hold, "batch:before-swap")));
     hold.wait(&mut first);
     let second = s.small(&["--out", "out", "--force"]);
-    assert_eq!(exit_code(&second), 2, "{}", stderr(&second));
-    assert!(
-        stderr(&second).contains(&format!(
-            "another forebear run (process {}) is writing the output folder 'out'",
-            first.id()
-        )),
-        "{}",
-        stderr(&second)
+    let busy = format!(
+        "another forebear run (process {}) is writing the output folder 'out'",
+        first.id()
     );
+    assert_refused(&second, &[&busy]);
     hold.release();
     let first = first.wait_with_output().unwrap();
     assert_eq!(exit_code(&first), 0, "{}", stderr(&first));
@@ -546,15 +536,12 @@ fn two_batches_started_together_on_one_out_give_one_output_and_one_refusal() {
 fn a_user_file_inside_a_study_folder_keeps_a_batch_output_from_being_replaced() {
     let s = Scratch::with_small_plan("study-file");
     assert_eq!(exit_code(&s.small(&["--out", "out"])), 0);
-    std::fs::write(s.path("out/line-a/notes.txt"), "mine").unwrap();
-    let forced = s.small(&["--out", "out", "--force"]);
-    assert_eq!(exit_code(&forced), 2);
-    assert!(
-        stderr(&forced).contains("'line-a/notes.txt'"),
-        "{}",
-        stderr(&forced)
+    common::place_user_file(&s.path("out/line-a/notes.txt"));
+    assert_refused(
+        &s.small(&["--out", "out", "--force"]),
+        &["'line-a/notes.txt'"],
     );
-    assert!(s.path("out/line-a/notes.txt").is_file());
+    common::assert_user_file(&s.path("out/line-a/notes.txt"));
 }
 
 #[test]
@@ -567,17 +554,11 @@ fn a_batch_killed_between_the_renames_is_put_back_by_the_next_run() {
         &["--out", "out", "--force"],
         Some((&hold, "batch:between-renames")),
     );
-    hold.wait(&mut child);
-    child.kill().unwrap();
-    child.wait().unwrap();
-    hold.release();
+    hold.kill_there(&mut child);
     assert!(!s.path("out").exists());
-    let next = s.small(&["--out", "out"]);
-    assert_eq!(exit_code(&next), 2, "{}", stderr(&next));
-    assert!(
-        stderr(&next).contains("put back the former output from '.out.old-"),
-        "{}",
-        stderr(&next)
+    assert_refused(
+        &s.small(&["--out", "out"]),
+        &["put back the former output from '.out.old-"],
     );
     assert_eq!(
         std::fs::read_to_string(s.path("out/summary.json")).unwrap(),

@@ -268,6 +268,19 @@ mod tests {
         dir
     }
 
+    /// Writes a `result.json` of forebear's into `dir` and examines it as a former dossier.
+    fn former_dossier(dir: &Path) -> Former {
+        std::fs::write(
+            dir.join("result.json"),
+            r#"{"schema": "forebear.result/1"}"#,
+        )
+        .unwrap();
+        match examine(dir, Kind::Dossier).unwrap() {
+            Found::Former(former) => former,
+            other => panic!("a former dossier, not {other:?}"),
+        }
+    }
+
     #[test]
     fn a_dossier_folder_is_recognised_by_its_result_and_anything_else_is_foreign() {
         let dir = scratch("dossier");
@@ -284,14 +297,7 @@ mod tests {
             examine(&dir, Kind::Dossier).unwrap(),
             Found::Foreign(why) if why.contains("no result.json")
         ));
-        std::fs::write(
-            dir.join("result.json"),
-            r#"{"schema": "forebear.result/1"}"#,
-        )
-        .unwrap();
-        let Found::Former(former) = examine(&dir, Kind::Dossier).unwrap() else {
-            panic!("a former dossier");
-        };
+        let former = former_dossier(&dir);
         assert_eq!(former.entries, vec!["dossier.md"]);
         assert_eq!(former.proofs, vec!["result.json"]);
         std::fs::write(dir.join("notes.txt"), "mine").unwrap();
@@ -312,14 +318,7 @@ mod tests {
     #[test]
     fn removing_a_former_output_keeps_a_folder_that_gained_a_file() {
         let dir = scratch("gained");
-        std::fs::write(
-            dir.join("result.json"),
-            r#"{"schema": "forebear.result/1"}"#,
-        )
-        .unwrap();
-        let Found::Former(former) = examine(&dir, Kind::Dossier).unwrap() else {
-            panic!("a former dossier");
-        };
+        let former = former_dossier(&dir);
         std::fs::write(dir.join("notes.txt"), "mine").unwrap();
         assert!(remove_former(&dir, &former).is_err());
         assert_eq!(

@@ -138,6 +138,23 @@ pub fn assert_input_error(
     line.to_string()
 }
 
+/// Asserts exit code 2 with every `needle` on stderr; returns stderr.
+pub fn assert_refused(output: &Output, needles: &[&str]) -> String {
+    let stderr = stderr_of(output);
+    assert_eq!(
+        output.status.code(),
+        Some(2),
+        "exit code 2 expected; stderr: {stderr}"
+    );
+    for needle in needles {
+        assert!(
+            stderr.contains(needle),
+            "stderr should mention {needle:?}: {stderr}"
+        );
+    }
+    stderr
+}
+
 pub fn assert_success(output: &Output) {
     assert_eq!(
         output.status.code(),
@@ -235,6 +252,17 @@ impl Hold {
     pub fn release(&self) {
         std::fs::remove_file(&self.file).unwrap();
     }
+
+    /// Waits until `child` has reached the point, kills it there with SIGKILL (nothing can run in
+    /// the process after it), and returns its process id.
+    pub fn kill_there(&self, child: &mut Child) -> u32 {
+        self.wait(child);
+        let pid = child.id();
+        child.kill().unwrap();
+        child.wait().unwrap();
+        self.release();
+        pid
+    }
 }
 
 /// Starts the forebear binary with `args` in `dir`, stdout and stderr captured.
@@ -276,4 +304,16 @@ pub fn beside(out: &Path) -> Vec<String> {
         .collect();
     names.sort();
     names
+}
+
+/// A user's file at `path` (its folder is created): what forebear must never delete.
+pub fn place_user_file(path: &Path) {
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(path, "the user's notes").unwrap();
+}
+
+/// Asserts that the user's file at `path` is still there, unchanged.
+pub fn assert_user_file(path: &Path) {
+    let text = std::fs::read_to_string(path).expect("the user's file is still there");
+    assert_eq!(text, "the user's notes", "the user's file is unchanged");
 }
