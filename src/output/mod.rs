@@ -64,11 +64,6 @@ impl Claim {
         })
     }
 
-    /// The folder as the user named it.
-    pub fn shown(&self) -> &Path {
-        &self.shown
-    }
-
     /// Writes `files` (name, contents) into the folder as one step: staged, synced, then renamed
     /// into place.
     pub fn write_files(self, files: &[(&str, String)]) -> Result<()> {
