@@ -13,6 +13,7 @@ pub mod error;
 pub mod finding;
 pub mod manifest;
 pub mod measure;
+pub mod output;
 pub mod report;
 pub mod resample;
 pub mod rng;

@@ -2,10 +2,13 @@
 //! generator with different seeds, the index and its links, drift against a previous run, a
 //! failing study, shards collected, and plans rejected before anything runs.
 
+mod common;
+
+use common::{assert_refused, beside, spawn_in, Hold};
 use forebear::demo::generate_demo_csv_seeded;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::{Child, Command, Output};
 
 const PLAN: &str = r#"# three lines of the invented filter-disc scenario
 [defaults]
@@ -30,6 +33,17 @@ targets = ["crush_strength"]
 seed = 3
 "#;
 
+/// One pair without resampling, for the tests of the output folder.
+const SMALL_PLAN: &str = r#"[defaults]
+seed = 11
+replicates = 0
+
+[[study]]
+name = "line-a"
+data = "data/line_a.csv"
+targets = ["crush_strength"]
+"#;
+
 struct Scratch(PathBuf);
 
 impl Scratch {
@@ -49,8 +63,23 @@ impl Scratch {
         std::fs::write(dir.join("plan.toml"), PLAN).unwrap();
         Scratch(dir)
     }
+    /// [`Scratch::with_plan`] with `small.toml` (one pair, no resampling) besides.
+    fn with_small_plan(test: &str) -> Scratch {
+        let s = Scratch::with_plan(test);
+        std::fs::write(s.path("small.toml"), SMALL_PLAN).unwrap();
+        s
+    }
     fn path(&self, name: &str) -> PathBuf {
         self.0.join(name)
+    }
+    /// Runs `forebear batch small.toml ARGS` to its end.
+    fn small(&self, args: &[&str]) -> Output {
+        self.start_small(args, None).wait_with_output().unwrap()
+    }
+    /// Starts `forebear batch small.toml ARGS`, stopping at a hold point if one is given.
+    fn start_small(&self, args: &[&str], hold: Option<(&Hold, &str)>) -> Child {
+        let all = ["batch", "small.toml"].iter().chain(args);
+        spawn_in(&self.0, all, hold)
     }
     /// Runs `forebear --quiet batch plan.toml ARGS` in the scratch folder.
     fn batch(&self, args: &[&str]) -> Output {
@@ -431,6 +460,111 @@ fn a_former_batch_output_is_replaced_only_with_force_and_a_foreign_folder_never(
     let other = s.batch(&["--out", "elsewhere", "--force"]);
     assert_eq!(exit_code(&other), 2);
     assert!(stderr(&other).contains("no summary.json written by forebear batch"));
+}
+
+#[test]
+fn a_folder_that_appears_at_out_during_a_batch_is_left_as_it_is_and_the_batch_refuses() {
+    let s = Scratch::with_small_plan("appears");
+    let hold = Hold::new(&s.0, "hold");
+    let mut child = s.start_small(&["--out", "out"], Some((&hold, "batch:before-swap")));
+    hold.wait(&mut child);
+    common::place_user_file(&s.path("out/notes.txt"));
+    hold.release();
+    let run = child.wait_with_output().unwrap();
+    assert_refused(
+        &run,
+        &["changed while forebear ran (it now holds files but no summary.json"],
+    );
+    common::assert_user_file(&s.path("out/notes.txt"));
+    assert_eq!(std::fs::read_dir(s.path("out")).unwrap().count(), 1);
+    assert_eq!(beside(&s.path("out")), Vec::<String>::new());
+}
+
+#[test]
+fn a_second_batch_on_one_out_fails_while_the_first_runs_and_never_replaces_its_output() {
+    let s = Scratch::with_small_plan("second");
+    let hold = Hold::new(&s.0, "hold");
+    let mut first = s.start_small(&["--out", "out"], Some((&hold, "batch:before-swap")));
+    hold.wait(&mut first);
+    let second = s.small(&["--out", "out", "--force"]);
+    let busy = format!(
+        "another forebear run (process {}) is writing the output folder 'out'",
+        first.id()
+    );
+    assert_refused(&second, &[&busy]);
+    hold.release();
+    let first = first.wait_with_output().unwrap();
+    assert_eq!(exit_code(&first), 0, "{}", stderr(&first));
+    let written = std::fs::read_to_string(s.path("out/summary.json")).unwrap();
+    let later = s.small(&["--out", "out"]);
+    assert_eq!(exit_code(&later), 2);
+    assert!(
+        stderr(&later).contains("pass --force"),
+        "{}",
+        stderr(&later)
+    );
+    assert_eq!(
+        std::fs::read_to_string(s.path("out/summary.json")).unwrap(),
+        written
+    );
+}
+
+/// Two batches started at once, with no hook: whichever comes second, it fails (the lock while
+/// the first runs, the former output without --force after it), and one complete output stays.
+#[test]
+fn two_batches_started_together_on_one_out_give_one_output_and_one_refusal() {
+    let s = Scratch::with_small_plan("together");
+    let a = s.start_small(&["--out", "out"], None);
+    let b = s.start_small(&["--out", "out"], None);
+    let runs = [a.wait_with_output().unwrap(), b.wait_with_output().unwrap()];
+    let mut codes: Vec<i32> = runs.iter().map(exit_code).collect();
+    codes.sort();
+    assert_eq!(codes, [0, 2], "{} | {}", stderr(&runs[0]), stderr(&runs[1]));
+    let refused = runs.iter().find(|r| exit_code(r) == 2).unwrap();
+    assert!(
+        stderr(refused).contains("another forebear run")
+            || stderr(refused).contains("pass --force"),
+        "{}",
+        stderr(refused)
+    );
+    assert_eq!(summary(&s.path("out"))["totals"]["done"], 1);
+    assert!(s.path("out/line-a/crush_strength/manifest.json").is_file());
+    assert_eq!(beside(&s.path("out")), Vec::<String>::new());
+}
+
+#[test]
+fn a_user_file_inside_a_study_folder_keeps_a_batch_output_from_being_replaced() {
+    let s = Scratch::with_small_plan("study-file");
+    assert_eq!(exit_code(&s.small(&["--out", "out"])), 0);
+    common::place_user_file(&s.path("out/line-a/notes.txt"));
+    assert_refused(
+        &s.small(&["--out", "out", "--force"]),
+        &["'line-a/notes.txt'"],
+    );
+    common::assert_user_file(&s.path("out/line-a/notes.txt"));
+}
+
+#[test]
+fn a_batch_killed_between_the_renames_is_put_back_by_the_next_run() {
+    let s = Scratch::with_small_plan("killed");
+    assert_eq!(exit_code(&s.small(&["--out", "out"])), 0);
+    let former = std::fs::read_to_string(s.path("out/summary.json")).unwrap();
+    let hold = Hold::new(&s.0, "hold");
+    let mut child = s.start_small(
+        &["--out", "out", "--force"],
+        Some((&hold, "batch:between-renames")),
+    );
+    hold.kill_there(&mut child);
+    assert!(!s.path("out").exists());
+    assert_refused(
+        &s.small(&["--out", "out"]),
+        &["put back the former output from '.out.old-"],
+    );
+    assert_eq!(
+        std::fs::read_to_string(s.path("out/summary.json")).unwrap(),
+        former
+    );
+    assert_eq!(beside(&s.path("out")), Vec::<String>::new());
 }
 
 #[test]

@@ -6,7 +6,8 @@
 //! - [`run`] analyses pairs into dossiers and builds the [`Summary`];
 //! - [`drift`] compares a summary with a previous one;
 //! - [`index`] renders `index.md` and `index.html` from the summary;
-//! - [`output`] checks, stages and writes the output folder, and collects shard outputs.
+//! - [`output`] reads former summaries, writes the index and summary, and collects shard outputs
+//!   (the folder itself is claimed, staged and replaced by [`crate::output`]).
 //!
 //! `summary.json` and the index files hold no timestamps, durations, paths of the machine or
 //! command lines, so that shard outputs collected give the same bytes as one run.

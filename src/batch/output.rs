@@ -1,51 +1,15 @@
-//! The batch output folder: who may replace it, reading a former output's summary, writing the
-//! index and summary, and collecting shard outputs into one folder.
+//! The batch output folder: reading a former output's summary, writing the index and summary, and
+//! collecting shard outputs into one folder. Who may replace the folder is decided in
+//! [`crate::output`] (a former batch output is recognised by its summary).
 
 use super::plan::{Plan, Shard};
 use super::{Status, StudySummary, Summary, BATCH_SCHEMA, SUMMARY_FILE};
 use crate::data::fingerprint::sha256_text;
 use crate::error::{Error, Result};
 use crate::finding::ToolInfo;
+use crate::output::{fs_error, write_synced};
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
-
-/// Checks, before anything runs, that `dir` may receive a batch output: it does not exist, or is
-/// empty, or (with `force`) holds a former batch output and nothing else: its `summary.json` has
-/// the schema `forebear.batch/1`, and every other entry is an index file or a study folder that
-/// summary lists. Anything else is refused even with `force`, since replacing would delete it.
-pub fn check_output(dir: &Path, force: bool) -> Result<()> {
-    let Some(entries) = crate::report::existing_entries(dir, "nightly")? else {
-        return Ok(());
-    };
-    let refuse = |why: String| {
-        Err(Error::input(format!(
-            "the output folder '{}' {why}, which replacing the folder would delete; choose another \
-             --out or empty it",
-            dir.display()
-        )))
-    };
-    let Ok((former, _)) = read_summary(dir, "--out") else {
-        return refuse("holds files but no summary.json written by forebear batch".into());
-    };
-    let mut ours: BTreeSet<String> = ["index.html", "index.md", SUMMARY_FILE]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
-    ours.extend(former.studies.keys().cloned());
-    if let Some(name) = entries.iter().find(|e| !ours.contains(*e)) {
-        return refuse(format!(
-            "holds '{name}', which the former batch output does not list"
-        ));
-    }
-    if !force {
-        return Err(Error::input(format!(
-            "the output folder '{}' already holds a forebear batch output; pass --force to replace \
-             it, or choose another --out",
-            dir.display()
-        )));
-    }
-    Ok(())
-}
 
 /// Reads `dir/summary.json` of a former batch output, with the SHA-256 of its text. `flag` names
 /// the option the folder came from, for the message.
@@ -90,8 +54,8 @@ pub fn write_index(dir: &Path, summary: &Summary) -> Result<()> {
         (SUMMARY_FILE, summary.to_text()),
     ];
     for (name, text) in files {
-        std::fs::write(dir.join(name), text)
-            .map_err(|e| Error::internal(format!("cannot write '{name}': {e}")))?;
+        let path = dir.join(name);
+        write_synced(&path, text.as_bytes()).map_err(|e| fs_error("write", &path, &e))?;
     }
     Ok(())
 }
@@ -229,22 +193,22 @@ fn copy_dossier(
     copy_tree(&source, &into.join(study).join(target))
 }
 
+/// Copies a dossier folder; each file is synced as it is written.
 fn copy_tree(from: &Path, to: &Path) -> Result<()> {
-    let io = |e: std::io::Error| {
-        Error::internal(format!(
-            "cannot copy '{}' to '{}': {e}",
-            from.display(),
-            to.display()
-        ))
-    };
-    std::fs::create_dir_all(to).map_err(io)?;
-    for entry in std::fs::read_dir(from).map_err(io)? {
-        let entry = entry.map_err(io)?;
-        let target = to.join(entry.file_name());
-        if entry.file_type().map_err(io)?.is_dir() {
-            copy_tree(&entry.path(), &target)?;
+    std::fs::create_dir_all(to).map_err(|e| fs_error("create the folder", to, &e))?;
+    let entries = std::fs::read_dir(from).map_err(|e| fs_error("read", from, &e))?;
+    for entry in entries {
+        let entry = entry.map_err(|e| fs_error("read", from, &e))?;
+        let (source, target) = (entry.path(), to.join(entry.file_name()));
+        if entry
+            .file_type()
+            .map_err(|e| fs_error("read", &source, &e))?
+            .is_dir()
+        {
+            copy_tree(&source, &target)?;
         } else {
-            std::fs::copy(entry.path(), &target).map_err(io)?;
+            let bytes = std::fs::read(&source).map_err(|e| fs_error("read", &source, &e))?;
+            write_synced(&target, &bytes).map_err(|e| fs_error("write", &target, &e))?;
         }
     }
     Ok(())

@@ -11,6 +11,7 @@ use super::{
 };
 use crate::analysis::{analyze_file, Progress, Silent};
 use crate::finding::{Finding, ToolInfo};
+use crate::output::{Claim, Kind};
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
@@ -96,7 +97,8 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> Entry {
             command_line.to_vec(),
             &Silent,
         )?;
-        crate::report::write_dossier(&analysed, &folder, false)?;
+        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent)?;
+        crate::report::write_dossier(&analysed, claim)?;
         Ok(analysed.finding)
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {

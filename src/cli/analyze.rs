@@ -4,6 +4,7 @@ use crate::analysis::{analyze_file, Progress};
 use crate::data::LoadOptions;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
+use crate::output::{Claim, Kind};
 use crate::resample::PlanKind;
 use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA};
 use crate::search::{SelectionRule, StoppingRule};
@@ -132,7 +133,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
     let input = args.study_input()?;
     if let Some(range) = &args.replicate_range {
         let range = parse_range(range)?;
-        crate::report::check_output_folder(&args.out, args.force)?;
+        let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
         let part = crate::analysis::analyze_part(
             &args.data,
             &input,
@@ -143,11 +144,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         )?;
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
-        crate::report::write_files_atomically(
-            &args.out,
-            &[("partial.json", text + "\n")],
-            args.force,
-        )?;
+        claim.write_files(&[("partial.json", text + "\n")])?;
         println!("{}", args.out.join("partial.json").display());
         return Ok(());
     }
@@ -173,9 +170,9 @@ pub fn analyze_into(
     progress: &dyn Progress,
 ) -> Result<()> {
     // Refuse an unusable output folder before the work, not after it.
-    crate::report::check_output_folder(out, force)?;
+    let claim = Claim::take(out, Kind::Dossier, force, progress)?;
     let analysed = analyze_file(data, input, options, argv, progress)?;
-    crate::report::write_dossier(&analysed, out, force)?;
+    crate::report::write_dossier(&analysed, claim)?;
     progress.say(&format!(
         "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json)",
         out.display()

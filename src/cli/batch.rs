@@ -3,13 +3,13 @@
 
 use crate::analysis::Progress;
 use crate::batch::drift::compare;
-use crate::batch::output::{check_output, collect, read_summary, write_index};
+use crate::batch::output::{collect, read_summary, write_index};
 use crate::batch::plan::{Plan, Shard};
 use crate::batch::run::{run_pairs, summary};
 use crate::batch::{Summary, DEFAULT_DRIFT_THRESHOLD};
 use crate::error::{Error, Result};
 use crate::finding::ToolInfo;
-use crate::report::Staging;
+use crate::output::{Claim, Kind, Staging};
 use clap::Args;
 use std::path::PathBuf;
 use std::time::Instant;
@@ -79,8 +79,8 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
         }
         None => None,
     };
-    check_output(&args.out, args.force)?;
-    let staging = Staging::new(&args.out)?;
+    let claim = Claim::take(&args.out, Kind::Batch, args.force, progress)?;
+    let staging = Staging::new(claim)?;
     let (tool, studies) = if args.collect.is_empty() {
         let pairs = plan
             .pairs()

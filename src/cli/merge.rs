@@ -2,6 +2,7 @@
 
 use crate::analysis::{merge_parts, Partial, Progress};
 use crate::error::{Error, Result};
+use crate::output::{Claim, Kind};
 use clap::Args;
 use std::path::PathBuf;
 
@@ -21,7 +22,7 @@ pub struct MergeArgs {
 
 /// Runs `merge`.
 pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
-    crate::report::check_output_folder(&args.out, args.force)?;
+    let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
     let mut parts = Vec::new();
     for path in &args.parts {
         let file = if path.is_dir() {
@@ -47,7 +48,7 @@ pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     }
     progress.say(&format!("merging {} parts", parts.len()));
     let analysed = merge_parts(parts, argv)?;
-    crate::report::write_dossier(&analysed, &args.out, args.force)?;
+    crate::report::write_dossier(&analysed, claim)?;
     let finding = &analysed.finding;
     println!(
         "{}: {} — {}",

@@ -3,9 +3,11 @@
 #![allow(dead_code)]
 
 use std::ffi::OsStr;
+use std::io::Read;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::{Child, Command, Output, Stdio};
 use std::sync::atomic::{AtomicUsize, Ordering};
+use std::time::{Duration, Instant};
 
 /// A fresh folder under the system temp dir, removed when dropped.
 pub struct Scratch {
@@ -56,6 +58,19 @@ where
     S: AsRef<OsStr>,
 {
     Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+/// Runs the forebear binary with `args` in the folder `dir`.
+pub fn run_in<I, S>(dir: &Path, args: I) -> Output
+where
+    I: IntoIterator<Item = S>,
+    S: AsRef<OsStr>,
+{
+    Command::new(env!("CARGO_BIN_EXE_forebear"))
+        .current_dir(dir)
         .args(args)
         .output()
         .expect("the binary runs")
@@ -121,6 +136,23 @@ pub fn assert_input_error(
         "no output or staging folder left behind"
     );
     line.to_string()
+}
+
+/// Asserts exit code 2 with every `needle` on stderr; returns stderr.
+pub fn assert_refused(output: &Output, needles: &[&str]) -> String {
+    let stderr = stderr_of(output);
+    assert_eq!(
+        output.status.code(),
+        Some(2),
+        "exit code 2 expected; stderr: {stderr}"
+    );
+    for needle in needles {
+        assert!(
+            stderr.contains(needle),
+            "stderr should mention {needle:?}: {stderr}"
+        );
+    }
+    stderr
 }
 
 pub fn assert_success(output: &Output) {
@@ -223,4 +255,115 @@ pub fn forge_texts(dossier: &Path, edits: &[(&str, &str, &str)]) {
         std::fs::write(&path, text.replace(from, to)).unwrap();
     }
     reseal(dossier, |_| {});
+}
+
+/// The binary's test hook `FOREBEAR_TEST_HOLD` (src/output/fsio.rs): a process started with
+/// [`Hold::apply`] creates the hold file when it reaches the named point and waits there until the
+/// test removes it, so that a test acts at an exact moment instead of guessing a delay.
+pub struct Hold {
+    pub file: PathBuf,
+}
+
+impl Hold {
+    /// A hold whose file is `dir/name` (`dir` must exist; the file must not).
+    pub fn new(dir: &Path, name: &str) -> Hold {
+        Hold {
+            file: dir.join(name),
+        }
+    }
+
+    /// Makes `command` stop at `point` (`dossier:before-swap`, `batch:between-renames`, ...).
+    pub fn apply<'c>(&self, command: &'c mut Command, point: &str) -> &'c mut Command {
+        command
+            .env("FOREBEAR_TEST_HOLD", point)
+            .env("FOREBEAR_TEST_HOLD_FILE", &self.file)
+    }
+
+    /// Waits (at most five minutes) until `child` has reached the point; fails if it ends first.
+    pub fn wait(&self, child: &mut Child) {
+        let start = Instant::now();
+        while !self.file.exists() {
+            if let Some(status) = child.try_wait().unwrap() {
+                let mut stderr = String::new();
+                if let Some(mut pipe) = child.stderr.take() {
+                    let _ = pipe.read_to_string(&mut stderr);
+                }
+                panic!("the process ended ({status}) before the hold point; stderr: {stderr}");
+            }
+            assert!(
+                start.elapsed() < Duration::from_secs(300),
+                "the process never reached the hold point"
+            );
+            std::thread::sleep(Duration::from_millis(20));
+        }
+    }
+
+    /// Lets the held process go on.
+    pub fn release(&self) {
+        std::fs::remove_file(&self.file).unwrap();
+    }
+
+    /// Waits until `child` has reached the point, kills it there with SIGKILL (nothing can run in
+    /// the process after it), and returns its process id.
+    pub fn kill_there(&self, child: &mut Child) -> u32 {
+        self.wait(child);
+        let pid = child.id();
+        child.kill().unwrap();
+        child.wait().unwrap();
+        self.release();
+        pid
+    }
+}
+
+/// Starts the forebear binary with `args` in `dir`, stdout and stderr captured.
+pub fn spawn_in<I, S>(dir: &Path, args: I, hold: Option<(&Hold, &str)>) -> Child
+where
+    I: IntoIterator<Item = S>,
+    S: AsRef<OsStr>,
+{
+    let mut command = Command::new(env!("CARGO_BIN_EXE_forebear"));
+    command
+        .current_dir(dir)
+        .args(args)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped());
+    if let Some((hold, point)) = hold {
+        hold.apply(&mut command, point);
+    }
+    command.spawn().expect("the binary starts")
+}
+
+/// Sends `signal` (a name such as `HUP`) to `child` with kill(1).
+pub fn send_signal(child: &Child, signal: &str) {
+    let status = Command::new("kill")
+        .args([format!("-{signal}"), child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(status.success(), "kill -{signal}");
+}
+
+/// Names beside the output folder `out` that start with `.NAME.`: staging folders, moved-aside
+/// former outputs and the lock file, sorted.
+pub fn beside(out: &Path) -> Vec<String> {
+    let prefix = format!(".{}.", out.file_name().unwrap().to_string_lossy());
+    let mut names: Vec<String> = std::fs::read_dir(out.parent().unwrap())
+        .unwrap()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with(&prefix))
+        .collect();
+    names.sort();
+    names
+}
+
+/// A user's file at `path` (its folder is created): what forebear must never delete.
+pub fn place_user_file(path: &Path) {
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(path, "the user's notes").unwrap();
+}
+
+/// Asserts that the user's file at `path` is still there, unchanged.
+pub fn assert_user_file(path: &Path) {
+    let text = std::fs::read_to_string(path).expect("the user's file is still there");
+    assert_eq!(text, "the user's notes", "the user's file is unchanged");
 }
