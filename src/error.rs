@@ -14,6 +14,10 @@ pub enum Error {
     /// A failure that is not the user's fault (exit code 3).
     #[error("internal error: {0}")]
     Internal(String),
+    /// The reader of standard output went away (a closed pipe): nothing is left to say, and it is
+    /// not a failure (exit code 0, no message).
+    #[error("standard output was closed by its reader")]
+    ClosedPipe,
 }
 
 impl Error {
@@ -33,6 +37,7 @@ impl Error {
             Error::Mismatch(_) => 1,
             Error::Input(_) => 2,
             Error::Internal(_) => 3,
+            Error::ClosedPipe => 0,
         }
     }
 }

@@ -12,11 +12,6 @@ fn main() {
             .map(|s| s.to_string())
             .or_else(|| info.payload().downcast_ref::<String>().cloned())
             .unwrap_or_else(|| "unknown panic".to_string());
-        // The reader of our output went away (`forebear demo --regenerate | head`): not a bug, and
-        // nothing left to say.
-        if message.starts_with("failed printing to stdout") && message.contains("Broken pipe") {
-            std::process::exit(0);
-        }
         let place = info
             .location()
             .map(|l| format!(" at {}:{}", l.file(), l.line()))
@@ -37,6 +32,8 @@ fn main() {
     let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, argv));
     match outcome {
         Ok(Ok(())) => {}
+        // The reader of our output went away: not a failure, and nothing left to say.
+        Ok(Err(forebear::error::Error::ClosedPipe)) => {}
         Ok(Err(error)) => {
             eprintln!("forebear: error: {}", one_line(&error.to_string()));
             std::process::exit(error.exit_code());

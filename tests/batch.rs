@@ -648,6 +648,7 @@ fn entry(
     Entry {
         status: Status::Done,
         error: None,
+        failure: None,
         pair: 0,
         outcome: Some(outcome.name().to_string()),
         parent_sets,

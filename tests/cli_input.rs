@@ -932,3 +932,29 @@ fn closed_stdout_is_not_an_internal_error() {
     assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
     assert!(output.stderr.is_empty(), "{}", stderr_of(&output));
 }
+
+#[test]
+fn full_stdout_is_an_input_error_naming_standard_output() {
+    use std::process::Stdio;
+    // /dev/full (Linux) fails every write with ENOSPC, as a full disk does.
+    let Ok(full) = std::fs::OpenOptions::new().write(true).open("/dev/full") else {
+        return; // not Linux: nothing to prove here
+    };
+    for args in [
+        vec!["demo", "--regenerate"],
+        vec!["fingerprint", "tests/data/asia_discrete_n5000_seed1.csv"],
+    ] {
+        let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+            .args(&args)
+            .stdout(Stdio::from(full.try_clone().unwrap()))
+            .stderr(Stdio::piped())
+            .output()
+            .unwrap();
+        let stderr = stderr_of(&output);
+        assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+        assert!(
+            stderr.contains("cannot write to standard output") && !stderr.contains("internal"),
+            "{args:?}: {stderr}"
+        );
+    }
+}

@@ -79,6 +79,16 @@ pub enum Status {
     Failed,
 }
 
+/// Why a pair failed: something the user can fix, or a bug.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum Failure {
+    /// Bad input or settings, or an I/O failure (exit code 2).
+    Input,
+    /// A bug: an internal error or a panic (exit code 3).
+    Internal,
+}
+
 /// One (study, target) pair's result.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct Entry {
@@ -86,6 +96,10 @@ pub struct Entry {
     pub status: Status,
     /// Why it failed (failed pairs only).
     pub error: Option<String>,
+    /// What kind of failure it was (failed pairs only; absent in summaries written before it was
+    /// recorded). The exit code of `batch` is chosen from it, never from the message's text.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub failure: Option<Failure>,
     /// Position in the plan's pair order (the shard assignment uses it).
     pub pair: usize,
     /// The outcome name (done pairs only).

@@ -7,7 +7,8 @@
 use super::drift::{sets, Drift};
 use super::plan::{Pair, Plan, Shard};
 use super::{
-    Entry, EntryData, EntryStability, PlanRef, Status, StudySummary, Summary, Totals, BATCH_SCHEMA,
+    Entry, EntryData, EntryStability, Failure, PlanRef, Status, StudySummary, Summary, Totals,
+    BATCH_SCHEMA,
 };
 use crate::analysis::{analyze_file, Progress, Silent};
 use crate::finding::{Finding, ToolInfo};
@@ -103,19 +104,24 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> Entry {
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
         Ok(Ok(finding)) => entry_of(&finding, pair.index, relative),
-        Ok(Err(e)) => failed(pair.index, e.to_string()),
+        Ok(Err(e)) => failed(pair.index, &e),
         Err(_) => failed(
             pair.index,
-            "internal error: the analysis stopped on a bug (see the message above)".into(),
+            &crate::error::Error::internal("the analysis stopped on a bug (see the message above)"),
         ),
     }
 }
 
-/// The entry of a failed pair.
-pub fn failed(pair: usize, error: String) -> Entry {
+/// The entry of a pair that failed with `error`.
+pub fn failed(pair: usize, error: &crate::error::Error) -> Entry {
+    let failure = match error {
+        crate::error::Error::Internal(_) => Failure::Internal,
+        _ => Failure::Input,
+    };
     Entry {
         status: Status::Failed,
-        error: Some(one_line(&error)),
+        error: Some(one_line(&error.to_string())),
+        failure: Some(failure),
         pair,
         outcome: None,
         parent_sets: Vec::new(),
@@ -140,6 +146,7 @@ fn one_line(text: &str) -> String {
 pub fn entry_of(finding: &Finding, pair: usize, dossier: String) -> Entry {
     Entry {
         status: Status::Done,
+        failure: None,
         error: None,
         pair,
         outcome: Some(finding.outcome.name().to_string()),
@@ -195,5 +202,26 @@ pub fn summary(
         studies,
         drift,
         totals,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::error::Error;
+
+    #[test]
+    fn failure_kind_comes_from_the_error_not_its_text() {
+        // A user's message that happens to read "internal error" is still an input failure.
+        let input = failed(3, &Error::input("internal error: a column named so"));
+        assert_eq!(input.failure, Some(Failure::Input));
+        let bug = failed(4, &Error::internal("an unexpected state"));
+        assert_eq!(bug.failure, Some(Failure::Internal));
+        assert_eq!(bug.status, Status::Failed);
+        // Older summaries have no kind; they read as None, which batch treats as an input failure.
+        let mut json = serde_json::to_value(&input).unwrap();
+        json.as_object_mut().unwrap().remove("failure");
+        let old: Entry = serde_json::from_value(json).unwrap();
+        assert_eq!(old.failure, None);
     }
 }

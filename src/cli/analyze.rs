@@ -145,7 +145,7 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
         claim.write_files(&[("partial.json", text + "\n")])?;
-        println!("{}", args.out.join("partial.json").display());
+        super::out::line(&args.out.join("partial.json").display().to_string())?;
         return Ok(());
     }
     analyze_into(
@@ -178,11 +178,11 @@ pub fn analyze_into(
         out.display()
     ));
     let finding = &analysed.finding;
-    println!(
+    super::out::line(&format!(
         "{}: {} — {}",
         finding.target,
         finding.outcome.name(),
         out.join("dossier.md").display()
-    );
+    ))?;
     Ok(())
 }

@@ -58,12 +58,12 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     }
     let shard = args.shard.as_deref().map(Shard::parse).transpose()?;
     if args.check {
-        println!(
+        super::out::line(&format!(
             "{}: valid; {} studies, {} study–target pairs",
             args.plan.display(),
             plan.studies.len(),
             plan.pairs().len()
-        );
+        ))?;
         return Ok(());
     }
     let previous = match &args.previous {
@@ -189,12 +189,10 @@ fn report(
         totals.failed,
         index.display()
     ));
-    println!("{}", index.display());
-    let internal = summary.entries().any(|(_, _, e)| {
-        e.error
-            .as_deref()
-            .is_some_and(|m| m.starts_with("internal error"))
-    });
+    super::out::line(&index.display().to_string())?;
+    let internal = summary
+        .entries()
+        .any(|(_, _, e)| e.failure == Some(crate::batch::Failure::Internal));
     if totals.failed > 0 {
         let message = format!(
             "{} of {} pairs failed (the others are complete); see {}",

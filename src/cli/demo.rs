@@ -31,8 +31,8 @@ pub struct DemoArgs {
 pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
     if args.regenerate {
         match args.data_seed {
-            Some(seed) => print!("{}", crate::demo::generate_demo_csv_seeded(seed)),
-            None => print!("{}", generate_demo_csv()),
+            Some(seed) => super::out::print(&crate::demo::generate_demo_csv_seeded(seed))?,
+            None => super::out::print(&generate_demo_csv())?,
         }
         return Ok(());
     }
@@ -65,15 +65,15 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             progress,
         )?;
     }
-    println!(
+    super::out::line(&format!(
         "demo output is in {}/ (one folder per target; open dossier.html)",
         args.out.display()
-    );
-    println!(
+    ))?;
+    super::out::line(&format!(
         "a reviewer checks a dossier with: forebear verify {} --data {}",
         args.out.join(DEMO_TARGETS[0]).display(),
         data.display()
-    );
+    ))?;
     Ok(())
 }
 

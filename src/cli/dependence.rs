@@ -149,10 +149,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             "scheme": test.as_ref().map(|t| t.scheme),
             "seed": args.seed, "scaling": scaling.name(),
         });
-        println!(
-            "{}",
-            serde_json::to_string_pretty(&value).expect("plain JSON")
-        );
+        super::out::line(&serde_json::to_string_pretty(&value).expect("plain JSON"))?;
     } else {
         let given_text = if given.is_empty() {
             String::new()
@@ -161,14 +158,14 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         };
         match ratio.value() {
             Some(t) => {
-                println!(
+                super::out::line(&format!(
                     "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
                     args.response,
                     on.join(", "),
                     ratio.numerator,
                     ratio.denominator,
                     report.rows_used
-                );
+                ))?;
                 if let Some(test) = &test {
                     let how = match test.scheme {
                         NullScheme::Permutation => "over all rows".to_string(),
@@ -176,7 +173,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
                             format!("within blocks of nearby rows of {}", given.join(", "))
                         }
                     };
-                    println!(
+                    super::out::line(&format!(
                         "p = {}   (permutation test: {} permuted {how}; {} of {} permutations at or \
                          above T_n; seed {})",
                         crate::report::markdown::p_value(test.p_value),
@@ -184,17 +181,17 @@ pub fn run(args: DependenceArgs) -> Result<()> {
                         test.exceedances,
                         test.permutations,
                         args.seed
-                    );
+                    ))?;
                 }
             }
-            None => println!(
+            None => super::out::line(&format!(
                 "T_n({}, {}{given_text}) is undefined: '{}' is a function of the conditioning set on \
                  these data (denominator 0, n = {})",
                 args.response,
                 on.join(", "),
                 args.response,
                 report.rows_used
-            ),
+            ))?,
         }
     }
     Ok(())

@@ -37,16 +37,16 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
         });
         let text = serde_json::to_string_pretty(&value)
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
-        println!("{text}");
+        super::out::line(&text)?;
     } else {
-        println!("file            {}", args.data.display());
-        println!("bytes sha256    {bytes}");
-        println!("content sha256  {}", content.sha256);
-        println!(
+        super::out::line(&format!("file            {}", args.data.display()))?;
+        super::out::line(&format!("bytes sha256    {bytes}"))?;
+        super::out::line(&format!("content sha256  {}", content.sha256))?;
+        super::out::line(&format!(
             "shape           {} data rows × {} columns, {size} bytes",
             content.rows,
             content.columns.len()
-        );
+        ))?;
     }
     Ok(())
 }

@@ -50,11 +50,11 @@ pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     let analysed = merge_parts(parts, argv)?;
     crate::report::write_dossier(&analysed, claim)?;
     let finding = &analysed.finding;
-    println!(
+    super::out::line(&format!(
         "{}: {} — {}",
         finding.target,
         finding.outcome.name(),
         args.out.join("dossier.md").display()
-    );
+    ))?;
     Ok(())
 }

@@ -6,6 +6,7 @@ pub mod demo;
 pub mod dependence;
 pub mod fingerprint;
 pub mod merge;
+pub mod out;
 pub mod reader;
 pub mod verify;
 

@@ -48,7 +48,7 @@ pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Resu
     let report = match verify(&request, progress) {
         Ok(report) => report,
         Err(e @ Error::Mismatch(_)) => {
-            println!("MISMATCH");
+            super::out::line("MISMATCH")?;
             return Err(e);
         }
         Err(e) => return Err(e),
@@ -56,9 +56,9 @@ pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Resu
     if args.json {
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| Error::internal(format!("verification report: {e}")))?;
-        println!("{text}");
+        super::out::line(&text)?;
     } else {
-        print!("{}", render_text(&report));
+        super::out::print(&render_text(&report))?;
     }
     if report.verified() {
         Ok(())
