@@ -224,7 +224,7 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
             records,
         )
     });
-    finding.digest = crate::manifest::digest(&finding);
+    finding.digest = crate::digest::digest(&finding);
     finding
 }
 

@@ -170,7 +170,7 @@ pub struct Finding {
     pub stability: Option<Stability>,
     /// Run metadata (excluded from the digest).
     pub run: RunInfo,
-    /// SHA-256 of the canonical JSON of the findings (see `manifest::digest`).
+    /// SHA-256 of the canonical JSON of the findings (see `digest::digest`).
     pub digest: String,
 }
 
@@ -201,14 +201,27 @@ impl Finding {
             run,
             digest: String::new(),
         };
-        finding.digest = crate::manifest::digest(&finding);
+        finding.digest = crate::digest::digest(&finding);
         finding
     }
 
     /// The finding with the profiles of the used columns (recomputing the digest).
     pub fn with_columns(mut self, table: &crate::data::Table) -> Finding {
         self.columns = ColumnProfile::of_table(table);
-        self.digest = crate::manifest::digest(&self);
+        self.digest = crate::digest::digest(&self);
         self
     }
+}
+
+/// The settings of a finding as hashed: the reader options and the validated study.
+pub fn settings_value(finding: &Finding) -> serde_json::Value {
+    serde_json::json!({
+        "reader": crate::data::LoadOptions::from_report(&finding.data),
+        "study": finding.settings,
+    })
+}
+
+/// SHA-256 of the canonical JSON of [`settings_value`].
+pub fn settings_sha256(finding: &Finding) -> String {
+    crate::data::fingerprint::sha256_text(&crate::digest::canonical_json(&settings_value(finding)))
 }

@@ -1,62 +1,11 @@
-//! Canonical JSON, digests, and the manifest that binds a dossier to its data, settings, results
-//! and rendered files.
-//!
-//! Canonical JSON: keys sorted (serde_json's map is ordered), no insignificant whitespace, numbers
-//! as serde_json prints them (shortest round-trip form of each f64, which is a function of its bits).
-//! The result digest covers everything in `result.json` except run metadata: the `run` object, the
-//! `digest` itself; the data file's name, byte hash and size (`data.file`, `data.sha256`,
-//! `data.size_bytes`), so that the same content analysed under another name or path, or re-saved
-//! with other line endings or quoting, gives the same digest (the content hash
-//! `data.content_sha256` is part of it, and the manifest binds the exact bytes); and the crate version and build commit
-//! (`tool.version`, `tool.build`), so that every build of one method version gives one digest; the
-//! method version (`tool.method`) is part of it.
+//! The manifest that binds a dossier to its data, settings, results and rendered files. Canonical
+//! JSON and the result digest are in [`crate::digest`].
 
 use crate::analysis::Analysed;
 use crate::data::fingerprint::{sha256_text, ContentIndex};
-use crate::data::LoadOptions;
-use crate::finding::{Finding, ToolInfo};
+use crate::finding::{settings_sha256, settings_value, ToolInfo};
 use serde::{Deserialize, Serialize};
-use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
-
-/// JSON pointers excluded from the result digest.
-pub const DIGEST_EXCLUSIONS: [&str; 7] = [
-    "/run",
-    "/digest",
-    "/data/file",
-    "/data/sha256",
-    "/data/size_bytes",
-    "/tool/version",
-    "/tool/build",
-];
-
-/// The canonical JSON text of a value.
-pub fn canonical_json<T: Serialize>(value: &T) -> String {
-    let tree = serde_json::to_value(value).expect("findings are plain data");
-    serde_json::to_string(&tree).expect("a JSON value always serialises")
-}
-
-/// SHA-256 (hex) of the canonical JSON of a finding, run metadata excluded.
-pub fn digest<T: Serialize>(finding: &T) -> String {
-    let mut tree = serde_json::to_value(finding).expect("findings are plain data");
-    for pointer in DIGEST_EXCLUSIONS {
-        remove_pointer(&mut tree, pointer);
-    }
-    let text = serde_json::to_string(&tree).expect("a JSON value always serialises");
-    crate::data::fingerprint::hex(&Sha256::digest(text.as_bytes()))
-}
-
-fn remove_pointer(tree: &mut serde_json::Value, pointer: &str) {
-    let (parent, key) = pointer.rsplit_once('/').expect("pointers start with '/'");
-    let holder = if parent.is_empty() {
-        Some(tree)
-    } else {
-        tree.pointer_mut(parent)
-    };
-    if let Some(serde_json::Value::Object(map)) = holder {
-        map.remove(key);
-    }
-}
 
 /// Version of the `manifest.json` layout.
 pub const MANIFEST_SCHEMA: &str = "forebear.manifest/1";
@@ -129,19 +78,6 @@ pub struct ManifestCommand {
     pub reproduce: String,
 }
 
-/// The settings of a finding as hashed: the reader options and the validated study.
-pub fn settings_value(finding: &Finding) -> serde_json::Value {
-    serde_json::json!({
-        "reader": LoadOptions::from_report(&finding.data),
-        "study": finding.settings,
-    })
-}
-
-/// SHA-256 of the canonical JSON of [`settings_value`].
-pub fn settings_sha256(finding: &Finding) -> String {
-    sha256_text(&canonical_json(&settings_value(finding)))
-}
-
 impl Manifest {
     /// The manifest of a dossier whose other files are `files` (name, contents).
     pub fn new(analysed: &Analysed, files: &[(&str, String)]) -> Manifest {
@@ -185,7 +121,7 @@ impl Manifest {
     /// The seal this manifest should carry.
     pub fn computed_seal(&self) -> String {
         let mut tree = serde_json::to_value(self).expect("a manifest is plain data");
-        remove_pointer(&mut tree, "/seal");
+        crate::digest::remove_pointer(&mut tree, "/seal");
         sha256_text(&serde_json::to_string(&tree).expect("a JSON value always serialises"))
     }
 
@@ -338,23 +274,5 @@ mod tests {
         // RFC 6901, section 3: '~' is written '~0' and '/' is written '~1'.
         let found = differences(&json!({"a/b~": 1}), &json!({"a/b~": 2}), &[], &[], 5);
         assert_eq!(found[0].pointer, "/a~1b~0");
-    }
-
-    #[test]
-    fn canonical_json_sorts_keys_at_every_depth() {
-        let value = json!({"b": 1, "a": {"d": [1, 2], "c": null}});
-        assert_eq!(
-            canonical_json(&value),
-            r#"{"a":{"c":null,"d":[1,2]},"b":1}"#
-        );
-    }
-
-    #[test]
-    fn digest_ignores_run_metadata_and_file_name_only() {
-        let a = json!({"x": 1, "run": {"t": 1}, "digest": "a", "data": {"file": "p.csv", "sha256": "s"}});
-        let b = json!({"x": 1, "run": {"t": 2}, "digest": "b", "data": {"file": "q.csv", "sha256": "s"}});
-        let c = json!({"x": 2, "run": {"t": 1}, "digest": "a", "data": {"file": "p.csv", "sha256": "s"}});
-        assert_eq!(digest(&a), digest(&b));
-        assert_ne!(digest(&a), digest(&c));
     }
 }

@@ -731,7 +731,7 @@ fn forged_stability_with_the_digest_recomputed_too_is_a_mismatch() {
     // The forger also recomputes the result digest and writes it wherever the old one appears.
     let result = common::result_json(&out);
     let old = result["digest"].as_str().unwrap().to_string();
-    let new = forebear::manifest::digest(&result);
+    let new = forebear::digest::digest(&result);
     for name in ["result.json", "dossier.md", "dossier.html"] {
         let path = out.join(name);
         let text = std::fs::read_to_string(&path).unwrap();

@@ -168,7 +168,7 @@ fn run_date(finding: &Finding) -> String {
 /// SHA-256 of the canonical JSON of the settings (reader options and validated study), as the
 /// manifest records it.
 pub fn settings_sha256(finding: &Finding) -> String {
-    crate::manifest::settings_sha256(finding)
+    crate::finding::settings_sha256(finding)
 }
 
 /// One row of the data section's column table.

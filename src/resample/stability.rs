@@ -200,7 +200,7 @@ fn record(
         trace_values,
         digest: String::new(),
     };
-    rec.digest = crate::manifest::digest(&rec);
+    rec.digest = crate::digest::digest(&rec);
     rec
 }
 

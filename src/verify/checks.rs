@@ -67,9 +67,7 @@ pub(super) fn check_seal(manifest: &Manifest) -> Check {
 
 pub(super) fn check_settings(manifest: &Manifest, recorded: Option<&Finding>) -> Check {
     let mut problems = Vec::new();
-    let computed = sha256_text(&crate::manifest::canonical_json(
-        &manifest.settings.canonical,
-    ));
+    let computed = sha256_text(&crate::digest::canonical_json(&manifest.settings.canonical));
     if computed != manifest.settings.sha256 {
         problems.push(format!(
             "the settings in manifest.json were changed: they hash to {}, but {} is recorded",
@@ -78,7 +76,7 @@ pub(super) fn check_settings(manifest: &Manifest, recorded: Option<&Finding>) ->
         ));
     }
     if let Some(finding) = recorded {
-        let from_result = crate::manifest::settings_value(finding);
+        let from_result = crate::finding::settings_value(finding);
         for d in differences(
             &from_result,
             &manifest.settings.canonical,

@@ -242,7 +242,7 @@ mod tests {
         // part of them.
         for pointer in RECORDED_FACTS.iter().chain(&RECORDED_BYTE_FACTS) {
             assert!(
-                crate::manifest::DIGEST_EXCLUSIONS
+                crate::digest::DIGEST_EXCLUSIONS
                     .iter()
                     .any(|excluded| pointer == excluded
                         || pointer.starts_with(&format!("{excluded}/"))),

@@ -375,7 +375,7 @@ fn recorded_record_problems(
     }
     let edited: Vec<u32> = records
         .iter()
-        .filter(|r| crate::manifest::digest(r) != r.digest)
+        .filter(|r| crate::digest::digest(r) != r.digest)
         .map(|r| r.replicate)
         .collect();
     if let Some(first) = edited.first() {
