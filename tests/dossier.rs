@@ -176,6 +176,56 @@ fn assert_tables_intact(markdown: &str) {
     }
 }
 
+/// The demo's `dossier.md` against the committed snapshot `tests/snapshots/demo-TARGET.dossier.md`,
+/// with the three things that vary between runs that do not change the dossier's content written
+/// as placeholders: the data path (`DATA_PATH`), the build commit (`BUILD_COMMIT`, long and short)
+/// and the analysis date (`ANALYSIS_DATE`). A deliberate change of the dossier is accepted by
+/// running the test with `FOREBEAR_BLESS=1`, which rewrites the snapshot; review its diff.
+fn assert_matches_snapshot(dir: &Path, data: &Path, target: &str) {
+    let found = finding(dir);
+    let mut text = read(dir, "dossier.md").replace(&data.display().to_string(), "DATA_PATH");
+    let build = found.tool.build.trim_end_matches("-modified");
+    if build.is_empty() {
+        // Built outside a git checkout: the dossier says so in words the snapshot does not hold.
+        eprintln!("built outside a checkout: the dossier snapshot is not compared");
+        return;
+    }
+    text = text.replace(build, "BUILD_COMMIT");
+    text = text.replace(&build[..build.len().min(12)], "BUILD_COMMIT");
+    text = text.replace("BUILD_COMMIT-modified", "BUILD_COMMIT");
+    text = text.replace(&found.run.started_utc[..10], "ANALYSIS_DATE");
+    let snapshot = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/snapshots")
+        .join(format!("demo-{target}.dossier.md"));
+    if std::env::var_os("FOREBEAR_BLESS").is_some() {
+        std::fs::create_dir_all(snapshot.parent().unwrap()).unwrap();
+        std::fs::write(&snapshot, &text).unwrap();
+        return;
+    }
+    let expected = std::fs::read_to_string(&snapshot).unwrap_or_else(|e| {
+        panic!(
+            "{}: {e}; run the test with FOREBEAR_BLESS=1 to write it",
+            snapshot.display()
+        )
+    });
+    if text != expected {
+        let (line, (got, want)) = text
+            .lines()
+            .zip(expected.lines())
+            .enumerate()
+            .find(|(_, (g, w))| g != w)
+            .map(|(i, pair)| (i + 1, pair))
+            .unwrap_or((
+                text.lines().count().min(expected.lines().count()) + 1,
+                ("(end of file)", "(end of file)"),
+            ));
+        panic!(
+            "{target}: dossier.md differs from {} first at line {line}:\n  snapshot: {want}\n  now:      {got}\nIf the change is meant, run with FOREBEAR_BLESS=1 and review the snapshot's diff.",
+            snapshot.display()
+        );
+    }
+}
+
 #[test]
 fn demo_markdown_and_html_are_byte_identical_run_to_run() {
     let s = Scratch::new("golden");
@@ -199,6 +249,7 @@ fn demo_markdown_and_html_are_byte_identical_run_to_run() {
             for name in ["dossier.md", "dossier.html", "stability.csv", "trace.csv"] {
                 assert_eq!(read(&a, name), read(&b, name), "{target}/{name} differs");
             }
+            assert_matches_snapshot(&a, &data, target);
             break;
         }
     }
