@@ -433,7 +433,7 @@ fn unknown_scaling_is_refused() {
         &output,
         &s,
         &["data.csv"],
-        &["--scaling", "'logarithmic'", "rank, standardize or none"],
+        &["--scaling", "'logarithmic'", "rank, standardize, none"],
     );
 }
 

@@ -27,18 +27,18 @@ pub struct AnalyzeArgs {
     /// Study seed for every random tie-break and resample.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
-    /// Predictor scaling before nearest-neighbour search: rank, standardize or none.
-    #[arg(long, default_value = "rank")]
-    pub scaling: String,
+    /// Predictor scaling before nearest-neighbour search.
+    #[arg(long, value_enum, default_value_t = Scaling::Rank)]
+    pub scaling: Scaling,
     /// Level of the pairwise independence tests.
     #[arg(long, default_value_t = 0.05, allow_negative_numbers = true)]
     pub alpha: f64,
     /// Resampling replicates (0 disables resampling; even for complementary pairs).
     #[arg(long, default_value_t = 100)]
     pub replicates: u32,
-    /// Resampling plan: complementary-pairs, subsample or bootstrap.
-    #[arg(long, default_value = "complementary-pairs")]
-    pub resample: String,
+    /// Resampling plan.
+    #[arg(long, value_enum, default_value_t = PlanKind::ComplementaryPairs)]
+    pub resample: PlanKind,
     /// Share of rows per replicate, for --resample subsample (default 0.5).
     #[arg(long)]
     pub fraction: Option<f64>,
@@ -81,15 +81,10 @@ impl AnalyzeArgs {
             exclude: super::split_names(&self.exclude),
             candidates: self.candidates.as_deref().map(super::split_names),
             seed: self.seed,
-            scaling: parse_scaling(&self.scaling)?,
+            scaling: self.scaling,
             alpha: self.alpha,
             replicates: self.replicates,
-            resample: PlanKind::parse(&self.resample).ok_or_else(|| {
-                Error::input(format!(
-                    "--resample '{}' is not known; use complementary-pairs, subsample or bootstrap",
-                    self.resample
-                ))
-            })?,
+            resample: self.resample,
             fraction: self.fraction,
             stability_threshold: self.stability_threshold,
             selection: SelectionRule {
@@ -104,15 +99,6 @@ impl AnalyzeArgs {
     pub fn load_options(&self) -> Result<LoadOptions> {
         self.reader.load_options()
     }
-}
-
-/// Parses `--scaling`.
-pub fn parse_scaling(name: &str) -> Result<Scaling> {
-    Scaling::parse(name).ok_or_else(|| {
-        Error::input(format!(
-            "--scaling '{name}' is not known; use rank, standardize or none"
-        ))
-    })
 }
 
 /// Parses `--replicate-range A..B`.

@@ -34,9 +34,9 @@ pub struct DependenceArgs {
     /// Permutations of the response for the p-value (all are made).
     #[arg(long, default_value_t = DEFAULT_PERMUTATIONS, value_name = "N")]
     pub permutations: u32,
-    /// Predictor scaling: rank, standardize or none.
-    #[arg(long, default_value = "rank")]
-    pub scaling: String,
+    /// Predictor scaling.
+    #[arg(long, value_enum, default_value_t = crate::measure::Scaling::Rank)]
+    pub scaling: crate::measure::Scaling,
     /// How the file is read.
     #[command(flatten)]
     pub reader: super::reader::ReaderArgs,
@@ -47,7 +47,7 @@ pub struct DependenceArgs {
 
 /// Runs `dependence`.
 pub fn run(args: DependenceArgs) -> Result<()> {
-    let scaling = super::analyze::parse_scaling(&args.scaling)?;
+    let scaling = args.scaling;
     if !(1..=MAX_PERMUTATIONS).contains(&args.permutations) {
         return Err(Error::input(format!(
             "--permutations {} is not a number of draws: give one from 1 to {MAX_PERMUTATIONS}",

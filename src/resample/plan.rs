@@ -8,7 +8,7 @@ use crate::rng::{uniform_below, Key};
 use serde::{Deserialize, Serialize};
 
 /// How replicates draw their rows.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum PlanKind {
     /// B random splits into two disjoint halves of ⌊n/2⌋ rows: 2B replicates (Shah and Samworth,
