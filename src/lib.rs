@@ -16,6 +16,7 @@ pub mod manifest;
 pub mod measure;
 pub mod output;
 pub mod report;
+pub mod reproduce;
 pub mod resample;
 pub mod rng;
 pub mod search;

@@ -109,7 +109,7 @@ impl Manifest {
                 .collect(),
             command: ManifestCommand {
                 original: finding.run.command_line.clone(),
-                reproduce: crate::report::markdown::reproduce_command(finding),
+                reproduce: crate::reproduce::reproduce_command(finding),
             },
             generated_utc: crate::timefmt::now_rfc3339(),
             seal: String::new(),

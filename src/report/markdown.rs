@@ -30,8 +30,8 @@ impl Renderer for Markdown {
 pub fn render_markdown(finding: &Finding) -> Result<String> {
     let env = environment()?;
     let template = env.get_template("dossier.md").expect("just added");
-    let reproduce = reproduce_command(finding);
-    let verify = verify_command(finding);
+    let reproduce = crate::reproduce::reproduce_command(finding);
+    let verify = crate::reproduce::verify_command(finding);
     template
         .render(context! {
             f => Value::from(minijinja::value::Serde(finding)),
@@ -243,80 +243,6 @@ fn fence_for(text: &str) -> String {
     "`".repeat((longest + 1).max(3))
 }
 
-/// The shell command that re-runs this analysis (into a new folder).
-pub fn reproduce_command(finding: &Finding) -> String {
-    let s = &finding.settings;
-    let mut parts = vec![
-        "forebear analyze".to_string(),
-        shell_quote(&finding.run.data_path),
-        format!("--target {}", shell_quote(&s.target)),
-        format!("--seed {}", s.seed),
-        format!("--scaling {}", s.scaling.name()),
-        format!("--alpha {}", s.alpha),
-        format!("--replicates {}", s.resampling.count),
-        format!("--resample {}", s.resampling.kind.name()),
-        format!("--stability-threshold {}", s.stability_threshold),
-        format!("--stopping-rule {}", s.selection.stopping_rule.name()),
-        format!("--selection-alpha {}", s.selection.alpha),
-        format!("--permutations {}", s.selection.permutations),
-    ];
-    if s.resampling.kind == crate::resample::PlanKind::Subsample {
-        parts.push(format!("--fraction {}", s.resampling.fraction));
-    }
-    if !s.excluded.is_empty() {
-        parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
-    }
-    if let Some(named) = &s.candidates_named {
-        parts.push(format!("--candidates {}", shell_quote(&named.join(","))));
-    }
-    let data = &finding.data;
-    match data.delimiter.as_str() {
-        "," => {}
-        "\t" => parts.push("--delimiter tab".to_string()),
-        other => parts.push(format!("--delimiter {}", shell_quote(other))),
-    }
-    if data.decimal_comma {
-        parts.push("--decimal-comma".to_string());
-    }
-    if data.missing_policy != crate::data::MissingPolicy::DropRows {
-        parts.push(format!("--missing {}", data.missing_policy.name()));
-    }
-    let tokens = &finding.data.missing_tokens;
-    if *tokens != crate::data::LoadOptions::default().missing_tokens {
-        // `=` keeps a list that starts with an empty entry (",NA") attached to its flag.
-        parts.push(format!(
-            "--missing-tokens={}",
-            shell_quote(&tokens.join(","))
-        ));
-    }
-    parts.push("--out rerun".to_string());
-    one_line(&parts.join(" "))
-}
-
-/// The command that checks this dossier against the data.
-pub fn verify_command(finding: &Finding) -> String {
-    one_line(&format!(
-        "forebear verify DOSSIER_FOLDER --data {}",
-        shell_quote(&finding.run.data_path)
-    ))
-}
-
-/// Keeps a command on one line inside a code block (names with line breaks are rare but legal).
-fn one_line(command: &str) -> String {
-    command.replace(['\n', '\r'], "\u{FFFD}")
-}
-
-fn shell_quote(text: &str) -> String {
-    if !text.is_empty()
-        && text
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c))
-    {
-        text.to_string()
-    } else {
-        format!("'{}'", text.replace('\'', r"'\''"))
-    }
-}
 
 #[cfg(test)]
 mod tests {
