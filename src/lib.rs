@@ -19,5 +19,6 @@ pub mod resample;
 pub mod rng;
 pub mod search;
 pub mod study;
+pub mod text;
 pub mod timefmt;
 pub mod verify;
