@@ -23,7 +23,7 @@ fn main() {
             .unwrap_or_default();
         eprintln!(
             "forebear: error: internal error: {}{place}; this is a bug, please report it",
-            one_line(&message)
+            forebear::text::for_terminal(&one_line(&message))
         );
     }));
     // Arguments that are not valid Unicode are kept (lossily) for the record rather than panicking.
@@ -38,7 +38,12 @@ fn main() {
     match outcome {
         Ok(Ok(())) => {}
         Ok(Err(error)) => {
-            eprintln!("forebear: error: {}", one_line(&error.to_string()));
+            // Names, values and paths inside the message are the user's: no control sequence or
+            // bidirectional control of theirs reaches the terminal.
+            eprintln!(
+                "forebear: error: {}",
+                forebear::text::for_terminal(&one_line(&error.to_string()))
+            );
             std::process::exit(error.exit_code());
         }
         Err(_) => std::process::exit(3),
@@ -76,7 +81,10 @@ fn usage_error(error: clap::Error) -> ! {
         || "forebear --help".to_string(),
         |c| format!("forebear {c} --help"),
     );
-    eprintln!("forebear: error: {message}; see '{help}'");
+    eprintln!(
+        "forebear: error: {}; see '{help}'",
+        forebear::text::for_terminal(&message)
+    );
     std::process::exit(2);
 }
 

@@ -33,14 +33,18 @@ pub fn run_pairs(
     let mut studies: BTreeMap<String, StudySummary> = BTreeMap::new();
     for (n, pair) in pairs.iter().enumerate() {
         let started = Instant::now();
-        let entry = run_pair(pair, dir, command_line);
+        let (entry, full_error) = run_pair(pair, dir, command_line);
+        let said = match &full_error {
+            // The log gets the whole message; the index only its place (see `public_error`).
+            Some(message) => format!("FAILED: {message}"),
+            None => describe(&entry),
+        };
         progress.say(&format!(
-            "[{}/{}] {}/{}: {} ({:.1} s)",
+            "[{}/{}] {}/{}: {said} ({:.1} s)",
             n + 1,
             pairs.len(),
             pair.study.name,
             pair.target,
-            describe(&entry),
             started.elapsed().as_secs_f64()
         ));
         studies
@@ -85,30 +89,67 @@ fn describe(entry: &Entry) -> String {
 }
 
 /// Analyses one pair into `dir/<study>/<target>/`. A panic inside is a bug; it fails this pair
-/// only (the panic hook has printed it) and is recorded as an internal error.
-fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> Entry {
+/// only (the panic hook has printed it) and is recorded as an internal error. A failed analysis
+/// also returns its whole message, for stderr only.
+fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<String>) {
     let relative = format!("{}/{}", pair.study.name, pair.target);
     let folder = dir.join(&pair.study.name).join(pair.target);
-    let work = || -> crate::error::Result<Finding> {
+    let work = || -> std::result::Result<Finding, (crate::error::Error, bool)> {
         let analysed = analyze_file(
             &pair.study.data_path,
             &pair.study.input(pair.target),
             &pair.study.load,
             command_line.to_vec(),
             &Silent,
-        )?;
-        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent)?;
-        crate::report::write_dossier(&analysed, claim)?;
+        )
+        .map_err(|e| (e, true))?;
+        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent).map_err(|e| (e, false))?;
+        crate::report::write_dossier(&analysed, claim).map_err(|e| (e, false))?;
         Ok(analysed.finding)
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
-        Ok(Ok(finding)) => entry_of(&finding, pair.index, relative),
-        Ok(Err(e)) => failed(pair.index, e.to_string()),
-        Err(_) => failed(
-            pair.index,
-            "internal error: the analysis stopped on a bug (see the message above)".into(),
+        Ok(Ok(finding)) => (entry_of(&finding, pair.index, relative), None),
+        Ok(Err((e @ crate::error::Error::Input(_), true))) => {
+            let message = e.to_string();
+            let shown = pair.study.data_path.display().to_string();
+            let public = public_error(&message, &shown, &pair.study.data);
+            (failed(pair.index, public), Some(message))
+        }
+        Ok(Err((e, _))) => (failed(pair.index, e.to_string()), None),
+        Err(_) => (
+            failed(
+                pair.index,
+                "internal error: the analysis stopped on a bug (see the message above)".into(),
+            ),
+            None,
         ),
     }
+}
+
+/// What the index and the summary say of data the reader refused: the file as the plan names it
+/// and the place (line, column), never the message itself. The reader's messages quote the file
+/// (a header, a value), and a file that is no data at all (a system file named by mistake, a
+/// binary) would have its first line copied into the index, which is read more widely than the
+/// data; the whole message is on stderr.
+fn public_error(message: &str, shown: &str, data: &str) -> String {
+    let rest = message.strip_prefix(shown).unwrap_or("");
+    let number_after = |label: &str| -> Option<u64> {
+        let text = rest.strip_prefix(label)?;
+        let digits: String = text.chars().take_while(char::is_ascii_digit).collect();
+        digits.parse().ok()
+    };
+    let line = number_after(", line ");
+    let column = line.and_then(|l| number_after(&format!(", line {l}, column ")));
+    let place = match (line, column) {
+        (Some(l), Some(c)) => format!(" at line {l}, column {c}"),
+        (Some(l), None) => format!(" at line {l}"),
+        _ => String::new(),
+    };
+    format!(
+        "the data file {} could not be analysed{place} (bad input); the reason is in the \
+         batch's messages on stderr, since it may quote the file, which the index does not",
+        crate::text::quoted(data)
+    )
 }
 
 /// The entry of a failed pair.

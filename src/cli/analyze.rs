@@ -145,7 +145,10 @@ pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
         claim.write_files(&[("partial.json", text + "\n")])?;
-        println!("{}", args.out.join("partial.json").display());
+        println!(
+            "{}",
+            crate::text::for_terminal(&args.out.join("partial.json").display().to_string())
+        );
         return Ok(());
     }
     analyze_into(
@@ -179,10 +182,13 @@ pub fn analyze_into(
     ));
     let finding = &analysed.finding;
     println!(
-        "{}: {} — {}",
-        finding.target,
-        finding.outcome.name(),
-        out.join("dossier.md").display()
+        "{}",
+        crate::text::for_terminal(&format!(
+            "{}: {} — {}",
+            finding.target,
+            finding.outcome.name(),
+            out.join("dossier.md").display()
+        ))
     );
     Ok(())
 }

@@ -59,10 +59,13 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     let shard = args.shard.as_deref().map(Shard::parse).transpose()?;
     if args.check {
         println!(
-            "{}: valid; {} studies, {} study–target pairs",
-            args.plan.display(),
-            plan.studies.len(),
-            plan.pairs().len()
+            "{}",
+            crate::text::for_terminal(&format!(
+                "{}: valid; {} studies, {} study–target pairs",
+                args.plan.display(),
+                plan.studies.len(),
+                plan.pairs().len()
+            ))
         );
         return Ok(());
     }
@@ -123,8 +126,8 @@ fn load_plan(args: &BatchArgs) -> Result<Plan> {
                 .iter()
                 .map(|(study, path)| {
                     format!(
-                        "study '{study}': the data file '{}' does not exist",
-                        path.display()
+                        "study '{study}': the data file {} does not exist",
+                        crate::text::quoted(&path.display().to_string())
                     )
                 })
                 .collect();
@@ -133,7 +136,10 @@ fn load_plan(args: &BatchArgs) -> Result<Plan> {
                 // whole night, so the study fails alone and the others run.
                 for line in &lines {
                     eprintln!(
-                        "forebear: warning: {name}: {line}; that study will fail, the others run"
+                        "forebear: warning: {}",
+                        crate::text::for_terminal(&format!(
+                            "{name}: {line}; that study will fail, the others run"
+                        ))
                     );
                 }
                 return Ok(plan);
@@ -149,7 +155,10 @@ fn load_plan(args: &BatchArgs) -> Result<Plan> {
             .collect(),
     };
     for problem in &problems {
-        eprintln!("forebear: error: {name}: {problem}");
+        eprintln!(
+            "forebear: error: {}",
+            crate::text::for_terminal(&format!("{name}: {problem}"))
+        );
     }
     Err(Error::input(format!(
         "{name}: {} problem(s), listed above; nothing was run",
@@ -189,7 +198,10 @@ fn report(
         totals.failed,
         index.display()
     ));
-    println!("{}", index.display());
+    println!(
+        "{}",
+        crate::text::for_terminal(&index.display().to_string())
+    );
     let internal = summary.entries().any(|(_, _, e)| {
         e.error
             .as_deref()

@@ -66,13 +66,19 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         )?;
     }
     println!(
-        "demo output is in {}/ (one folder per target; open dossier.html)",
-        args.out.display()
+        "{}",
+        crate::text::for_terminal(&format!(
+            "demo output is in {}/ (one folder per target; open dossier.html)",
+            args.out.display()
+        ))
     );
     println!(
-        "a reviewer checks a dossier with: forebear verify {} --data {}",
-        args.out.join(DEMO_TARGETS[0]).display(),
-        data.display()
+        "{}",
+        crate::text::for_terminal(&format!(
+            "a reviewer checks a dossier with: forebear verify {} --data {}",
+            args.out.join(DEMO_TARGETS[0]).display(),
+            data.display()
+        ))
     );
     Ok(())
 }

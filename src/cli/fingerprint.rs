@@ -39,7 +39,10 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
         println!("{text}");
     } else {
-        println!("file            {}", args.data.display());
+        println!(
+            "file            {}",
+            crate::text::for_terminal(&args.data.display().to_string())
+        );
         println!("bytes sha256    {bytes}");
         println!("content sha256  {}", content.sha256);
         println!(

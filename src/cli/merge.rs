@@ -51,10 +51,13 @@ pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     crate::report::write_dossier(&analysed, claim)?;
     let finding = &analysed.finding;
     println!(
-        "{}: {} — {}",
-        finding.target,
-        finding.outcome.name(),
-        args.out.join("dossier.md").display()
+        "{}",
+        crate::text::for_terminal(&format!(
+            "{}: {} — {}",
+            finding.target,
+            finding.outcome.name(),
+            args.out.join("dossier.md").display()
+        ))
     );
     Ok(())
 }
