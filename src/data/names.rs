@@ -61,6 +61,24 @@ pub fn check(names: &[String], file: &str, line: u64) -> Result<()> {
     Ok(())
 }
 
+/// Refuses a data file whose path is not valid UTF-8. The dossier records the path, and its
+/// reproduce command must name exactly this file when pasted into a shell; a record in JSON holds
+/// Unicode text only, so such a name could only be written approximately.
+pub fn check_data_path(path: &std::path::Path) -> Result<()> {
+    if path.to_str().is_some() {
+        return Ok(());
+    }
+    let bytes = path.as_os_str().as_encoded_bytes();
+    let at = std::str::from_utf8(bytes).err().map_or(0, |e| e.valid_up_to());
+    Err(Error::input(format!(
+        "the data file name {} is not valid UTF-8 text (byte 0x{:02X} at byte offset {at} of the \
+         name); the dossier records the name and a command that must name exactly this file: \
+         rename the file with a UTF-8 name",
+        crate::text::quoted(&path.to_string_lossy()),
+        bytes.get(at).copied().unwrap_or(0)
+    )))
+}
+
 /// What a name looks like: its Normalization Form C with every run of white space as one space.
 fn look(name: &str) -> String {
     let normal: String = name.nfc().collect();
