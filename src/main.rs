@@ -83,7 +83,7 @@ fn usage_error(error: clap::Error) -> ! {
     );
     eprintln!(
         "forebear: error: {}; see '{help}'",
-        forebear::text::for_terminal(&message)
+        forebear::text::for_terminal(message)
     );
     std::process::exit(2);
 }

@@ -66,9 +66,10 @@ pub fn hidden_character(c: char) -> Option<&'static str> {
         '\u{17b4}' | '\u{17b5}' => "a Khmer inherent vowel (invisible)",
         // The remaining Default_Ignorable_Code_Point ranges are unassigned: reserved so that a
         // future character there prints as nothing.
-        '\u{2065}' | '\u{fff0}'..='\u{fff8}' | '\u{e0080}'..='\u{e00ff}' | '\u{e01f0}'..='\u{e0fff}' => {
-            "a reserved invisible code point"
-        }
+        '\u{2065}'
+        | '\u{fff0}'..='\u{fff8}'
+        | '\u{e0080}'..='\u{e00ff}'
+        | '\u{e01f0}'..='\u{e0fff}' => "a reserved invisible code point",
         c if c.general_category() == GeneralCategory::Format => "a format character (invisible)",
         _ => return None,
     };
@@ -169,13 +170,35 @@ mod tests {
     #[test]
     fn controls_bidi_and_invisible_characters_are_hidden_characters() {
         for c in [
-            '\0', '\n', '\r', '\t', '\u{1b}', '\u{7f}', '\u{85}', '\u{9b}', '\u{202e}', '\u{2066}',
-            '\u{200e}', '\u{61c}', '\u{200b}', '\u{200d}', '\u{2060}', '\u{feff}', '\u{ad}',
-            '\u{fe0f}', '\u{e0041}', '\u{3164}', '\u{2028}', '\u{600}', '\u{e0100}',
+            '\0',
+            '\n',
+            '\r',
+            '\t',
+            '\u{1b}',
+            '\u{7f}',
+            '\u{85}',
+            '\u{9b}',
+            '\u{202e}',
+            '\u{2066}',
+            '\u{200e}',
+            '\u{61c}',
+            '\u{200b}',
+            '\u{200d}',
+            '\u{2060}',
+            '\u{feff}',
+            '\u{ad}',
+            '\u{fe0f}',
+            '\u{e0041}',
+            '\u{3164}',
+            '\u{2028}',
+            '\u{600}',
+            '\u{e0100}',
         ] {
             assert!(hidden_character(c).is_some(), "{:?}", c);
         }
-        for c in ['a', ' ', 'é', 'ß', 'ξ', '²', '\u{a0}', '\u{301}', '…', '€', '中'] {
+        for c in [
+            'a', ' ', 'é', 'ß', 'ξ', '²', '\u{a0}', '\u{301}', '…', '€', '中',
+        ] {
             assert_eq!(hidden_character(c), None, "{c:?}");
         }
         assert_eq!(
@@ -187,7 +210,10 @@ mod tests {
     #[test]
     fn escaped_text_shows_what_is_there() {
         assert_eq!(escaped("x2\u{202e}evil"), "x2\\u{202e}evil");
-        assert_eq!(escaped("a\nb\t\u{1b}]0;t\u{7}"), "a\\nb\\t\\u{1b}]0;t\\u{7}");
+        assert_eq!(
+            escaped("a\nb\t\u{1b}]0;t\u{7}"),
+            "a\\nb\\t\\u{1b}]0;t\\u{7}"
+        );
         assert_eq!(escaped("caf\u{e9} \\ 'x'"), "caf\u{e9} \\ 'x'");
         assert_eq!(code_points("cafe\u{301}"), "cafe\\u{301}");
         assert_eq!(code_points("a\u{a0}b c"), "a\\u{a0}b c");

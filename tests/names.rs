@@ -12,7 +12,9 @@ use std::path::Path;
 
 /// Bytes that would act on a terminal or reorder a line: ESC, BEL, CSI, the bidi overrides.
 fn assert_inert(what: &str, text: &str) {
-    for c in ['\u{1b}', '\u{7}', '\u{9b}', '\u{202e}', '\u{202d}', '\u{2066}'] {
+    for c in [
+        '\u{1b}', '\u{7}', '\u{9b}', '\u{202e}', '\u{202d}', '\u{2066}',
+    ] {
         assert!(
             !text.contains(c),
             "{what} holds U+{:04X}: {text:?}",
@@ -82,7 +84,10 @@ fn a_data_file_name_with_a_bidi_override_shows_as_an_escape_in_every_report() {
         assert_inert(file, &text);
     }
     let html = std::fs::read_to_string(s.path("out/dossier.html")).unwrap();
-    assert!(html.contains("x\\u{202e}vsc.csv"), "the HTML shows the escape");
+    assert!(
+        html.contains("x\\u{202e}vsc.csv"),
+        "the HTML shows the escape"
+    );
 }
 
 /// The word that bash reads as the second argument of `forebear analyze …` in `command`.
@@ -115,7 +120,10 @@ fn the_reproduce_command_names_a_file_with_a_line_break_and_quotes_exactly() {
     let word = second_word_as_bash_reads_it(reproduce);
     assert_eq!(word, data.as_os_str().as_encoded_bytes(), "{reproduce}");
     let dossier = std::fs::read_to_string(s.path("out/dossier.md")).unwrap();
-    assert!(dossier.contains(reproduce), "the dossier shows the same command");
+    assert!(
+        dossier.contains(reproduce),
+        "the dossier shows the same command"
+    );
 }
 
 #[test]
@@ -180,7 +188,13 @@ fn windows_device_names_are_refused_as_study_and_target_folder_names() {
     let output = batch(&s, &["--out", "out"]);
     let stderr = assert_refused(
         &output,
-        &["'Con'", "'com1.archive'", "'aux'", "'nul.txt'", "reserved device name"],
+        &[
+            "'Con'",
+            "'com1.archive'",
+            "'aux'",
+            "'nul.txt'",
+            "reserved device name",
+        ],
     );
     assert!(stderr.contains("4 problem(s)"), "{stderr}");
     assert!(!s.path("out").exists());

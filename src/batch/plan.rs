@@ -465,4 +465,36 @@ mod tests {
         assert_eq!(unsafe_name("crush strength", false), None);
         assert!(unsafe_name("a/b", false).is_some());
     }
+
+    #[test]
+    fn windows_device_names_and_hidden_characters_are_not_folder_names() {
+        for name in [
+            "CON",
+            "con",
+            "Aux",
+            "nul.txt",
+            "PRN.tar.gz",
+            "lpt9",
+            "COM1",
+            "com0",
+            "com\u{b9}",
+        ] {
+            assert!(unsafe_name(name, false).is_some(), "{name}");
+            assert!(
+                unsafe_name(name, false)
+                    .unwrap()
+                    .contains("reserved device name"),
+                "{name}"
+            );
+        }
+        for name in ["console", "com10", "auxiliary", "nul_rate", "lpt"] {
+            assert_eq!(unsafe_name(name, false), None, "{name}");
+        }
+        let why = unsafe_name("x2\u{202e}evil", false).unwrap();
+        assert!(
+            why.contains("U+202E") && why.contains("right-to-left override"),
+            "{why}"
+        );
+        assert!(unsafe_name("a\u{200b}b", false).is_some());
+    }
 }

@@ -13,7 +13,7 @@ use std::collections::BTreeMap;
 use std::path::Path;
 
 /// The device name `name` stands for under the Windows file naming rules (`CON`, `PRN`, `AUX`,
-/// `NUL`, `COM1`–`COM9`, `LPT1`–`LPT9`, also with superscript digits 1–3, in any case, alone or
+/// `NUL`, `COM0`–`COM9`, `LPT0`–`LPT9`, also with superscript digits 1–3, in any case, alone or
 /// before an extension such as `nul.txt`), if it is one.
 pub fn windows_device_name(name: &str) -> Option<String> {
     let stem = name.split('.').next().unwrap_or(name).trim_end_matches(' ');
@@ -24,7 +24,7 @@ pub fn windows_device_name(name: &str) -> Option<String> {
             let mut digits = rest.chars();
             matches!(
                 (digits.next(), digits.next()),
-                (Some('1'..='9' | '\u{b9}' | '\u{b2}' | '\u{b3}'), None)
+                (Some('0'..='9' | '\u{b9}' | '\u{b2}' | '\u{b3}'), None)
             )
         })
     });

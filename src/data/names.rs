@@ -69,7 +69,9 @@ pub fn check_data_path(path: &std::path::Path) -> Result<()> {
         return Ok(());
     }
     let bytes = path.as_os_str().as_encoded_bytes();
-    let at = std::str::from_utf8(bytes).err().map_or(0, |e| e.valid_up_to());
+    let at = std::str::from_utf8(bytes)
+        .err()
+        .map_or(0, |e| e.valid_up_to());
     Err(Error::input(format!(
         "the data file name {} is not valid UTF-8 text (byte 0x{:02X} at byte offset {at} of the \
          name); the dossier records the name and a command that must name exactly this file: \
@@ -102,7 +104,10 @@ mod tests {
         let m = refusal(&["y", "x2\u{202e}evil"]);
         assert!(m.contains("f.csv, line 1, column 2"), "{m}");
         assert!(m.contains("'x2\\u{202e}evil'"), "{m}");
-        assert!(m.contains("U+202E") && m.contains("right-to-left override"), "{m}");
+        assert!(
+            m.contains("U+202E") && m.contains("right-to-left override"),
+            "{m}"
+        );
     }
 
     #[test]
@@ -122,6 +127,11 @@ mod tests {
 
     #[test]
     fn ordinary_names_pass() {
-        assert!(check(&names(&["x2", "x²", "Temp (°C)", "a\u{a0}b", "ξ", "X2"]), "f", 1).is_ok());
+        assert!(check(
+            &names(&["x2", "x²", "Temp (°C)", "a\u{a0}b", "ξ", "X2"]),
+            "f",
+            1
+        )
+        .is_ok());
     }
 }

@@ -343,7 +343,10 @@ pub fn shell_quote(text: &str) -> String {
     {
         return text.to_string();
     }
-    if !text.chars().any(|c| crate::text::hidden_character(c).is_some()) {
+    if !text
+        .chars()
+        .any(|c| crate::text::hidden_character(c).is_some())
+    {
         return format!("'{}'", text.replace('\'', r"'\''"));
     }
     let mut out = String::from("$'");

@@ -218,7 +218,10 @@ mod tests {
         assert_eq!(name_list(&names(&["a", "b"])), "a;b");
         assert_eq!(name_list(&names(&["a;b"])), "a\\;b");
         assert_eq!(name_list(&names(&["a\\", "b"])), "a\\\\;b");
-        assert_ne!(name_list(&names(&["a\\;b"])), name_list(&names(&["a\\", "b"])));
+        assert_ne!(
+            name_list(&names(&["a\\;b"])),
+            name_list(&names(&["a\\", "b"]))
+        );
     }
 
     #[test]
