@@ -158,6 +158,18 @@ pub fn for_terminal(line: &str) -> String {
     escaped(line)
 }
 
+/// A name in a list of names (`a, b` or `{a, b}`): as it is, or in double quotes (inner quotes
+/// doubled) when it holds a list's punctuation or is the word a list uses for nothing, so that the
+/// set {`a`, `b`} and a column named `a, b` (`"a, b"`), or no column and a column named `none`
+/// (`"none"`), read apart.
+pub fn list_item(name: &str) -> String {
+    if name.contains([',', ';', '{', '}', '"']) || name == "none" {
+        format!("\"{}\"", name.replace('"', "\"\""))
+    } else {
+        name.to_string()
+    }
+}
+
 /// `U+202E` for a message.
 pub fn code_point(c: char) -> String {
     format!("U+{:04X}", c as u32)
@@ -230,5 +242,13 @@ mod tests {
         );
         assert_eq!(capped("abcdef", 3), "abc… (6 bytes)");
         assert_eq!(capped("abc", 3), "abc");
+    }
+
+    #[test]
+    fn a_name_holding_list_punctuation_reads_apart_from_a_list() {
+        assert_eq!(list_item("a"), "a");
+        assert_eq!(list_item("a, b"), "\"a, b\"");
+        assert_eq!(list_item("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(list_item("none"), "\"none\"");
     }
 }

@@ -64,7 +64,7 @@ fn environment() -> Result<Environment<'static>> {
     env.add_filter("pct", percent);
     env.add_filter("names", names);
     env.add_filter("braced", |list: Vec<String>| {
-        let shown: Vec<String> = list.iter().map(|n| list_item(n)).collect();
+        let shown: Vec<String> = list.iter().map(|n| crate::text::list_item(n)).collect();
         format!("{{{}}}", shown.join(", "))
     });
     env.add_template("dossier.md", TEMPLATE)
@@ -133,23 +133,12 @@ fn percent(frequency: f64) -> String {
     format!("{:.0} %", frequency * 100.0)
 }
 
-/// A name in a list: as it is, or in double quotes (inner quotes doubled) when it holds a list's
-/// punctuation or is the word a list uses for nothing, so that the set {`a`, `b`} and a column
-/// named `a, b` (`"a, b"`), or no column and a column named `none` (`"none"`), read apart.
-fn list_item(name: &str) -> String {
-    if name.contains([',', ';', '{', '}', '"']) || name == "none" {
-        format!("\"{}\"", name.replace('"', "\"\""))
-    } else {
-        name.to_string()
-    }
-}
-
 /// A list of names joined by commas, or "none".
 fn names(list: Vec<String>) -> String {
     if list.is_empty() {
         "none".to_string()
     } else {
-        let shown: Vec<String> = list.iter().map(|n| list_item(n)).collect();
+        let shown: Vec<String> = list.iter().map(|n| crate::text::list_item(n)).collect();
         shown.join(", ")
     }
 }
