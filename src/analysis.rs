@@ -54,6 +54,7 @@ pub fn prepare(
     options: &LoadOptions,
     progress: &dyn Progress,
 ) -> Result<Prepared> {
+    crate::data::names::check_data_path(path)?;
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
     // Settings are checked against the header before the rows are read: a misspelt target in a

@@ -21,5 +21,6 @@ pub mod resample;
 pub mod rng;
 pub mod search;
 pub mod study;
+pub mod text;
 pub mod timefmt;
 pub mod verify;

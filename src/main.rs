@@ -18,7 +18,7 @@ fn main() {
             .unwrap_or_default();
         eprintln!(
             "forebear: error: internal error: {}{place}; this is a bug, please report it",
-            one_line(&message)
+            forebear::text::for_terminal(&one_line(&message))
         );
     }));
     // Arguments that are not valid Unicode are kept (lossily) for the record rather than panicking.
@@ -35,7 +35,12 @@ fn main() {
         // The reader of our output went away: not a failure, and nothing left to say.
         Ok(Err(forebear::error::Error::ClosedPipe)) => {}
         Ok(Err(error)) => {
-            eprintln!("forebear: error: {}", one_line(&error.to_string()));
+            // Names, values and paths inside the message are the user's: no control sequence or
+            // bidirectional control of theirs reaches the terminal.
+            eprintln!(
+                "forebear: error: {}",
+                forebear::text::for_terminal(&one_line(&error.to_string()))
+            );
             std::process::exit(error.exit_code());
         }
         Err(_) => std::process::exit(3),
@@ -73,7 +78,10 @@ fn usage_error(error: clap::Error) -> ! {
         || "forebear --help".to_string(),
         |c| format!("forebear {c} --help"),
     );
-    eprintln!("forebear: error: {message}; see '{help}'");
+    eprintln!(
+        "forebear: error: {}; see '{help}'",
+        forebear::text::for_terminal(message)
+    );
     std::process::exit(2);
 }
 

@@ -67,14 +67,54 @@ fn one_line(command: &str) -> String {
     command.replace(['\n', '\r'], "\u{FFFD}")
 }
 
-fn shell_quote(text: &str) -> String {
+/// `text` as one word of a POSIX shell command (IEEE Std 1003.1-2024, Shell Command Language,
+/// section 2.2): bare when it holds only characters no shell treats specially; in single quotes
+/// (2.2.2, a quote inside written `'\''`) otherwise; and in dollar-single-quotes (2.2.4) when it
+/// holds a control, bidirectional or invisible character ([`crate::text::hidden_character`]),
+/// each byte of such a character written as a three-digit octal escape, so that the command
+/// stays on one line, shows what it names, and names exactly that text.
+pub fn shell_quote(text: &str) -> String {
     if !text.is_empty()
         && text
             .chars()
             .all(|c| c.is_ascii_alphanumeric() || "-_./,=".contains(c))
     {
-        text.to_string()
-    } else {
-        format!("'{}'", text.replace('\'', r"'\''"))
+        return text.to_string();
+    }
+    if !text
+        .chars()
+        .any(|c| crate::text::hidden_character(c).is_some())
+    {
+        return format!("'{}'", text.replace('\'', r"'\''"));
+    }
+    let mut out = String::from("$'");
+    for c in text.chars() {
+        match c {
+            '\\' | '\'' => {
+                out.push('\\');
+                out.push(c);
+            }
+            c if crate::text::hidden_character(c).is_some() => {
+                for byte in c.encode_utf8(&mut [0; 4]).bytes() {
+                    out.push_str(&format!("\\{byte:03o}"));
+                }
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('\'');
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shell_words_name_exactly_their_text() {
+        assert_eq!(shell_quote("data/x.csv"), "data/x.csv");
+        assert_eq!(shell_quote("it's.csv"), r"'it'\''s.csv'");
+        assert_eq!(shell_quote("a\nb.csv"), r"$'a\012b.csv'");
+        assert_eq!(shell_quote("x\u{202e}'\\1"), r"$'x\342\200\256\'\\1'");
     }
 }

@@ -193,6 +193,7 @@ fn assert_matches_snapshot(dir: &Path, data: &Path, target: &str) {
     text = text.replace(build, "BUILD_COMMIT");
     text = text.replace(&build[..build.len().min(12)], "BUILD_COMMIT");
     text = text.replace("BUILD_COMMIT-modified", "BUILD_COMMIT");
+    text = text.replace("BUILD_COMMIT, with uncommitted changes", "BUILD_COMMIT");
     text = text.replace(&found.run.started_utc[..10], "ANALYSIS_DATE");
     let snapshot = Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("tests/snapshots")

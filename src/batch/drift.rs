@@ -267,7 +267,10 @@ pub fn sets(parent_sets: &[Vec<String>]) -> String {
     }
     parent_sets
         .iter()
-        .map(|s| format!("{{{}}}", s.join(", ")))
+        .map(|s| {
+            let shown: Vec<String> = s.iter().map(|n| crate::text::list_item(n)).collect();
+            format!("{{{}}}", shown.join(", "))
+        })
         .collect::<Vec<_>>()
         .join(" or ")
 }

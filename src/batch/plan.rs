@@ -216,8 +216,9 @@ impl Shard {
     pub fn parse(text: &str) -> crate::error::Result<Shard> {
         let bad = |why: &str| {
             crate::error::Error::input(format!(
-                "--shard '{text}' {why}; write i/N with 0 ≤ i < N, e.g. 0/3, 1/3 and 2/3 for three \
-                 shards (numbered from 0, like Slurm array and Kubernetes completion indices)"
+                "--shard {} {why}; write i/N with 0 ≤ i < N, e.g. 0/3, 1/3 and 2/3 for three \
+                 shards (numbered from 0, like Slurm array and Kubernetes completion indices)",
+                crate::text::quoted(text)
             ))
         };
         let (i, n) = text.split_once('/').ok_or_else(|| bad("is not i/N"))?;
@@ -267,7 +268,8 @@ impl Collector<'_> {
             self.at(
                 Some(key_span),
                 format!(
-                    "unknown key '{key}' in {place}; the keys there are: {}",
+                    "unknown key {} in {place}; the keys there are: {}",
+                    crate::text::quoted(&key),
                     known.join(", ")
                 ),
             );
@@ -277,7 +279,8 @@ impl Collector<'_> {
         match T::deserialize(ValueDeserializer::from(value)) {
             Ok(v) => Some(v),
             Err(e) => {
-                let message = format!("{place}: {}", e.message().trim());
+                // A library's message may hold the value itself: bounded like any echo.
+                let message = format!("{place}: {}", bounded(e.message()));
                 self.at(e.span().or(Some(span)), message);
                 None
             }
@@ -302,7 +305,7 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
     let root = DeTable::parse(text).map_err(|e| {
         vec![Problem {
             line: e.span().map(|s| line_of(text, s.start)),
-            message: format!("not a TOML file: {}", e.message().trim()),
+            message: format!("not a TOML file: {}", bounded(e.message())),
         }]
     })?;
     let mut c = Collector {
@@ -324,14 +327,15 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
             ("defaults", _) | ("study", _) => c.at(
                 Some(key.span()),
                 format!(
-                    "'{}' must be a table: write [defaults] once and [[study]] for each study",
-                    key.get_ref()
+                    "{} must be a table: write [defaults] once and [[study]] for each study",
+                    crate::text::quoted(key.get_ref())
                 ),
             ),
             (other, _) => c.at(
                 Some(key.span()),
                 format!(
-                    "unknown top-level key '{other}'; a plan holds [defaults] and [[study]] tables"
+                    "unknown top-level key {}; a plan holds [defaults] and [[study]] tables",
+                    crate::text::quoted(other)
                 ),
             ),
         }
@@ -364,8 +368,8 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
                 c.at(
                     Some(k.span()),
                     format!(
-                        "unknown key '{}' in {place}; the keys there are: {}",
-                        k.get_ref(),
+                        "unknown key {} in {place}; the keys there are: {}",
+                        crate::text::quoted(k.get_ref()),
                         all_known.join(", ")
                     ),
                 );
@@ -392,9 +396,15 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
     Ok(studies)
 }
 
+/// A parser's message, on one line and of bounded length (it may quote the plan's text).
+fn bounded(message: &str) -> String {
+    let line = message.split_whitespace().collect::<Vec<_>>().join(" ");
+    crate::text::capped(&crate::text::escaped(&line), 2 * crate::text::ECHO_CHARS)
+}
+
 fn study_place(table: &DeTable<'_>, n: usize) -> String {
     match table.get("name").and_then(|v| v.get_ref().as_str()) {
-        Some(name) => format!("[[study]] '{}'", name.escape_debug()),
+        Some(name) => format!("[[study]] {}", crate::text::quoted(name)),
         None => format!("[[study]] number {}", n + 1),
     }
 }
@@ -454,5 +464,37 @@ mod tests {
         // Targets are column names: spaces are fine there, separators are not.
         assert_eq!(unsafe_name("crush strength", false), None);
         assert!(unsafe_name("a/b", false).is_some());
+    }
+
+    #[test]
+    fn windows_device_names_and_hidden_characters_are_not_folder_names() {
+        for name in [
+            "CON",
+            "con",
+            "Aux",
+            "nul.txt",
+            "PRN.tar.gz",
+            "lpt9",
+            "COM1",
+            "com0",
+            "com\u{b9}",
+        ] {
+            assert!(unsafe_name(name, false).is_some(), "{name}");
+            assert!(
+                unsafe_name(name, false)
+                    .unwrap()
+                    .contains("reserved device name"),
+                "{name}"
+            );
+        }
+        for name in ["console", "com10", "auxiliary", "nul_rate", "lpt"] {
+            assert_eq!(unsafe_name(name, false), None, "{name}");
+        }
+        let why = unsafe_name("x2\u{202e}evil", false).unwrap();
+        assert!(
+            why.contains("U+202E") && why.contains("right-to-left override"),
+            "{why}"
+        );
+        assert!(unsafe_name("a\u{200b}b", false).is_some());
     }
 }

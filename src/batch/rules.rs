@@ -7,9 +7,29 @@ use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
 use crate::search::{SelectionRule, StoppingRule};
 use crate::study::StudyInput;
+use crate::text::quoted;
 use clap::ValueEnum;
 use std::collections::BTreeMap;
 use std::path::Path;
+
+/// The device name `name` stands for under the Windows file naming rules (`CON`, `PRN`, `AUX`,
+/// `NUL`, `COM0`–`COM9`, `LPT0`–`LPT9`, also with superscript digits 1–3, in any case, alone or
+/// before an extension such as `nul.txt`), if it is one.
+pub fn windows_device_name(name: &str) -> Option<String> {
+    let stem = name.split('.').next().unwrap_or(name).trim_end_matches(' ');
+    let upper = stem.to_uppercase();
+    let plain = matches!(upper.as_str(), "CON" | "PRN" | "AUX" | "NUL");
+    let numbered = ["COM", "LPT"].iter().any(|prefix| {
+        upper.strip_prefix(prefix).is_some_and(|rest| {
+            let mut digits = rest.chars();
+            matches!(
+                (digits.next(), digits.next()),
+                (Some('0'..='9' | '\u{b9}' | '\u{b2}' | '\u{b3}'), None)
+            )
+        })
+    });
+    (plain || numbered).then_some(upper)
+}
 
 /// Why `name` cannot be a folder name inside the output folder, if it cannot.
 pub fn unsafe_name(name: &str, strict: bool) -> Option<String> {
@@ -22,9 +42,20 @@ pub fn unsafe_name(name: &str, strict: bool) -> Option<String> {
     if let Some(c) = name.chars().find(|c| matches!(c, '/' | '\\')) {
         return Some(format!("contains '{c}'"));
     }
-    if name.chars().any(char::is_control) {
-        return Some("contains a control character".into());
+    if let Some((c, what)) = name
+        .chars()
+        .find_map(|c| crate::text::hidden_character(c).map(|what| (c, what)))
+    {
+        return Some(format!("contains {what}, {}", crate::text::code_point(c)));
     }
+    if let Some(device) = windows_device_name(name) {
+        return Some(format!(
+            "is the reserved device name {device} of the Windows file naming rules (with or \
+             without an extension, in any case): such a folder cannot be created or copied there, \
+             and dossiers must stay portable"
+        ));
+    }
+
     if name.starts_with('.') {
         return Some("starts with '.' (a hidden folder)".into());
     }
@@ -62,16 +93,28 @@ pub(super) fn check_study(
         c.at(
             Some(head.name.span()),
             format!(
-                "the study name '{}' {why}: it is used as a folder name",
-                name.escape_debug()
+                "the study name {} {why}: it is used as a folder name",
+                quoted(&name)
             ),
         );
     }
     let data = head.data.get_ref().clone();
-    if data.trim().is_empty() || data.chars().any(char::is_control) {
+    if data.trim().is_empty() {
         c.at(
             Some(head.data.span()),
             format!("{place}: 'data' must name a CSV file (relative to the plan file)"),
+        );
+    } else if let Some((ch, what)) = data
+        .chars()
+        .find_map(|ch| crate::text::hidden_character(ch).map(|what| (ch, what)))
+    {
+        c.at(
+            Some(head.data.span()),
+            format!(
+                "{place}: the data file name {} holds {what}, {}; rename the file without it",
+                quoted(&data),
+                crate::text::code_point(ch)
+            ),
         );
     }
     let targets = head.targets.get_ref().clone();
@@ -87,8 +130,8 @@ pub(super) fn check_study(
             c.at(
                 Some(head.targets.span()),
                 format!(
-                    "{place}: the target '{}' {why}: it is used as a folder name",
-                    target.escape_debug()
+                    "{place}: the target {} {why}: it is used as a folder name",
+                    quoted(target)
                 ),
             );
         }
@@ -96,8 +139,10 @@ pub(super) fn check_study(
             c.at(
                 Some(head.targets.span()),
                 format!(
-                    "{place}: the target '{target}' is listed twice (as '{other}'; folder names \
-                     that differ only in case collide on some file systems)"
+                    "{place}: the target {} is listed twice (as {}; folder names that differ \
+                     only in case collide on some file systems)",
+                    quoted(target),
+                    quoted(other)
                 ),
             );
         }
@@ -163,7 +208,8 @@ pub(super) fn check_settings(
         None => base.scaling,
         Some(name) => Scaling::parse(name).unwrap_or_else(|| {
             problem(format!(
-                "scaling '{name}' is not known; use rank, standardize or none"
+                "scaling {} is not known; use rank, standardize or none",
+                quoted(name)
             ));
             ok = false;
             base.scaling
@@ -173,7 +219,8 @@ pub(super) fn check_settings(
         None => base.resample,
         Some(name) => PlanKind::parse(name).unwrap_or_else(|| {
             problem(format!(
-                "resample '{name}' is not known; use complementary-pairs, subsample or bootstrap"
+                "resample {} is not known; use complementary-pairs, subsample or bootstrap",
+                quoted(name)
             ));
             ok = false;
             base.resample
@@ -198,7 +245,8 @@ pub(super) fn check_settings(
         None => base.selection.stopping_rule,
         Some(name) => StoppingRule::from_str(name, false).unwrap_or_else(|_| {
             problem(format!(
-                "stopping_rule '{name}' is not known; use calibrated or natural"
+                "stopping_rule {} is not known; use calibrated or natural",
+                quoted(name)
             ));
             ok = false;
             base.selection.stopping_rule
@@ -222,7 +270,8 @@ pub(super) fn check_settings(
     for token in s.missing_tokens.iter().flatten() {
         if token.contains(',') {
             problem(format!(
-                "the missing_tokens entry '{token}' contains a comma; list each token separately"
+                "the missing_tokens entry {} contains a comma; list each token separately",
+                quoted(token)
             ));
             ok = false;
         }
@@ -231,7 +280,8 @@ pub(super) fn check_settings(
     for target in targets.unwrap_or_default() {
         if exclude.contains(target) {
             problem(format!(
-                "the target '{target}' is also excluded; remove it from 'exclude'"
+                "the target {} is also excluded; remove it from 'exclude'",
+                quoted(target)
             ));
             ok = false;
         }
@@ -262,9 +312,10 @@ pub(super) fn check_duplicates(c: &mut Collector, names: &[(String, usize)]) {
             c.problems.push(Problem {
                 line: Some(*line),
                 message: format!(
-                    "the study name '{}' is used twice (also '{other}' on line {other_line}); \
-                     names must be unique, ignoring case, since each is a folder",
-                    name
+                    "the study name {} is used twice (also {} on line {other_line}); names must \
+                     be unique, ignoring case, since each is a folder",
+                    quoted(name),
+                    quoted(other)
                 ),
             });
         } else {

@@ -34,14 +34,18 @@ pub fn run_pairs(
     let mut studies: BTreeMap<String, StudySummary> = BTreeMap::new();
     for (n, pair) in pairs.iter().enumerate() {
         let started = Instant::now();
-        let entry = run_pair(pair, dir, command_line);
+        let (entry, full_error) = run_pair(pair, dir, command_line);
+        let said = match &full_error {
+            // The log gets the whole message; the index only its place (see `public_error`).
+            Some(message) => format!("FAILED: {message}"),
+            None => describe(&entry),
+        };
         progress.say(&format!(
-            "[{}/{}] {}/{}: {} ({:.1} s)",
+            "[{}/{}] {}/{}: {said} ({:.1} s)",
             n + 1,
             pairs.len(),
             pair.study.name,
             pair.target,
-            describe(&entry),
             started.elapsed().as_secs_f64()
         ));
         studies
@@ -86,41 +90,85 @@ fn describe(entry: &Entry) -> String {
 }
 
 /// Analyses one pair into `dir/<study>/<target>/`. A panic inside is a bug; it fails this pair
-/// only (the panic hook has printed it) and is recorded as an internal error.
-fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> Entry {
+/// only (the panic hook has printed it) and is recorded as an internal error. A failed analysis
+/// also returns its whole message, for stderr only.
+fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<String>) {
     let relative = format!("{}/{}", pair.study.name, pair.target);
     let folder = dir.join(&pair.study.name).join(pair.target);
-    let work = || -> crate::error::Result<Finding> {
+    let work = || -> std::result::Result<Finding, (crate::error::Error, bool)> {
         let analysed = analyze_file(
             &pair.study.data_path,
             &pair.study.input(pair.target),
             &pair.study.load,
             command_line.to_vec(),
             &Silent,
-        )?;
-        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent)?;
-        crate::report::write_dossier(&analysed, claim)?;
+        )
+        .map_err(|e| (e, true))?;
+        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent).map_err(|e| (e, false))?;
+        crate::report::write_dossier(&analysed, claim).map_err(|e| (e, false))?;
         Ok(analysed.finding)
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
-        Ok(Ok(finding)) => entry_of(&finding, pair.index, relative),
-        Ok(Err(e)) => failed(pair.index, &e),
-        Err(_) => failed(
-            pair.index,
-            &crate::error::Error::internal("the analysis stopped on a bug (see the message above)"),
+        Ok(Ok(finding)) => (entry_of(&finding, pair.index, relative), None),
+        Ok(Err((e @ crate::error::Error::Input(_), true))) => {
+            let message = e.to_string();
+            let shown = pair.study.data_path.display().to_string();
+            let public = public_error(&message, &shown, &pair.study.data);
+            (failed(pair.index, public, Failure::Input), Some(message))
+        }
+        Ok(Err((e, _))) => (failed_with(pair.index, &e), None),
+        Err(_) => (
+            failed_with(
+                pair.index,
+                &crate::error::Error::internal(
+                    "the analysis stopped on a bug (see the message above)",
+                ),
+            ),
+            None,
         ),
     }
 }
 
-/// The entry of a pair that failed with `error`.
-pub fn failed(pair: usize, error: &crate::error::Error) -> Entry {
+/// What the index and the summary say of data the reader refused: the file as the plan names it
+/// and the place (line, column), never the message itself. The reader's messages quote the file
+/// (a header, a value), and a file that is no data at all (a system file named by mistake, a
+/// binary) would have its first line copied into the index, which is read more widely than the
+/// data; the whole message is on stderr.
+fn public_error(message: &str, shown: &str, data: &str) -> String {
+    let rest = message.strip_prefix(shown).unwrap_or("");
+    let number_after = |label: &str| -> Option<u64> {
+        let text = rest.strip_prefix(label)?;
+        let digits: String = text.chars().take_while(char::is_ascii_digit).collect();
+        digits.parse().ok()
+    };
+    let line = number_after(", line ");
+    let column = line.and_then(|l| number_after(&format!(", line {l}, column ")));
+    let place = match (line, column) {
+        (Some(l), Some(c)) => format!(" at line {l}, column {c}"),
+        (Some(l), None) => format!(" at line {l}"),
+        _ => String::new(),
+    };
+    format!(
+        "the data file {} could not be analysed{place} (bad input); the reason is in the \
+         batch's messages on stderr, since it may quote the file, which the index does not",
+        crate::text::quoted(data)
+    )
+}
+
+/// The entry of a pair that failed with `error`; its kind is taken from the error's variant.
+pub fn failed_with(pair: usize, error: &crate::error::Error) -> Entry {
     let failure = match error {
         crate::error::Error::Internal(_) => Failure::Internal,
         _ => Failure::Input,
     };
+    failed(pair, error.to_string(), failure)
+}
+
+/// The entry of a failed pair: what the index says, and the kind of failure.
+pub fn failed(pair: usize, error: String, failure: Failure) -> Entry {
     Entry {
         status: Status::Failed,
-        error: Some(one_line(&error.to_string())),
+        error: Some(one_line(&error)),
         failure: Some(failure),
         pair,
         outcome: None,
@@ -213,9 +261,9 @@ mod tests {
     #[test]
     fn failure_kind_comes_from_the_error_not_its_text() {
         // A user's message that happens to read "internal error" is still an input failure.
-        let input = failed(3, &Error::input("internal error: a column named so"));
+        let input = failed_with(3, &Error::input("internal error: a column named so"));
         assert_eq!(input.failure, Some(Failure::Input));
-        let bug = failed(4, &Error::internal("an unexpected state"));
+        let bug = failed_with(4, &Error::internal("an unexpected state"));
         assert_eq!(bug.failure, Some(Failure::Internal));
         assert_eq!(bug.status, Status::Failed);
         // Older summaries have no kind; they read as None, which batch treats as an input failure.

@@ -149,7 +149,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             "scheme": test.as_ref().map(|t| t.scheme),
             "seed": args.seed, "scaling": scaling.name(),
         });
-        super::out::line(&serde_json::to_string_pretty(&value).expect("plain JSON"))?;
+        super::out::json(&serde_json::to_string_pretty(&value).expect("plain JSON"))?;
     } else {
         let given_text = if given.is_empty() {
             String::new()

@@ -37,7 +37,7 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
         });
         let text = serde_json::to_string_pretty(&value)
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
-        super::out::line(&text)?;
+        super::out::json(&text)?;
     } else {
         super::out::line(&format!("file            {}", args.data.display()))?;
         super::out::line(&format!("bytes sha256    {bytes}"))?;

@@ -57,7 +57,7 @@ pub struct Stderr {
 impl Progress for Stderr {
     fn say(&self, message: &str) {
         if !self.quiet {
-            eprintln!("forebear: {message}");
+            eprintln!("forebear: {}", crate::text::for_terminal(message));
         }
     }
 }

@@ -13,8 +13,16 @@ pub fn print(text: &str) -> Result<()> {
         .map_err(|e| stdout_error(&e))
 }
 
-/// Writes `text` and a line break to standard output.
+/// Writes a line of text for a person to standard output, with control, bidirectional and
+/// invisible characters shown as escapes ([`crate::text::for_terminal`]), so that a name or a path
+/// never sends an escape sequence to the terminal.
 pub fn line(text: &str) -> Result<()> {
+    print(&format!("{}\n", crate::text::for_terminal(text)))
+}
+
+/// Writes a JSON document and a line break to standard output as it is: JSON escapes control
+/// characters itself, and a program reading it needs the exact text.
+pub fn json(text: &str) -> Result<()> {
     print(&format!("{text}\n"))
 }
 

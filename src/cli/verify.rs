@@ -56,7 +56,7 @@ pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Resu
     if args.json {
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| Error::internal(format!("verification report: {e}")))?;
-        super::out::line(&text)?;
+        super::out::json(&text)?;
     } else {
         super::out::print(&render_text(&report))?;
     }

@@ -151,20 +151,10 @@ fn shorten(text: &str) -> String {
     text.chars().take(TEXT_CHARS).collect()
 }
 
-/// A text in quotes for a message, on one line and of bounded length.
+/// A text in quotes for a message, on one line, of bounded length, with hidden characters
+/// escaped ([`crate::text::quoted`]).
 pub fn quoted(text: &str) -> String {
-    const LIMIT: usize = 40;
-    let shown: String = text
-        .chars()
-        .take(LIMIT)
-        .flat_map(char::escape_debug)
-        .collect();
-    let ellipsis = if text.chars().count() > LIMIT {
-        "…"
-    } else {
-        ""
-    };
-    format!("'{shown}{ellipsis}'")
+    crate::text::quoted(text)
 }
 
 /// Joins the lines of a library's message so that the error stays one line.
@@ -250,7 +240,10 @@ mod tests {
     #[test]
     fn quoted_values_stay_on_one_line_and_short() {
         assert_eq!(quoted("a\nb"), "'a\\nb'");
-        assert_eq!(quoted(&"x".repeat(50)), format!("'{}…'", "x".repeat(40)));
+        assert_eq!(
+            quoted(&"x".repeat(250)),
+            format!("'{}… (250 bytes)'", "x".repeat(200))
+        );
     }
 
     #[test]

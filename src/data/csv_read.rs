@@ -342,7 +342,7 @@ fn check_names(names: &[String], file: &str, line: u64, delimiter: u8) -> Result
             )));
         }
     }
-    Ok(())
+    super::names::check(names, file, line)
 }
 
 #[cfg(test)]

@@ -6,6 +6,7 @@ pub mod compare;
 pub mod csv_read;
 pub mod fingerprint;
 pub mod load;
+pub mod names;
 pub mod table;
 mod unreadable;
 

@@ -144,9 +144,12 @@ impl Drop for Staging {
 fn dispose_of_former(old: &Path, former: &Former) {
     if let Err(e) = remove_former(old, former) {
         eprintln!(
-            "forebear: warning: the former output moved aside to '{}' could not be removed ({e}); \
-             the new output is in place; remove it by hand",
-            old.display()
+            "forebear: warning: {}",
+            crate::text::for_terminal(&format!(
+                "the former output moved aside to '{}' could not be removed ({e}); the new output \
+                 is in place; remove it by hand",
+                old.display()
+            ))
         );
     }
 }

@@ -40,7 +40,13 @@ impl Renderer for Html {
 /// The whole HTML document for the dossier text `markdown` of `finding`.
 pub fn html_document(finding: &Finding, markdown: &str) -> String {
     let body = markdown_to_html(markdown, |name| figure(name, finding));
-    let study = format!("{} in {}", finding.target, finding.data.file);
+    // The file name is the user's: hidden characters (a bidirectional override) are shown as
+    // escapes, not obeyed. Column names cannot hold them (the reader refuses such names).
+    let study = format!(
+        "{} in {}",
+        finding.target,
+        crate::text::escaped(&finding.data.file)
+    );
     let header = format!(
         "forebear dossier · {study} · digest {}",
         &finding.digest[..finding.digest.len().min(16)]

@@ -64,7 +64,8 @@ fn environment() -> Result<Environment<'static>> {
     env.add_filter("pct", percent);
     env.add_filter("names", names);
     env.add_filter("braced", |list: Vec<String>| {
-        format!("{{{}}}", list.join(", "))
+        let shown: Vec<String> = list.iter().map(|n| crate::text::list_item(n)).collect();
+        format!("{{{}}}", shown.join(", "))
     });
     env.add_template("dossier.md", TEMPLATE)
         .map_err(|e| Error::internal(format!("dossier template: {e}")))?;
@@ -72,8 +73,9 @@ fn environment() -> Result<Environment<'static>> {
 }
 
 /// Escapes text for Markdown (CommonMark with tables): punctuation that could start markup is
-/// backslash-escaped, line breaks become spaces, so the text renders literally, `<` and `&`
-/// included, and cannot end a table cell.
+/// backslash-escaped, line breaks and other hidden characters are shown as escapes
+/// ([`crate::text::hidden_character`]), so the text renders literally, `<` and `&` included, and
+/// cannot end a table cell or reorder the text around it.
 pub fn escape_markdown(text: &str) -> String {
     let mut out = String::with_capacity(text.len());
     for c in text.chars() {
@@ -83,8 +85,17 @@ pub fn escape_markdown(text: &str) -> String {
                 out.push('\\');
                 out.push(c);
             }
-            '\n' | '\r' | '\t' => out.push(' '),
-            c if c.is_control() => out.push('\u{FFFD}'),
+            // Shown as escapes (`\n`, `\u{202e}`, with the backslash itself escaped for
+            // Markdown), so that no line break, control or invisible character of a file name
+            // reaches the text and no bidirectional control reorders it.
+            c if crate::text::hidden_character(c).is_some() => {
+                for e in crate::text::escaped(c.encode_utf8(&mut [0; 4])).chars() {
+                    if matches!(e, '\\' | '{' | '}') {
+                        out.push('\\');
+                    }
+                    out.push(e);
+                }
+            }
             c => out.push(c),
         }
     }
@@ -127,7 +138,8 @@ fn names(list: Vec<String>) -> String {
     if list.is_empty() {
         "none".to_string()
     } else {
-        list.join(", ")
+        let shown: Vec<String> = list.iter().map(|n| crate::text::list_item(n)).collect();
+        shown.join(", ")
     }
 }
 
@@ -243,7 +255,6 @@ fn fence_for(text: &str) -> String {
     "`".repeat((longest + 1).max(3))
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -254,7 +265,8 @@ mod tests {
             escape_markdown("<img src=x onerror=alert(1)>"),
             r"\<img src=x onerror=alert(1)\>"
         );
-        assert_eq!(escape_markdown("a|b*c\nd"), r"a\|b\*c d");
+        assert_eq!(escape_markdown("a|b*c\nd"), r"a\|b\*c\\nd");
+        assert_eq!(escape_markdown("x2\u{202e}evil"), r"x2\\u\{202e\}evil");
     }
 
     #[test]

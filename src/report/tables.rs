@@ -6,6 +6,10 @@
 //! as text instead of evaluating. Numeric cells are written by forebear from numbers and are never
 //! changed (so `-0.123` stays a number); a text cell that is itself a plain decimal number, such as a
 //! column named `-1`, is left alone too, since it cannot hold a formula.
+//!
+//! A text that itself begins with an apostrophe gets one more, so that no two texts are written
+//! alike: `=a` is written `'=a` and a column really named `'=a` is written `''=a`. Reading a cell
+//! back is therefore exact: a leading apostrophe is always the guard's, and is removed once.
 
 use super::Renderer;
 use crate::error::{Error, Result};
@@ -33,8 +37,8 @@ fn number(x: impl ToString) -> Cell {
 
 /// Neutralises a text cell against formula evaluation (see the module comment).
 pub fn neutralise(cell: &str) -> String {
-    let risky = cell.starts_with(['=', '+', '-', '@', '\t', '\r']);
-    if risky && !is_plain_number(cell) {
+    let risky = cell.starts_with(['=', '+', '-', '@', '\t', '\r']) && !is_plain_number(cell);
+    if risky || cell.starts_with('\'') {
         format!("'{cell}")
     } else {
         cell.to_string()
@@ -145,7 +149,7 @@ impl Renderer for TraceCsv {
                     rows.push(vec![
                         text(response),
                         number(step.step),
-                        text(&step.conditioning.join(";")),
+                        text(&name_list(&step.conditioning)),
                         text(&candidate.column),
                         number(candidate.t_n),
                         number(candidate.numerator),
@@ -162,7 +166,7 @@ impl Renderer for TraceCsv {
                 rows.push(vec![
                     text(response),
                     number(t.round),
-                    text(&t.conditioning.join(";")),
+                    text(&name_list(&t.conditioning)),
                     text(&t.member),
                     optional(t.t_n),
                     number(t.numerator),
@@ -177,6 +181,16 @@ impl Renderer for TraceCsv {
         }
         write_csv(&header, rows)
     }
+}
+
+/// A set of column names in one cell, separated by `;`; a `;` or `\` inside a name is preceded by
+/// `\`, so that the set {`a`, `b`} (`a;b`) and a column named `a;b` (`a\;b`) are written apart.
+fn name_list(names: &[String]) -> String {
+    let escaped: Vec<String> = names
+        .iter()
+        .map(|n| n.replace('\\', "\\\\").replace(';', "\\;"))
+        .collect();
+    escaped.join(";")
 }
 
 /// A number, or an empty cell when there is none.
@@ -196,5 +210,28 @@ mod tests {
         assert_eq!(neutralise("@SUM(A1)"), "'@SUM(A1)");
         assert_eq!(neutralise("-0.123"), "-0.123");
         assert_eq!(neutralise("plain"), "plain");
+    }
+
+    #[test]
+    fn a_set_of_names_and_a_name_holding_the_separator_are_written_apart() {
+        let names = |v: &[&str]| v.iter().map(|s| s.to_string()).collect::<Vec<_>>();
+        assert_eq!(name_list(&names(&["a", "b"])), "a;b");
+        assert_eq!(name_list(&names(&["a;b"])), "a\\;b");
+        assert_eq!(name_list(&names(&["a\\", "b"])), "a\\\\;b");
+        assert_ne!(
+            name_list(&names(&["a\\;b"])),
+            name_list(&names(&["a\\", "b"]))
+        );
+    }
+
+    #[test]
+    fn the_formula_guard_never_writes_two_texts_alike() {
+        assert_eq!(neutralise("=a"), "'=a");
+        assert_eq!(neutralise("'=a"), "''=a");
+        assert_eq!(neutralise("'plain"), "''plain");
+        let texts = ["=a", "'=a", "''=a", "a", "'a", "-1", "'-1", "+x", "'+x"];
+        let written: std::collections::BTreeSet<String> =
+            texts.iter().map(|t| neutralise(t)).collect();
+        assert_eq!(written.len(), texts.len());
     }
 }

@@ -80,19 +80,12 @@ pub(super) fn check(name: &str, status: Status, details: Vec<String>) -> Check {
     }
 }
 
-/// `text` with control characters and characters that print as nothing or reorder text (format
-/// and combining characters) written as `\u{…}` escapes, everything else as it is: what a
-/// reviewer reads of a name or a line is what is there.
+/// `text` with control characters and characters that print as nothing or reorder text written
+/// as `\u{…}` escapes, everything else as it is ([`crate::text::escaped`]), cut at
+/// [`crate::text::ECHO_CHARS`] characters: what a reviewer reads of a name or a line is what is
+/// there.
 pub(super) fn visible(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        if matches!(c, '\\' | '\'' | '"') {
-            out.push(c);
-        } else {
-            out.extend(c.escape_debug());
-        }
-    }
-    out
+    crate::text::capped(&crate::text::escaped(text), crate::text::ECHO_CHARS)
 }
 
 /// The report as text for a reviewer to paste: one block per check, the verdict on the last line.
@@ -127,5 +120,8 @@ pub fn render_text(report: &Report) -> String {
         ));
     }
     out.push_str(&format!("\n{}\n", report.verdict));
-    out
+    // The paths and details hold the user's names: no control sequence reaches the terminal.
+    out.lines()
+        .map(|line| crate::text::for_terminal(line) + "\n")
+        .collect()
 }
