@@ -5,9 +5,11 @@ pub mod checks;
 pub mod compare;
 pub mod csv_read;
 pub mod fingerprint;
+pub mod limits;
 pub mod load;
+pub mod source;
 pub mod table;
 mod unreadable;
 
-pub use load::{read_csv, LoadOptions, MissingPolicy, RawTable};
+pub use load::{read_csv, read_data, DataReader, LoadOptions, MissingPolicy, RawTable};
 pub use table::{DataReport, Table};
