@@ -1,7 +1,7 @@
 //! The analyze pipeline as library calls: read, validate, search the full data, run replicates,
 //! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
-use crate::data::checks::FileFacts;
+use crate::data::checks::{rounding_note, FileFacts};
 use crate::data::fingerprint::{content_index, ContentIndex};
 use crate::data::{DataReader, DataReport, LoadOptions, RawTable, Table};
 use crate::error::{Error, Result};
@@ -109,8 +109,12 @@ fn assemble(
         report.file
     ));
     for column in &report.constant_columns {
+        let rounding = report
+            .constant_by_rounding
+            .get(column)
+            .map_or(String::new(), |texts| format!(": {}", rounding_note(texts)));
         progress.say(&format!(
-            "column '{column}' is constant on the rows used and is left out"
+            "column '{column}' is constant on the rows used and is left out{rounding}"
         ));
     }
     for (column, original) in &report.duplicate_columns {

@@ -3,6 +3,7 @@
 //! permuted over all rows without `--given`, locally within blocks of nearby rows of the `--given`
 //! columns otherwise; every draw is made, so p = (G + 1)/(N + 1) with G of N draws at or above T_n.
 
+use crate::data::checks::rounding_note;
 use crate::data::DataReader;
 use crate::error::{Error, Result};
 use crate::measure::permutation::{max_statistic_test, NullScheme, Observed, TestPlan};
@@ -87,9 +88,15 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         )));
     }
     if let Some(c) = report.constant_columns.first() {
+        let rounding = report
+            .constant_by_rounding
+            .get(c)
+            .map_or(String::new(), |texts| {
+                format!(" ({})", rounding_note(texts))
+            });
         return Err(Error::input(format!(
-            "{}, column '{c}': the column is constant on the rows used, so it carries no information; \
-             leave it out",
+            "{}, column '{c}': the column is constant on the rows used{rounding}, so it carries no \
+             information; leave it out",
             report.file
         )));
     }

@@ -5,6 +5,7 @@
 use super::cells::{is_number_text, one_line, quoted};
 use super::checks::FileFacts;
 use super::limits::{size_text, MAX_FIELD_BYTES, MAX_RECORD_BYTES};
+use super::signature::{encoding_hint, wide_encoding};
 use super::source::{is_record_too_long, Source};
 use crate::error::{Error, Result};
 use std::collections::BTreeMap;
@@ -138,7 +139,7 @@ impl Records {
             let offset = self.first_invalid_byte();
             let at = offset.map_or(String::new(), |(o, _)| format!(", byte offset {o}"));
             let shown = offset.map_or(String::new(), |(_, b)| format!(" (byte 0x{b:02X})"));
-            let (hint, binary) = encoding_hint(bytes);
+            let (hint, binary) = encoding_hint(self.reader.get_ref().head(), bytes);
             // The text of a binary file says nothing to a reader: leave it out.
             let value = if binary {
                 "the value".to_string()
@@ -177,8 +178,9 @@ impl Records {
             if name.contains('\0') {
                 return Err(Error::input(format!(
                     "{file}, line {line}, column {}: the column name holds zero bytes, as text saved \
-                     as UTF-16 does; save the file as UTF-8",
-                    j + 1
+                     as {} does; save the file as UTF-8",
+                    j + 1,
+                    wide_encoding(self.reader.get_ref().head()).unwrap_or("UTF-16 or UTF-32")
                 )));
             }
             let name = name.trim();
@@ -244,36 +246,6 @@ impl Records {
             " (a quoted value runs from line {} to line {last}: check for a quote (\") that is \
              not closed)",
             self.line()
-        )
-    }
-}
-
-/// What the bytes of a value that is not UTF-8 suggest about the file, and whether they look like
-/// a binary format rather than text in another encoding.
-fn encoding_hint(bytes: &[u8]) -> (&'static str, bool) {
-    if bytes.starts_with(b"\xff\xfe") || bytes.starts_with(b"\xfe\xff") {
-        ("the file looks like UTF-16; save it as UTF-8", true)
-    } else if bytes.starts_with(b"PK\x03\x04") {
-        (
-            "the file looks like a ZIP archive or a spreadsheet workbook; export the sheet as CSV \
-             (UTF-8)",
-            true,
-        )
-    } else if bytes.starts_with(b"\x1f\x8b") {
-        (
-            "the file looks compressed (gzip); decompress it first",
-            true,
-        )
-    } else if bytes.starts_with(b"\xd0\xcf\x11\xe0") {
-        (
-            "the file looks like a legacy spreadsheet workbook; export the sheet as CSV (UTF-8)",
-            true,
-        )
-    } else {
-        (
-            "the file seems to be saved in another encoding (such as Latin-1 or Windows-1252); \
-             save it as UTF-8",
-            false,
         )
     }
 }
@@ -365,14 +337,5 @@ mod tests {
         assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), b';'), Some(b','));
         assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), b','), None);
         assert_eq!(foreign_delimiter(&names(&["plain"]), b','), None);
-    }
-
-    #[test]
-    fn encoding_hints_name_the_likely_format() {
-        assert!(encoding_hint(b"\xff\xfex\0").0.contains("UTF-16"));
-        assert!(encoding_hint(b"PK\x03\x04rest").0.contains("spreadsheet"));
-        assert!(encoding_hint(b"\x1f\x8b\x08").0.contains("gzip"));
-        let (hint, binary) = encoding_hint(b"caf\xe9");
-        assert!(hint.contains("Latin-1") && !binary);
     }
 }

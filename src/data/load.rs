@@ -7,6 +7,7 @@ use super::checks::FileFacts;
 use super::csv_read::{Records, DELIMITERS};
 use super::limits::{size_text, MAX_COLUMNS, MAX_NAME_BYTES};
 use super::source::Source;
+use super::spelling::Spellings;
 use super::table::DataReport;
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
@@ -185,6 +186,8 @@ pub struct RawTable {
     pub(super) columns: Vec<Vec<f64>>,
     /// The unreadable cells of each column, if it has any.
     pub(super) issues: Vec<Option<ColumnIssues>>,
+    /// Per column, whether distinct decimal texts read as one float (for the constant-column note).
+    pub(super) spellings: Vec<Option<Spellings>>,
     /// The file line on which each data row starts (1-based).
     pub lines: Vec<u64>,
     /// The file line of the header (1 unless blank lines come first).
@@ -222,6 +225,7 @@ impl DataReader {
             file,
             columns: vec![Vec::new(); names.len()],
             issues: vec![None; names.len()],
+            spellings: vec![None; names.len()],
             names,
             lines: Vec::new(),
             header_line,
@@ -252,6 +256,7 @@ impl DataReader {
             names,
             mut columns,
             mut issues,
+            mut spellings,
             mut lines,
             header_line,
         } = header;
@@ -271,7 +276,11 @@ impl DataReader {
                     format!("{file}, line {line}, column {}", quoted(&names[j]))
                 })?;
                 let value = match cells.parse(text) {
-                    Ok(value) => value.unwrap_or(f64::NAN),
+                    Ok(Some(value)) => {
+                        Spellings::observe(&mut spellings[j], text, value, lines.len());
+                        value
+                    }
+                    Ok(None) => f64::NAN,
                     Err(problem) => {
                         match &mut issues[j] {
                             Some(known) => known.add(text, problem),
@@ -295,6 +304,7 @@ impl DataReader {
             names,
             columns,
             issues,
+            spellings,
             lines,
             header_line,
         };
@@ -346,6 +356,7 @@ impl RawTable {
         RawTable {
             file: file.to_string(),
             issues: vec![None; names.len()],
+            spellings: vec![None; names.len()],
             names,
             columns: cells
                 .into_iter()

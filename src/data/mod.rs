@@ -7,7 +7,9 @@ pub mod csv_read;
 pub mod fingerprint;
 pub mod limits;
 pub mod load;
+mod signature;
 pub mod source;
+mod spelling;
 pub mod table;
 mod unreadable;
 

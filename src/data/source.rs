@@ -47,7 +47,12 @@ pub struct Source {
     window_start: u64,
     /// Offset at which the record being read starts.
     record_start: u64,
+    /// The first [`HEAD_BYTES`] bytes of the file, for what its signature says.
+    head: Vec<u8>,
 }
+
+/// How many bytes of the start of a file are kept for its signature.
+const HEAD_BYTES: usize = 16;
 
 impl Source {
     /// Opens `path` (shown as `file` in messages) once. Every problem is one sentence chosen from
@@ -72,6 +77,7 @@ impl Source {
             window: Vec::new(),
             window_start: 0,
             record_start: 0,
+            head: Vec::new(),
         }
     }
 
@@ -92,6 +98,11 @@ impl Source {
         let a = (start - self.window_start) as usize;
         let b = (to.saturating_sub(self.window_start) as usize).min(self.window.len());
         (&self.window[a.min(b)..b], start)
+    }
+
+    /// The first bytes of the file (up to 16).
+    pub fn head(&self) -> &[u8] {
+        &self.head
     }
 
     /// Reads what the CSV reader left (nothing, normally: it reads to the end of the input) so
@@ -131,6 +142,10 @@ impl Read for Source {
         let n = self.input.read(buf)?;
         self.hasher.update(&buf[..n]);
         self.window.extend_from_slice(&buf[..n]);
+        if self.head.len() < HEAD_BYTES {
+            let more = (HEAD_BYTES - self.head.len()).min(n);
+            self.head.extend_from_slice(&buf[..more]);
+        }
         self.size += n as u64;
         Ok(n)
     }
