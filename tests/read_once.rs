@@ -154,7 +154,10 @@ fn a_pipe_given_as_dev_stdin_is_read_once_by_every_command() {
     let value: serde_json::Value = serde_json::from_slice(&printed.stdout).unwrap();
     assert_eq!(value["sha256"], sha256_hex(bytes.as_bytes()));
     assert_eq!(value["size_bytes"], bytes.len());
-    assert_eq!(value["content_sha256"].as_str(), Some(&*content_sha256(&copy)));
+    assert_eq!(
+        value["content_sha256"].as_str(),
+        Some(&*content_sha256(&copy))
+    );
 
     let measured = with_stdin(&[
         "dependence",
