@@ -213,12 +213,14 @@ mod tests {
     fn a_record_past_the_limit_stops_the_reading() {
         let mut source = Source::from_reader(Box::new(io::repeat(0)));
         let mut block = vec![0u8; 1 << 16];
+        let mut read = 0usize;
         let error = loop {
             match source.read(&mut block) {
-                Ok(_) => {}
+                Ok(n) => read += n,
                 Err(e) => break e,
             }
         };
+        assert!(read > MAX_RECORD_BYTES);
         assert!(is_record_too_long(&error));
         assert!(source.window.len() <= MAX_RECORD_BYTES + block.len());
     }
