@@ -51,6 +51,9 @@ pub struct Source {
     head: Vec<u8>,
 }
 
+/// Bytes of finished records kept before the window is compacted.
+const COMPACT_AFTER: usize = 1 << 20;
+
 /// How many bytes of the start of a file are kept for its signature.
 const HEAD_BYTES: usize = 16;
 
@@ -82,13 +85,17 @@ impl Source {
     }
 
     /// Marks the start of the next record at file offset `offset` (as the CSV reader counts):
-    /// bytes before it are no longer kept.
+    /// bytes before it are no longer needed (and dropped in large steps).
     pub fn begin_record(&mut self, offset: u64) {
-        let drop = offset.saturating_sub(self.window_start) as usize;
-        let drop = drop.min(self.window.len());
-        self.window.drain(..drop);
-        self.window_start += drop as u64;
         self.record_start = offset;
+        // Compact only once a good share is behind: moving the read-ahead bytes to the front at
+        // every record would cost a copy of the CSV reader's buffer per row.
+        let behind = offset.saturating_sub(self.window_start) as usize;
+        if behind >= COMPACT_AFTER {
+            let behind = behind.min(self.window.len());
+            self.window.drain(..behind);
+            self.window_start += behind as u64;
+        }
     }
 
     /// The kept bytes from file offset `from` to `to` (clipped to what is kept), and the offset of
@@ -206,7 +213,12 @@ mod tests {
         assert_eq!(source.read(&mut all).unwrap(), 6);
         source.begin_record(3);
         assert_eq!(source.kept(3, 6), (&b"cd\n"[..], 3));
-        assert_eq!(source.kept(0, 6), (&b"cd\n"[..], 3));
+        let mut long = Source::from_reader(Box::new(io::repeat(b'x').take(3 << 20)));
+        let mut block = vec![0u8; 1 << 16];
+        while long.read(&mut block).unwrap() > 0 {}
+        long.begin_record((2 << 20) + 5);
+        assert_eq!(long.kept(0, u64::MAX).1, (2 << 20) + 5);
+        assert_eq!(long.window.len(), (1 << 20) - 5);
     }
 
     #[test]
