@@ -26,6 +26,9 @@ pub struct Records {
     reader: csv::Reader<Source>,
     record: csv::ByteRecord,
     file: String,
+    /// Whether a record that is not blank was read (the header): value lengths are checked from
+    /// the next one on, names by their own, smaller limit.
+    past_header: bool,
 }
 
 impl Records {
@@ -45,6 +48,7 @@ impl Records {
             reader,
             record: csv::ByteRecord::new(),
             file: file.to_string(),
+            past_header: false,
         }
     }
 
@@ -79,7 +83,9 @@ impl Records {
             }
             let blank = self.record.len() == 1 && self.record[0].trim_ascii().is_empty();
             if !more || !blank {
-                if let Some(j) = self.record.iter().position(|f| f.len() > MAX_FIELD_BYTES) {
+                let long = |f: &[u8]| f.len() > MAX_FIELD_BYTES;
+                let checked = std::mem::replace(&mut self.past_header, true);
+                if let Some(j) = self.record.iter().position(long).filter(|_| checked) {
                     return Err(Error::input(format!(
                         "{}, line {}, column {}: the value is longer than {}, the most one value \
                          may hold; check that the file is a CSV file and that every quote (\") is \
