@@ -142,3 +142,22 @@ fn a_row_longer_than_16_mib_is_refused_with_its_line() {
         &["long-row.csv", "line 32", "longer than 16 MiB"],
     );
 }
+
+#[test]
+fn a_header_name_of_a_megabyte_is_refused_by_the_name_limit() {
+    let scratch = Scratch::new("limits-name");
+    let text = format!("{},y\n1,2\n", "n".repeat(1 << 20));
+    let data = scratch.write("long-name.csv", text);
+    let output = analyze_file(&scratch, data.to_str().unwrap());
+    assert_input_error(
+        &output,
+        &scratch,
+        &["long-name.csv"],
+        &[
+            "long-name.csv",
+            "line 1, column 1",
+            "the column name is 1048576 bytes long",
+            "more than 1024 bytes",
+        ],
+    );
+}
