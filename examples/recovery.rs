@@ -18,8 +18,7 @@
 //! For comparison the run also lists the nodes whose flag would change under a purely local
 //! reading (cycles through v using only v's own neighbours, i.e. triangles).
 
-use forebear::data::fingerprint::sha256_file;
-use forebear::data::{read_csv, LoadOptions, Table};
+use forebear::data::{read_data, LoadOptions, Table};
 use forebear::measure::Scaling;
 use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
 use rayon::prelude::*;
@@ -313,7 +312,7 @@ impl NodeResult {
 
 /// Reads the CSV with the crate's reader; these files have no missing cells and no constant column.
 fn load_table(path: &Path) -> Result<Table, String> {
-    let raw = read_csv(path, &LoadOptions::default()).map_err(|e| e.to_string())?;
+    let (raw, facts) = read_data(path, &LoadOptions::default()).map_err(|e| e.to_string())?;
     let mut columns = Vec::new();
     for (j, name) in raw.names.iter().enumerate() {
         let values: Option<Vec<f64>> = raw.column_cells(j).collect();
@@ -324,7 +323,7 @@ fn load_table(path: &Path) -> Result<Table, String> {
         columns.push(values);
     }
     let table = Table::from_columns(raw.names.clone(), columns);
-    let (sha256, _) = sha256_file(path).map_err(|e| e.to_string())?;
+    let sha256 = facts.sha256;
     println!(
         "  {} rows, {} columns, sha256 {}",
         table.n_rows(),

@@ -1,10 +1,9 @@
 //! The analyze pipeline as library calls: read, validate, search the full data, run replicates,
 //! aggregate, assemble the finding. The command-line layer only parses arguments and writes files.
 
-use crate::data::checks::FileFacts;
-use crate::data::fingerprint::{content_index, sha256_file, ContentIndex};
-use crate::data::load::read_header;
-use crate::data::{read_csv, DataReport, LoadOptions, Table};
+use crate::data::checks::{rounding_note, FileFacts};
+use crate::data::fingerprint::{content_index, ContentIndex};
+use crate::data::{DataReader, DataReport, LoadOptions, RawTable, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Finding, RunInfo};
 use crate::resample::stability::{aggregate, run_replicate};
@@ -47,7 +46,9 @@ pub struct Prepared {
     started_utc: String,
 }
 
-/// Reads and validates the data and settings. Nothing is written.
+/// Reads and validates the data and settings. Nothing is written. The file is opened once: the
+/// settings are checked against its header before the rows are read (a misspelt target in a large
+/// file is reported at once), and its bytes are hashed as they are parsed.
 pub fn prepare(
     path: &Path,
     input: &StudyInput,
@@ -57,17 +58,48 @@ pub fn prepare(
     crate::data::names::check_data_path(path)?;
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
-    // Settings are checked against the header before the rows are read: a misspelt target in a
-    // large file is reported at once.
-    let (study, used, target) = Study::new(input, &read_header(path, options)?)?;
-    let raw = read_csv(path, options)?;
-    let (sha256, size_bytes) = sha256_file(path)?;
+    let reader = DataReader::open(path, options)?;
+    let checked = Study::new(input, reader.header())?;
+    let (raw, facts) = reader.read_rows()?;
+    assemble(
+        path,
+        raw,
+        facts,
+        checked,
+        options,
+        progress,
+        (started, started_utc),
+    )
+}
+
+/// As [`prepare`], on data already read (with [`crate::data::read_data`]).
+pub fn prepare_read(
+    path: &Path,
+    (raw, facts): (RawTable, FileFacts),
+    input: &StudyInput,
+    options: &LoadOptions,
+    progress: &dyn Progress,
+) -> Result<Prepared> {
+    let started = (Instant::now(), crate::timefmt::now_rfc3339());
+    let checked = Study::new(input, &raw)?;
+    assemble(path, raw, facts, checked, options, progress, started)
+}
+
+/// The validated table and settings of a read file.
+fn assemble(
+    path: &Path,
+    raw: RawTable,
+    facts: FileFacts,
+    (study, used, target): (Study, Vec<usize>, usize),
+    options: &LoadOptions,
+    progress: &dyn Progress,
+    (started, started_utc): (Instant, String),
+) -> Result<Prepared> {
     let content = content_index(&raw);
     let left_out = (0..raw.names.len())
         .filter(|j| !used.contains(j))
         .map(|j| raw.names[j].clone())
         .collect();
-    let facts = FileFacts { size_bytes, sha256 };
     let (table, report) = raw.prepare(&used, target, left_out, facts, options)?;
     let study = study.on_data(&report)?;
     progress.say(&format!(
@@ -78,8 +110,12 @@ pub fn prepare(
         report.file
     ));
     for column in &report.constant_columns {
+        let rounding = report
+            .constant_by_rounding
+            .get(column)
+            .map_or(String::new(), |texts| format!(": {}", rounding_note(texts)));
         progress.say(&format!(
-            "column '{column}' is constant on the rows used and is left out"
+            "column '{column}' is constant on the rows used and is left out{rounding}"
         ));
     }
     for (column, original) in &report.duplicate_columns {

@@ -67,6 +67,7 @@ fn set_up(case: &Case, scratch: &Scratch) -> Option<Vec<String>> {
     match case.setup.as_deref() {
         Some("absent") => return Some(vec![]),
         Some("folder") => std::fs::create_dir(&data).unwrap(),
+        Some("symlink-loop") => std::os::unix::fs::symlink(&data, &data).unwrap(),
         None | Some("unreadable") => {
             std::fs::copy(corpus().join(&case.name), &data).unwrap();
         }

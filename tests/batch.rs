@@ -440,6 +440,39 @@ fn check_mode_treats_a_missing_data_file_as_a_plan_problem() {
 }
 
 #[test]
+fn a_folder_given_as_a_plans_data_file_is_called_a_folder() {
+    let s = Scratch::with_small_plan("folder-data");
+    std::fs::remove_file(s.path("data/line_a.csv")).unwrap();
+    std::fs::create_dir(s.path("data/line_a.csv")).unwrap();
+    let batch = |args: &[&str]| {
+        Command::new(env!("CARGO_BIN_EXE_forebear"))
+            .current_dir(&s.0)
+            .args(["batch", "small.toml"])
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let checked = batch(&["--check"]);
+    let err = assert_refused(&checked, &["study 'line-a'", "line_a.csv", "is a folder"]);
+    assert!(!err.contains("does not exist"), "{err}");
+    let ran = batch(&["--out", "out"]);
+    let err = assert_refused(&ran, &["is a folder"]);
+    assert!(!err.contains("does not exist"), "{err}");
+    let summary = std::fs::read_to_string(s.path("out/summary.json")).unwrap();
+    assert!(summary.contains("is a folder"), "{summary}");
+}
+
+#[test]
+fn a_plan_asking_for_more_replicates_than_the_limit_is_refused() {
+    let s = Scratch::with_small_plan("replicates-limit");
+    let plan = SMALL_PLAN.replace("replicates = 0", "replicates = 20000");
+    std::fs::write(s.path("small.toml"), plan).unwrap();
+    let checked = s.small(&["--check"]);
+    assert_refused(&checked, &["20000", "above the limit of 10000"]);
+    assert!(!s.path("forebear-batch").exists());
+}
+
+#[test]
 fn a_former_batch_output_is_replaced_only_with_force_and_a_foreign_folder_never() {
     let s = Scratch::with_plan("force");
     assert_eq!(exit_code(&s.batch(&["--out", "out"])), 0);

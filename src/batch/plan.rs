@@ -192,13 +192,36 @@ impl Plan {
             .collect()
     }
 
-    /// Data files that do not exist now (study name, resolved path).
-    pub fn missing_data(&self) -> Vec<(&str, &Path)> {
+    /// Data files that cannot be read now: (study name, resolved path, what is there instead:
+    /// "does not exist", "is a folder, not a CSV file", …).
+    pub fn missing_data(&self) -> Vec<(&str, &Path, &'static str)> {
         self.studies
             .iter()
-            .filter(|s| !s.data_path.is_file())
-            .map(|s| (s.name.as_str(), s.data_path.as_path()))
+            .filter_map(|s| {
+                let why = unusable_data(&s.data_path)?;
+                Some((s.name.as_str(), s.data_path.as_path(), why))
+            })
             .collect()
+    }
+}
+
+/// Why a data path cannot be read as a file, or `None` when it can be opened. A FIFO or another
+/// special file is left to the reader.
+fn unusable_data(path: &Path) -> Option<&'static str> {
+    match std::fs::metadata(path) {
+        Ok(m) if m.is_dir() => Some("is a folder, not a CSV file"),
+        Ok(_) => None,
+        Err(e) => Some(match e.kind() {
+            std::io::ErrorKind::NotFound => "does not exist",
+            std::io::ErrorKind::PermissionDenied => "cannot be reached: permission denied",
+            std::io::ErrorKind::NotADirectory => {
+                "does not exist (a part of its path is not a folder)"
+            }
+            _ if std::fs::symlink_metadata(path).is_ok_and(|m| m.is_symlink()) => {
+                "is a symbolic link that leads nowhere readable (a loop, or too many links)"
+            }
+            _ => "cannot be reached",
+        }),
     }
 }
 

@@ -121,11 +121,8 @@ fn load_plan(args: &BatchArgs) -> Result<Plan> {
             }
             let lines: Vec<String> = missing
                 .iter()
-                .map(|(study, path)| {
-                    format!(
-                        "study '{study}': the data file '{}' does not exist",
-                        path.display()
-                    )
+                .map(|(study, path, why)| {
+                    format!("study '{study}': the data file '{}' {why}", path.display())
                 })
                 .collect();
             if !args.check {

@@ -3,9 +3,8 @@
 //! permuted over all rows without `--given`, locally within blocks of nearby rows of the `--given`
 //! columns otherwise; every draw is made, so p = (G + 1)/(N + 1) with G of N draws at or above T_n.
 
-use crate::data::checks::FileFacts;
-use crate::data::fingerprint::sha256_file;
-use crate::data::read_csv;
+use crate::data::checks::rounding_note;
+use crate::data::DataReader;
 use crate::error::{Error, Result};
 use crate::measure::permutation::{max_statistic_test, NullScheme, Observed, TestPlan};
 use crate::measure::TargetRanks;
@@ -55,8 +54,10 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         )));
     }
     let options = args.reader.load_options()?;
-    let raw = read_csv(&args.data, &options)?;
-    let response = raw.require_column(&args.response, "response")?;
+    // The file is opened once; the columns are checked against its header before the rows are read.
+    let reader = DataReader::open(&args.data, &options)?;
+    let header = reader.header();
+    let response = header.require_column(&args.response, "response")?;
     let on = super::split_names(&args.on);
     let given = super::split_names(&args.given);
     if on.is_empty() {
@@ -67,7 +68,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
     let mut used = vec![response];
     for (names, role) in [(&on, "--on"), (&given, "--given")] {
         for name in names {
-            let j = raw.require_column(name, role)?;
+            let j = header.require_column(name, role)?;
             if used.contains(&j) {
                 return Err(Error::input(format!(
                     "column '{name}' is named twice among --response, --on and --given; each column may \
@@ -77,11 +78,7 @@ pub fn run(args: DependenceArgs) -> Result<()> {
             used.push(j);
         }
     }
-    let (sha, size) = sha256_file(&args.data)?;
-    let facts = FileFacts {
-        size_bytes: size,
-        sha256: sha,
-    };
+    let (raw, facts) = reader.read_rows()?;
     let (table, report) = raw.prepare(&used, response, Vec::new(), facts, &options)?;
     if let Some((c, original)) = report.duplicate_columns.iter().next() {
         return Err(Error::input(format!(
@@ -91,9 +88,15 @@ pub fn run(args: DependenceArgs) -> Result<()> {
         )));
     }
     if let Some(c) = report.constant_columns.first() {
+        let rounding = report
+            .constant_by_rounding
+            .get(c)
+            .map_or(String::new(), |texts| {
+                format!(" ({})", rounding_note(texts))
+            });
         return Err(Error::input(format!(
-            "{}, column '{c}': the column is constant on the rows used, so it carries no information; \
-             leave it out",
+            "{}, column '{c}': the column is constant on the rows used{rounding}, so it carries no \
+             information; leave it out",
             report.file
         )));
     }

@@ -1,7 +1,7 @@
 //! `forebear fingerprint DATA`: both fingerprints of a data file and its shape.
 
-use crate::data::fingerprint::{content_index, sha256_file};
-use crate::data::read_csv;
+use crate::data::fingerprint::content_index;
+use crate::data::read_data;
 use crate::error::{Error, Result};
 use clap::Args;
 use std::path::PathBuf;
@@ -22,8 +22,8 @@ pub struct FingerprintArgs {
 /// Runs `fingerprint`.
 pub fn run(args: FingerprintArgs) -> Result<()> {
     let options = args.reader.load_options()?;
-    let table = read_csv(&args.data, &options)?;
-    let (bytes, size) = sha256_file(&args.data)?;
+    let (table, facts) = read_data(&args.data, &options)?;
+    let (bytes, size) = (facts.sha256, facts.size_bytes);
     let content = content_index(&table);
     if args.json {
         let value = serde_json::json!({

@@ -10,6 +10,9 @@ pub enum CellProblem {
     NotANumber,
     /// `inf`, `nan` or a number too large for a 64-bit float.
     NotFinite,
+    /// A number other than zero too close to zero for a 64-bit float (`1e-400`), which would
+    /// read as 0: refused like a number too large, rather than changed silently.
+    Underflow,
     /// `3,14` read without `--decimal-comma`.
     DecimalComma,
     /// `3.14` (or `1.234,5`) read with `--decimal-comma`.
@@ -22,6 +25,10 @@ impl CellProblem {
         match self {
             CellProblem::NotANumber => "not a number",
             CellProblem::NotFinite => "not a finite number",
+            CellProblem::Underflow => {
+                "a number too close to zero for a 64-bit float (it would read as 0; the smallest is about \
+                 4.9e-324)"
+            }
             CellProblem::DecimalComma => "a number with a decimal comma",
             CellProblem::PointWithDecimalComma => {
                 "a number with a point although --decimal-comma is set (points as thousands \
@@ -79,10 +86,17 @@ impl<'a> CellReader<'a> {
 
 fn finite(text: &str) -> Result<Option<f64>, CellProblem> {
     match text.parse::<f64>() {
+        Ok(value) if value == 0.0 && !is_zero_literal(text) => Err(CellProblem::Underflow),
         Ok(value) if value.is_finite() => Ok(Some(value)),
         Ok(_) => Err(CellProblem::NotFinite),
         Err(_) => Err(CellProblem::NotANumber),
     }
+}
+
+/// Whether a number's digits before its exponent are all zeros (`0`, `-0.000`, `0e5`).
+fn is_zero_literal(text: &str) -> bool {
+    let mantissa = text.split(['e', 'E']).next().unwrap_or(text);
+    !mantissa.bytes().any(|b| (b'1'..=b'9').contains(&b))
 }
 
 /// Plain decimal notation: digits, sign, point and exponent only (no `inf`, `nan`, hex, commas).
@@ -195,6 +209,11 @@ mod tests {
         assert_eq!(cells.parse("-Infinity"), Err(CellProblem::NotFinite));
         assert_eq!(cells.parse("NaN"), Err(CellProblem::NotFinite));
         assert_eq!(cells.parse("1e400"), Err(CellProblem::NotFinite));
+        assert_eq!(cells.parse("1e-400"), Err(CellProblem::Underflow));
+        assert_eq!(cells.parse("-2.5e-330"), Err(CellProblem::Underflow));
+        assert_eq!(cells.parse("5e-324"), Ok(Some(5e-324)));
+        assert_eq!(cells.parse("-0.000e-400"), Ok(Some(-0.0)));
+        assert_eq!(cells.parse("0e999"), Ok(Some(0.0)));
         assert_eq!(cells.parse("abc"), Err(CellProblem::NotANumber));
         assert_eq!(cells.parse("1,5"), Err(CellProblem::DecimalComma));
         assert_eq!(cells.parse("1,234,5"), Err(CellProblem::NotANumber));

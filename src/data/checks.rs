@@ -8,6 +8,16 @@ use crate::error::{Error, Result};
 use std::collections::{BTreeMap, HashMap};
 use std::hash::{Hash, Hasher};
 
+/// Says that two texts of a column are distinct numbers that read as one 64-bit float.
+pub fn rounding_note(texts: &[String; 2]) -> String {
+    format!(
+        "its values differ as text ({} and {}) but are equal as 64-bit floats, which hold about 16 \
+         significant digits",
+        quoted(&texts[0]),
+        quoted(&texts[1])
+    )
+}
+
 /// The fewest rows any sample that T_n or ξ_n is computed on may have.
 pub const MIN_ROWS_PER_SAMPLE: usize = 3;
 
@@ -68,6 +78,7 @@ impl RawTable {
             rows_dropped: rows_read - rows_used,
             missing_by_column,
             constant_columns: Vec::new(),
+            constant_by_rounding: BTreeMap::new(),
             excluded_columns: excluded,
             missing_tokens: options.missing_tokens.clone(),
             delimiter: options.delimiter_text(),
@@ -81,6 +92,7 @@ impl RawTable {
             file,
             names,
             mut columns,
+            spellings,
             ..
         } = self;
         let mut kept: Vec<(usize, Vec<f64>)> = Vec::with_capacity(used.len());
@@ -90,15 +102,26 @@ impl RawTable {
                 retain_rows(&mut values, &keep);
             }
             let constant = values.iter().all(|&v| v == values[0]);
+            let by_rounding = || {
+                spellings[j]
+                    .as_ref()
+                    .and_then(|s| s.distinct_texts(values[0], |r| keep[r]))
+            };
             if constant && j == target {
+                let rounding = by_rounding().map_or(String::new(), |texts| {
+                    format!(" ({})", rounding_note(&texts))
+                });
                 return Err(Error::input(format!(
-                    "{file}, column {}: the target takes the single value {} on every row used, so \
-                     nothing can be said about what drives it; choose a target that varies",
+                    "{file}, column {}: the target takes the single value {} on every row used{rounding}, \
+                     so nothing can be said about what drives it; choose a target that varies",
                     quoted(&names[j]),
                     values[0]
                 )));
             }
             if constant {
+                if let Some(texts) = by_rounding() {
+                    report.constant_by_rounding.insert(names[j].clone(), texts);
+                }
                 report.constant_columns.push(names[j].clone());
             } else {
                 kept.push((j, values));

@@ -3,11 +3,12 @@
 //! (a leading byte-order mark, Unicode Standard §23.8, is skipped), one field per column, names.
 
 use super::cells::{is_number_text, one_line, quoted};
+use super::checks::FileFacts;
+use super::limits::{size_text, MAX_FIELD_BYTES, MAX_RECORD_BYTES};
+use super::signature::{encoding_hint, wide_encoding};
+use super::source::{is_record_too_long, Source};
 use crate::error::{Error, Result};
 use std::collections::BTreeMap;
-use std::fs::File;
-use std::io::{Read, Seek, SeekFrom};
-use std::path::{Path, PathBuf};
 
 /// The delimiters the reader accepts, with the name `--delimiter` takes for each.
 pub const DELIMITERS: [(u8, &str); 4] = [(b',', ","), (b';', ";"), (b'\t', "tab"), (b'|', "|")];
@@ -20,17 +21,19 @@ pub fn delimiter_name(delimiter: u8) -> String {
     }
 }
 
-/// A file read record by record.
+/// A file read record by record, once, hashing its bytes on the way ([`Source`]).
 pub struct Records {
-    reader: csv::Reader<File>,
+    reader: csv::Reader<Source>,
     record: csv::ByteRecord,
-    path: PathBuf,
     file: String,
+    /// Whether a record that is not blank was read (the header): value lengths are checked from
+    /// the next one on, names by their own, smaller limit.
+    past_header: bool,
 }
 
 impl Records {
-    /// Opens `path` (shown as `file` in messages) for records separated by `delimiter`.
-    pub fn open(path: &Path, file: &str, delimiter: u8) -> Result<Records> {
+    /// Reads `source` (shown as `file` in messages) as records separated by `delimiter`.
+    pub fn new(source: Source, file: &str, delimiter: u8) -> Records {
         // Headers are read as an ordinary record so that every line, the first included, goes
         // through the same byte-level checks. Records end at '\n' only: with the reader's default
         // CRLF terminator, every record after the first of a CRLF file reports the line before its
@@ -40,24 +43,29 @@ impl Records {
             .flexible(true)
             .delimiter(delimiter)
             .terminator(csv::Terminator::Any(b'\n'))
-            .from_path(path)
-            .map_err(|e| open_error(file, &e))?;
-        Ok(Records {
+            .from_reader(source);
+        Records {
             reader,
             record: csv::ByteRecord::new(),
-            path: path.to_path_buf(),
             file: file.to_string(),
-        })
+            past_header: false,
+        }
     }
 
-    /// Reads the next record that is not a blank line; `false` at the end of the file.
+    /// Reads the next record that is not a blank line; `false` at the end of the file. A record
+    /// longer than [`MAX_RECORD_BYTES`] or with a value longer than [`MAX_FIELD_BYTES`] is refused.
     pub fn advance(&mut self) -> Result<bool> {
         loop {
+            let start = self.reader.position().clone();
+            self.reader.get_mut().begin_record(start.byte());
             let more = self
                 .reader
                 .read_byte_record(&mut self.record)
                 .map_err(|error| {
                     let what = match error.kind() {
+                        csv::ErrorKind::Io(e) if is_record_too_long(e) => {
+                            return self.too_long(start.line(), start.byte())
+                        }
                         csv::ErrorKind::Io(e) => {
                             format!("cannot be read: {}", one_line(&e.to_string()))
                         }
@@ -70,11 +78,48 @@ impl Records {
                         None => Error::input(format!("data file '{}' {what}", self.file)),
                     }
                 })?;
+            if self.reader.position().byte() - start.byte() > MAX_RECORD_BYTES as u64 {
+                return Err(self.too_long(start.line(), start.byte()));
+            }
             let blank = self.record.len() == 1 && self.record[0].trim_ascii().is_empty();
             if !more || !blank {
+                let long = |f: &[u8]| f.len() > MAX_FIELD_BYTES;
+                let checked = std::mem::replace(&mut self.past_header, true);
+                if let Some(j) = self.record.iter().position(long).filter(|_| checked) {
+                    return Err(Error::input(format!(
+                        "{}, line {}, column {}: the value is longer than {}, the most one value \
+                         may hold; check that the file is a CSV file and that every quote (\") is \
+                         closed",
+                        self.file,
+                        self.line(),
+                        j + 1,
+                        size_text(MAX_FIELD_BYTES)
+                    )));
+                }
                 return Ok(more);
             }
         }
+    }
+
+    /// The error for a record that grew past [`MAX_RECORD_BYTES`] from `line` (at byte `start`).
+    fn too_long(&self, line: u64, start: u64) -> Error {
+        let (bytes, _) = self.reader.get_ref().kept(start, u64::MAX);
+        let hint = if bytes.contains(&b'"') {
+            "; check for a quote (\") that is not closed"
+        } else {
+            "; the file does not look like CSV text with a line break after each row"
+        };
+        Error::input(format!(
+            "{}, line {line}: the line is longer than {}, the most forebear reads as one line \
+             (the header or a row, line breaks inside quotes included){hint}",
+            self.file,
+            size_text(MAX_RECORD_BYTES)
+        ))
+    }
+
+    /// The bytes hashed so far: after the last record, the whole file's fingerprint.
+    pub fn finish(self) -> Result<FileFacts> {
+        self.reader.into_inner().finish(&self.file)
     }
 
     /// The current record.
@@ -100,7 +145,7 @@ impl Records {
             let offset = self.first_invalid_byte();
             let at = offset.map_or(String::new(), |(o, _)| format!(", byte offset {o}"));
             let shown = offset.map_or(String::new(), |(_, b)| format!(" (byte 0x{b:02X})"));
-            let (hint, binary) = encoding_hint(bytes);
+            let (hint, binary) = encoding_hint(self.reader.get_ref().head(), bytes);
             // The text of a binary file says nothing to a reader: leave it out.
             let value = if binary {
                 "the value".to_string()
@@ -118,37 +163,15 @@ impl Records {
     }
 
     /// Offset in the file, and value, of the first byte of the current record that does not
-    /// belong to a UTF-8 sequence. Read afresh from the file: only an error takes this path.
+    /// belong to a UTF-8 sequence, found in the record's bytes as read (the file is not read
+    /// again: it may be a pipe).
     fn first_invalid_byte(&self) -> Option<(u64, u8)> {
         let start = self.record.position()?.byte();
-        let mut file = File::open(&self.path).ok()?;
-        file.seek(SeekFrom::Start(start)).ok()?;
-        let mut pending: Vec<u8> = Vec::new();
-        let mut consumed = start;
-        let mut block = vec![0u8; 1 << 16];
-        loop {
-            let read = file.read(&mut block).ok()?;
-            if read == 0 {
-                return None;
-            }
-            pending.extend_from_slice(&block[..read]);
-            match std::str::from_utf8(&pending) {
-                Ok(_) => {
-                    consumed += pending.len() as u64;
-                    pending.clear();
-                }
-                Err(e) if e.error_len().is_some() => {
-                    let at = e.valid_up_to();
-                    return Some((consumed + at as u64, pending[at]));
-                }
-                Err(e) => {
-                    // An incomplete sequence at the end of the block: keep it for the next one.
-                    let at = e.valid_up_to();
-                    consumed += at as u64;
-                    pending.drain(..at);
-                }
-            }
-        }
+        let end = self.reader.position().byte();
+        let (bytes, first) = self.reader.get_ref().kept(start, end);
+        let error = std::str::from_utf8(bytes).err()?;
+        let at = error.valid_up_to();
+        Some((first + at as u64, bytes[at]))
     }
 
     /// Reads the header from the current record: trimmed, non-empty, distinct UTF-8 names.
@@ -161,8 +184,9 @@ impl Records {
             if name.contains('\0') {
                 return Err(Error::input(format!(
                     "{file}, line {line}, column {}: the column name holds zero bytes, as text saved \
-                     as UTF-16 does; save the file as UTF-8",
-                    j + 1
+                     as {} does; save the file as UTF-8",
+                    j + 1,
+                    wide_encoding(self.reader.get_ref().head()).unwrap_or("UTF-16 or UTF-32")
                 )));
             }
             let name = name.trim();
@@ -228,47 +252,6 @@ impl Records {
             " (a quoted value runs from line {} to line {last}: check for a quote (\") that is \
              not closed)",
             self.line()
-        )
-    }
-}
-
-fn open_error(file: &str, error: &csv::Error) -> Error {
-    let reason = match error.kind() {
-        csv::ErrorKind::Io(e) if e.kind() == std::io::ErrorKind::PermissionDenied => {
-            "permission denied; make it readable (chmod u+r) or copy it somewhere readable"
-                .to_string()
-        }
-        _ => one_line(&error.to_string()),
-    };
-    Error::input(format!("cannot open data file '{file}': {reason}"))
-}
-
-/// What the bytes of a value that is not UTF-8 suggest about the file, and whether they look like
-/// a binary format rather than text in another encoding.
-fn encoding_hint(bytes: &[u8]) -> (&'static str, bool) {
-    if bytes.starts_with(b"\xff\xfe") || bytes.starts_with(b"\xfe\xff") {
-        ("the file looks like UTF-16; save it as UTF-8", true)
-    } else if bytes.starts_with(b"PK\x03\x04") {
-        (
-            "the file looks like a ZIP archive or a spreadsheet workbook; export the sheet as CSV \
-             (UTF-8)",
-            true,
-        )
-    } else if bytes.starts_with(b"\x1f\x8b") {
-        (
-            "the file looks compressed (gzip); decompress it first",
-            true,
-        )
-    } else if bytes.starts_with(b"\xd0\xcf\x11\xe0") {
-        (
-            "the file looks like a legacy spreadsheet workbook; export the sheet as CSV (UTF-8)",
-            true,
-        )
-    } else {
-        (
-            "the file seems to be saved in another encoding (such as Latin-1 or Windows-1252); \
-             save it as UTF-8",
-            false,
         )
     }
 }
@@ -360,22 +343,5 @@ mod tests {
         assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), b';'), Some(b','));
         assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), b','), None);
         assert_eq!(foreign_delimiter(&names(&["plain"]), b','), None);
-    }
-
-    #[test]
-    fn encoding_hints_name_the_likely_format() {
-        assert!(encoding_hint(b"\xff\xfex\0").0.contains("UTF-16"));
-        assert!(encoding_hint(b"PK\x03\x04rest").0.contains("spreadsheet"));
-        assert!(encoding_hint(b"\x1f\x8b\x08").0.contains("gzip"));
-        let (hint, binary) = encoding_hint(b"caf\xe9");
-        assert!(hint.contains("Latin-1") && !binary);
-    }
-
-    #[test]
-    fn unreadable_file_message_says_what_to_do() {
-        let error = csv::Error::from(std::io::Error::from(std::io::ErrorKind::PermissionDenied));
-        let message = open_error("locked.csv", &error).to_string();
-        assert!(message.contains("'locked.csv'"), "{message}");
-        assert!(message.contains("permission denied"), "{message}");
     }
 }

@@ -3,7 +3,11 @@
 //! cells into the validated [`Table`](super::Table) are in `checks.rs`.
 
 use super::cells::{quoted, CellReader, ColumnIssues};
+use super::checks::FileFacts;
 use super::csv_read::{Records, DELIMITERS};
+use super::limits::{size_text, MAX_COLUMNS, MAX_NAME_BYTES};
+use super::source::Source;
+use super::spelling::Spellings;
 use super::table::DataReport;
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
@@ -182,104 +186,161 @@ pub struct RawTable {
     pub(super) columns: Vec<Vec<f64>>,
     /// The unreadable cells of each column, if it has any.
     pub(super) issues: Vec<Option<ColumnIssues>>,
+    /// Per column, whether distinct decimal texts read as one float (for the constant-column note).
+    pub(super) spellings: Vec<Option<Spellings>>,
     /// The file line on which each data row starts (1-based).
     pub lines: Vec<u64>,
     /// The file line of the header (1 unless blank lines come first).
     pub header_line: u64,
 }
 
-/// Reads only the header of a CSV file: a raw table with the column names and no rows, enough to
-/// check settings against before the rows are read.
-pub fn read_header(path: &Path, options: &LoadOptions) -> Result<RawTable> {
-    let (_, file, names, header_line) = open_at_header(path, options)?;
-    Ok(RawTable {
-        file,
-        columns: vec![Vec::new(); names.len()],
-        issues: vec![None; names.len()],
-        names,
-        lines: Vec::new(),
-        header_line,
-    })
+/// A data file opened once, its header read and checked: settings can be checked against
+/// [`DataReader::header`] before the rows are read ([`DataReader::read_rows`]), so that a misspelt
+/// column in a large file is reported at once, without opening the file a second time.
+pub struct DataReader {
+    records: Records,
+    header: RawTable,
+    options: LoadOptions,
 }
 
-/// Opens the file and reads its header: the records after it, the file name for messages, the
-/// column names and the header's line.
-fn open_at_header(
-    path: &Path,
-    options: &LoadOptions,
-) -> Result<(Records, String, Vec<String>, u64)> {
-    let file = path.display().to_string();
-    if !path.exists() {
-        return Err(Error::input(format!(
-            "data file '{file}' does not exist; check the path"
-        )));
+impl DataReader {
+    /// Opens `path` and reads its header.
+    pub fn open(path: &Path, options: &LoadOptions) -> Result<DataReader> {
+        let file = path.display().to_string();
+        DataReader::start(Source::open(path, &file)?, file, options)
     }
-    if path.is_dir() {
-        return Err(Error::input(format!(
-            "data file '{file}' is a folder, not a CSV file"
-        )));
-    }
-    let mut records = Records::open(path, &file, options.delimiter)?;
-    if !records.advance()? {
-        return Err(Error::input(format!(
-            "data file '{file}' is empty; it needs a header row of column names followed by rows of numbers"
-        )));
-    }
-    let header_line = records.line();
-    let names = records.header(options.delimiter)?;
-    Ok((records, file, names, header_line))
-}
 
-/// Reads a CSV file with a header row into raw numeric cells, one record at a time. A UTF-8
-/// byte-order mark and CRLF line endings are accepted; blank lines are skipped.
-pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
-    let (mut records, file, names, header_line) = open_at_header(path, options)?;
-    let cells = CellReader::new(&options.missing_tokens, options.decimal_comma);
-    let width = names.len();
-    let mut columns: Vec<Vec<f64>> = vec![Vec::new(); width];
-    let mut issues: Vec<Option<ColumnIssues>> = vec![None; width];
-    let mut lines = Vec::new();
-    let comma_clash = options.decimal_comma && options.delimiter == b',';
-    while records.advance()? {
-        records.check_width(&names).map_err(|e| match comma_clash {
-            true => Error::input(format!(
-                "{e}; with --decimal-comma and commas between values, a number's comma must be \
-                 inside quotes, or the file needs another delimiter such as --delimiter ';'"
-            )),
-            false => e,
-        })?;
-        let line = records.line();
-        for (j, column) in columns.iter_mut().enumerate() {
-            let text = records.text(j, || {
-                format!("{file}, line {line}, column {}", quoted(&names[j]))
-            })?;
-            let value = match cells.parse(text) {
-                Ok(value) => value.unwrap_or(f64::NAN),
-                Err(problem) => {
-                    match &mut issues[j] {
-                        Some(known) => known.add(text, problem),
-                        None => issues[j] = Some(ColumnIssues::first(line, text, problem)),
-                    }
-                    f64::NAN
-                }
-            };
-            column.push(value);
+    /// Reads the header of `source`, shown as `file` in messages.
+    pub fn start(source: Source, file: String, options: &LoadOptions) -> Result<DataReader> {
+        let mut records = Records::new(source, &file, options.delimiter);
+        if !records.advance()? {
+            return Err(Error::input(format!(
+                "data file '{file}' is empty; it needs a header row of column names followed by rows of numbers"
+            )));
         }
-        lines.push(line);
+        let header_line = records.line();
+        check_header_size(records.record(), &file, header_line)?;
+        let names = records.header(options.delimiter)?;
+        let header = RawTable {
+            file,
+            columns: vec![Vec::new(); names.len()],
+            issues: vec![None; names.len()],
+            spellings: vec![None; names.len()],
+            names,
+            lines: Vec::new(),
+            header_line,
+        };
+        Ok(DataReader {
+            records,
+            header,
+            options: options.clone(),
+        })
     }
-    if lines.is_empty() {
+
+    /// The column names, as a raw table without rows.
+    pub fn header(&self) -> &RawTable {
+        &self.header
+    }
+
+    /// Reads the rows into raw numeric cells, one record at a time, and the file to its end: the
+    /// table and the fingerprint of exactly the bytes it was read from. A UTF-8 byte-order mark and
+    /// CRLF line endings are accepted; blank lines are skipped.
+    pub fn read_rows(self) -> Result<(RawTable, FileFacts)> {
+        let DataReader {
+            mut records,
+            header,
+            options,
+        } = self;
+        let RawTable {
+            file,
+            names,
+            mut columns,
+            mut issues,
+            mut spellings,
+            mut lines,
+            header_line,
+        } = header;
+        let cells = CellReader::new(&options.missing_tokens, options.decimal_comma);
+        let comma_clash = options.decimal_comma && options.delimiter == b',';
+        while records.advance()? {
+            records.check_width(&names).map_err(|e| match comma_clash {
+                true => Error::input(format!(
+                    "{e}; with --decimal-comma and commas between values, a number's comma must be \
+                     inside quotes, or the file needs another delimiter such as --delimiter ';'"
+                )),
+                false => e,
+            })?;
+            let line = records.line();
+            for (j, column) in columns.iter_mut().enumerate() {
+                let text = records.text(j, || {
+                    format!("{file}, line {line}, column {}", quoted(&names[j]))
+                })?;
+                let value = match cells.parse(text) {
+                    Ok(Some(value)) => {
+                        Spellings::observe(&mut spellings[j], text, value, lines.len());
+                        value
+                    }
+                    Ok(None) => f64::NAN,
+                    Err(problem) => {
+                        match &mut issues[j] {
+                            Some(known) => known.add(text, problem),
+                            None => issues[j] = Some(ColumnIssues::first(line, text, problem)),
+                        }
+                        f64::NAN
+                    }
+                };
+                column.push(value);
+            }
+            lines.push(line);
+        }
+        if lines.is_empty() {
+            return Err(Error::input(format!(
+                "{file}: the header on line {header_line} is followed by no data rows; add rows of numbers below it"
+            )));
+        }
+        let facts = records.finish()?;
+        let raw = RawTable {
+            file,
+            names,
+            columns,
+            issues,
+            spellings,
+            lines,
+            header_line,
+        };
+        Ok((raw, facts))
+    }
+}
+
+/// The header's number of columns and each name's length against the limits.
+fn check_header_size(record: &csv::ByteRecord, file: &str, line: u64) -> Result<()> {
+    if record.len() > MAX_COLUMNS {
         return Err(Error::input(format!(
-            "{file}: the header on line {header_line} is followed by no data rows; add rows of numbers below it"
+            "{file}, line {line}: the header has {} columns, more than {MAX_COLUMNS}, the most \
+             forebear reads; leave out the columns the study does not need",
+            record.len()
         )));
     }
-    Ok(RawTable {
-        file,
-        names,
-        columns,
-        issues,
-        lines,
-        header_line,
-    })
+    if let Some(j) = record.iter().position(|name| name.len() > MAX_NAME_BYTES) {
+        return Err(Error::input(format!(
+            "{file}, line {line}, column {}: the column name is {} bytes long, more than {}, the \
+             most a name may hold; give the column a shorter name",
+            j + 1,
+            record[j].len(),
+            size_text(MAX_NAME_BYTES)
+        )));
+    }
+    Ok(())
+}
+
+/// Reads a CSV file with a header row into raw numeric cells (see [`DataReader::read_rows`]).
+pub fn read_csv(path: &Path, options: &LoadOptions) -> Result<RawTable> {
+    Ok(read_data(path, options)?.0)
+}
+
+/// Reads a CSV file once: its raw cells and the fingerprint of its bytes.
+pub fn read_data(path: &Path, options: &LoadOptions) -> Result<(RawTable, FileFacts)> {
+    DataReader::open(path, options)?.read_rows()
 }
 
 impl RawTable {
@@ -295,6 +356,7 @@ impl RawTable {
         RawTable {
             file: file.to_string(),
             issues: vec![None; names.len()],
+            spellings: vec![None; names.len()],
             names,
             columns: cells
                 .into_iter()

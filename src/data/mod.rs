@@ -5,10 +5,14 @@ pub mod checks;
 pub mod compare;
 pub mod csv_read;
 pub mod fingerprint;
+pub mod limits;
 pub mod load;
 pub mod names;
+mod signature;
+pub mod source;
+mod spelling;
 pub mod table;
 mod unreadable;
 
-pub use load::{read_csv, LoadOptions, MissingPolicy, RawTable};
+pub use load::{read_csv, read_data, DataReader, LoadOptions, MissingPolicy, RawTable};
 pub use table::{DataReport, Table};

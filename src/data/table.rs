@@ -83,6 +83,10 @@ pub struct DataReport {
     pub missing_by_column: BTreeMap<String, usize>,
     /// Columns excluded because they are constant over the rows used.
     pub constant_columns: Vec<String>,
+    /// Constant columns whose cells are distinct decimal numbers as text but equal as 64-bit
+    /// floats (constant only after rounding): two such texts of each. Absent when there are none.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub constant_by_rounding: BTreeMap<String, [String; 2]>,
     /// Columns left out by the settings (`--exclude`, or not named by `--candidates`), in file
     /// order.
     pub excluded_columns: Vec<String>,

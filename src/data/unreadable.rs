@@ -132,6 +132,7 @@ impl RawTable {
             CellProblem::NotANumber,
             CellProblem::DecimalComma,
             CellProblem::PointWithDecimalComma,
+            CellProblem::Underflow,
         ] {
             let matches = |p: CellProblem| match problem {
                 CellProblem::NotANumber => {
@@ -209,6 +210,9 @@ fn advice(problem: CellProblem, options: &LoadOptions) -> String {
             .to_string(),
         CellProblem::PointWithDecimalComma => "write every decimal with a comma, or read the file \
              without --decimal-comma"
+            .to_string(),
+        CellProblem::Underflow => "write 0 there if zero is meant, or express the column in \
+             another unit so that its values fit a 64-bit float"
             .to_string(),
     }
 }

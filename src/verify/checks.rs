@@ -4,9 +4,11 @@
 use super::report::{check, Check, Status};
 use super::rerun::SHOWN_DIFFERENCES;
 use super::Request;
+use crate::data::checks::FileFacts;
 use crate::data::compare::describe_difference;
 use crate::data::fingerprint::{content_index, sha256_text};
-use crate::data::{read_csv, LoadOptions};
+use crate::data::source::Source;
+use crate::data::{DataReader, LoadOptions, RawTable};
 use crate::error::{Error, Result};
 use crate::finding::{Finding, METHOD_VERSION};
 use crate::manifest::{differences, Manifest, MANIFEST_FILE};
@@ -140,11 +142,32 @@ pub(super) fn recorded_study(manifest: &Manifest) -> std::result::Result<Study, 
         .map_err(|e| format!("the recorded study settings do not read: {e}"))
 }
 
-pub(super) fn check_data(
-    request: &Request,
-    manifest: &Manifest,
-    bytes_sha256: &str,
-) -> Result<Check> {
+/// The received data as read once with the recorded reader options: the raw cells and the
+/// fingerprint of the bytes they were parsed from, or why they could not be read that way.
+pub(super) type Received = std::result::Result<(RawTable, FileFacts), String>;
+
+/// Reads the received data file once. A file that cannot be opened (absent, a folder, permission
+/// denied) is bad usage (exit code 2); one that cannot be read with the recorded reader options is
+/// a failed data check.
+pub(super) fn read_received(request: &Request, manifest: &Manifest) -> Result<Received> {
+    let file = request.data.display().to_string();
+    let source = Source::open(&request.data, &file)?;
+    let options = match recorded_reader(manifest) {
+        Ok(options) => options,
+        Err(why) => return Ok(Err(why)),
+    };
+    let read = DataReader::start(source, file, &options).and_then(DataReader::read_rows);
+    Ok(read.map_err(|e| {
+        format!("the received file cannot be read the way the analysed file was: {e}")
+    }))
+}
+
+pub(super) fn check_data(manifest: &Manifest, received: &Received) -> Check {
+    let (table, facts) = match received {
+        Ok(read) => read,
+        Err(why) => return check("data", Status::Fail, vec![why.clone()]),
+    };
+    let bytes_sha256 = facts.sha256.as_str();
     let recorded = &manifest.data;
     let shape = format!(
         "{} data rows × {} columns",
@@ -152,7 +175,7 @@ pub(super) fn check_data(
         recorded.content.columns.len()
     );
     if bytes_sha256 == recorded.sha256 {
-        return Ok(check(
+        return check(
             "data",
             Status::Pass,
             vec![format!(
@@ -160,34 +183,17 @@ pub(super) fn check_data(
                 recorded.file,
                 short(bytes_sha256)
             )],
-        ));
+        );
     }
-    let options = match recorded_reader(manifest) {
-        Ok(options) => options,
-        Err(why) => return Ok(check("data", Status::Fail, vec![why])),
-    };
     let bytes_differ = format!(
         "the bytes differ from the analysed file '{}' (SHA-256 recorded {}, received {})",
         recorded.file,
         short(&recorded.sha256),
         short(bytes_sha256)
     );
-    let table = match read_csv(&request.data, &options) {
-        Ok(table) => table,
-        Err(e) => {
-            return Ok(check(
-                "data",
-                Status::Fail,
-                vec![
-                    bytes_differ,
-                    format!("the received file cannot be read the way the analysed file was: {e}"),
-                ],
-            ))
-        }
-    };
-    let received = content_index(&table);
+    let received = content_index(table);
     if received.sha256 == recorded.content.sha256 {
-        return Ok(check(
+        return check(
             "data",
             Status::Note,
             vec![
@@ -199,7 +205,7 @@ pub(super) fn check_data(
                     short(&received.sha256)
                 ),
             ],
-        ));
+        );
     }
     let mut details = vec![
         bytes_differ,
@@ -209,8 +215,8 @@ pub(super) fn check_data(
             short(&recorded.content.sha256)
         ),
     ];
-    details.extend(describe_difference(&recorded.content, &received, &table));
-    Ok(check("data", Status::Fail, details))
+    details.extend(describe_difference(&recorded.content, &received, table));
+    check("data", Status::Fail, details)
 }
 
 pub(super) fn check_tool(manifest: &Manifest, allow_other_version: bool) -> Check {

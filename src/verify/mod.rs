@@ -14,9 +14,8 @@ pub use report::{render_text, Check, Report, SpotCheck, Status, REPORT_SCHEMA};
 pub use rerun::sample_replicates;
 
 use crate::analysis::Progress;
-use crate::data::fingerprint::sha256_file;
 use crate::error::Result;
-use checks::{check_data, check_seal, check_settings, check_tool, read_manifest};
+use checks::{check_data, check_seal, check_settings, check_tool, read_manifest, read_received};
 use files::check_files;
 use report::check;
 use std::path::PathBuf;
@@ -42,13 +41,15 @@ pub struct Request {
 /// report whose verdict is `MISMATCH`.
 pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
     let manifest = read_manifest(&request.dir)?;
-    let data_bytes = sha256_file(&request.data)?;
+    // The data file is read once (it may be a pipe): both fingerprints and the re-run come from
+    // the same bytes.
+    let received = read_received(request, &manifest)?;
     let mut checks = Vec::new();
     checks.push(check_seal(&manifest));
     let (files, recorded) = check_files(&request.dir, &manifest);
     checks.push(files);
     checks.push(check_settings(&manifest, recorded.as_ref()));
-    let data = check_data(request, &manifest, &data_bytes.0)?;
+    let data = check_data(&manifest, &received);
     let data_ok = data.status != Status::Fail;
     checks.push(data);
     let tool = check_tool(&manifest, request.allow_other_version);
@@ -56,10 +57,18 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
     checks.push(tool);
     let mut spot_check = None;
     let mut taken_from_record = Vec::new();
-    if data_ok && (tool_ok || request.allow_other_version) {
+    let received = received.ok().filter(|_| data_ok);
+    if let Some(received) = received.filter(|_| tool_ok || request.allow_other_version) {
         // The data check passed: the received bytes are the analysed ones, or a re-saved copy.
-        let resaved = data_bytes.0 != manifest.data.sha256;
-        let rerun = rerun::rerun(request, &manifest, recorded.as_ref(), resaved, progress);
+        let resaved = received.1.sha256 != manifest.data.sha256;
+        let rerun = rerun::rerun(
+            request,
+            &manifest,
+            recorded.as_ref(),
+            resaved,
+            received,
+            progress,
+        );
         spot_check = rerun.spot;
         taken_from_record = rerun.taken_from_record;
         checks.push(rerun.check);

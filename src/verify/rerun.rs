@@ -6,7 +6,9 @@ use super::checks::{recorded_reader, recorded_study, short};
 use super::report::{check, Check, SpotCheck, Status};
 use super::rerender::{recorded_fact_pointers, taken_from_record, with_recorded};
 use super::Request;
-use crate::analysis::{attach_stability, prepare, Analysed, Prepared, Progress};
+use crate::analysis::{attach_stability, prepare_read, Analysed, Prepared, Progress};
+use crate::data::checks::FileFacts;
+use crate::data::RawTable;
 use crate::finding::Finding;
 use crate::manifest::{differences, Difference, Manifest};
 use crate::resample::ReplicateRecord;
@@ -97,9 +99,10 @@ pub(super) fn rerun(
     manifest: &Manifest,
     recorded: Option<&Finding>,
     resaved: bool,
+    data: (RawTable, FileFacts),
     progress: &dyn Progress,
 ) -> Rerun {
-    let prepared = match prepare_rerun(request, manifest, progress) {
+    let prepared = match prepare_rerun(request, manifest, data, progress) {
         Ok(prepared) => prepared,
         Err(details) => return Rerun::failed(details),
     };
@@ -198,14 +201,16 @@ pub(super) fn rerun(
 fn prepare_rerun(
     request: &Request,
     manifest: &Manifest,
+    data: (RawTable, FileFacts),
     progress: &dyn Progress,
 ) -> Result<Prepared, Vec<String>> {
     let (options, study) = match (recorded_reader(manifest), recorded_study(manifest)) {
         (Ok(o), Ok(s)) => (o, s),
         (Err(why), _) | (_, Err(why)) => return Err(vec![why]),
     };
-    let prepared = prepare(
+    let prepared = prepare_read(
         &request.data,
+        data,
         &StudyInput::replaying(&study),
         &options,
         progress,
