@@ -225,7 +225,7 @@ fn bad_resampling_settings_are_clear_errors_with_exit_code_2() {
             &["--replicates", "10", "--replicate-range", "five"],
             "not a range",
         ),
-        (&["--resample", "jackknife"], "not known"),
+        (&["--resample", "jackknife"], "possible values"),
     ];
     for (extra, expected) in cases {
         let mut args = vec![

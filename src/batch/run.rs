@@ -110,6 +110,11 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
     };
     match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
         Ok(Ok(finding)) => (entry_of(&finding, pair.index, relative), None),
+        // A file that cannot be opened (missing, a folder, a link loop, no permission): the
+        // message describes the path, not the file's content, and the index may say it.
+        Ok(Err((e @ crate::error::Error::Input(_), true))) if !opened(&pair.study.data_path) => {
+            (failed(pair.index, e.to_string(), Failure::Input), None)
+        }
         Ok(Err((e @ crate::error::Error::Input(_), true))) => {
             let message = e.to_string();
             let shown = pair.study.data_path.display().to_string();
@@ -127,6 +132,11 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
             None,
         ),
     }
+}
+
+/// Whether `path` names something the reader opens and reads: not a folder, and reachable.
+fn opened(path: &Path) -> bool {
+    std::fs::metadata(path).is_ok_and(|m| !m.is_dir())
 }
 
 /// What the index and the summary say of data the reader refused: the file as the plan names it
