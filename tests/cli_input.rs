@@ -958,3 +958,43 @@ fn full_stdout_is_an_input_error_naming_standard_output() {
         );
     }
 }
+
+#[test]
+fn shard_and_replicate_range_values_are_checked_when_parsed() {
+    let s = Scratch::new("typed-values");
+    let data = s.write("data.csv", csv_text(&table(30)));
+    let cases: [(&[&str], &str); 5] = [
+        (&["batch", "plan.toml", "--shard", "3/3"], "out of range"),
+        (&["batch", "plan.toml", "--shard", "one/3"], "not i/N"),
+        (&["batch", "plan.toml", "--shard", "1/0"], "out of range"),
+        (
+            &["analyze", "DATA", "--target", "y", "--replicate-range", "5"],
+            "not a range",
+        ),
+        (
+            &[
+                "analyze",
+                "DATA",
+                "--target",
+                "y",
+                "--replicate-range",
+                "a..b",
+            ],
+            "not a range",
+        ),
+    ];
+    for (args, expected) in cases {
+        let args: Vec<&OsStr> = args
+            .iter()
+            .map(|a| match *a {
+                "DATA" => data.as_os_str(),
+                a => OsStr::new(a),
+            })
+            .collect();
+        let output = run(&args);
+        let stderr = stderr_of(&output);
+        assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+        assert!(stderr.contains(expected), "{args:?}: {stderr}");
+        assert_eq!(stderr.lines().count(), 1, "{args:?}: {stderr}");
+    }
+}

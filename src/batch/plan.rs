@@ -234,21 +234,27 @@ pub struct Shard {
     pub count: u32,
 }
 
+impl std::str::FromStr for Shard {
+    type Err = String;
+    fn from_str(text: &str) -> std::result::Result<Shard, String> {
+        Shard::parse(text)
+    }
+}
+
 impl Shard {
     /// Parses `i/N` (0 ≤ i < N), as schedulers number array tasks from 0.
-    pub fn parse(text: &str) -> crate::error::Result<Shard> {
+    pub fn parse(text: &str) -> std::result::Result<Shard, String> {
         let bad = |why: &str| {
-            crate::error::Error::input(format!(
-                "--shard {} {why}; write i/N with 0 ≤ i < N, e.g. 0/3, 1/3 and 2/3 for three \
-                 shards (numbered from 0, like Slurm array and Kubernetes completion indices)",
-                crate::text::quoted(text)
-            ))
+            format!(
+                "{why}; write i/N with 0 ≤ i < N, e.g. 0/3, 1/3 and 2/3 for three shards \
+                 (numbered from 0, as schedulers number the tasks of an array job)"
+            )
         };
-        let (i, n) = text.split_once('/').ok_or_else(|| bad("is not i/N"))?;
-        let index: u32 = i.trim().parse().map_err(|_| bad("is not i/N"))?;
-        let count: u32 = n.trim().parse().map_err(|_| bad("is not i/N"))?;
+        let (i, n) = text.split_once('/').ok_or_else(|| bad("not i/N"))?;
+        let index: u32 = i.trim().parse().map_err(|_| bad("not i/N"))?;
+        let count: u32 = n.trim().parse().map_err(|_| bad("not i/N"))?;
         if count == 0 || index >= count {
-            return Err(bad("is out of range"));
+            return Err(bad("out of range"));
         }
         Ok(Shard { index, count })
     }

@@ -56,8 +56,8 @@ pub struct AnalyzeArgs {
     #[arg(long, default_value_t = DEFAULT_PERMUTATIONS)]
     pub permutations: u32,
     /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`.
-    #[arg(long, value_name = "A..B")]
-    pub replicate_range: Option<String>,
+    #[arg(long, value_name = "A..B", value_parser = parse_range)]
+    pub replicate_range: Option<std::ops::Range<u32>>,
     /// Columns to leave out entirely (comma-separated).
     #[arg(long, value_name = "COLS")]
     pub exclude: Vec<String>,
@@ -101,13 +101,10 @@ impl AnalyzeArgs {
     }
 }
 
-/// Parses `--replicate-range A..B`.
-pub fn parse_range(text: &str) -> Result<std::ops::Range<u32>> {
-    let bad = || {
-        Error::input(format!(
-            "--replicate-range '{text}' is not a range; write A..B with whole numbers A < B, e.g. 0..25"
-        ))
-    };
+/// Parses the value of `--replicate-range`: `A..B`, whole numbers (whether A < B and B is within
+/// the replicates is checked against the study).
+pub fn parse_range(text: &str) -> std::result::Result<std::ops::Range<u32>, String> {
+    let bad = || "not a range; write A..B with whole numbers A < B, e.g. 0..25".to_string();
     let (a, b) = text.split_once("..").ok_or_else(bad)?;
     let a: u32 = a.trim().parse().map_err(|_| bad())?;
     let b: u32 = b.trim().parse().map_err(|_| bad())?;
@@ -117,8 +114,7 @@ pub fn parse_range(text: &str) -> Result<std::ops::Range<u32>> {
 /// Runs `analyze`.
 pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
     let input = args.study_input()?;
-    if let Some(range) = &args.replicate_range {
-        let range = parse_range(range)?;
+    if let Some(range) = args.replicate_range.clone() {
         let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
         let part = crate::analysis::analyze_part(
             &args.data,

@@ -34,7 +34,7 @@ pub struct BatchArgs {
     pub fail_on_drift: bool,
     /// Run only shard i of N (0 ≤ i < N): the pairs whose position in the plan modulo N is i.
     #[arg(long, value_name = "i/N", conflicts_with = "collect")]
-    pub shard: Option<String>,
+    pub shard: Option<Shard>,
     /// Combine the outputs of every shard (made with --shard) into one output folder.
     #[arg(long, num_args = 1.., value_name = "SHARD_DIR")]
     pub collect: Vec<PathBuf>,
@@ -56,7 +56,7 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
             args.drift_threshold
         )));
     }
-    let shard = args.shard.as_deref().map(Shard::parse).transpose()?;
+    let shard = args.shard;
     if args.check {
         super::out::line(&format!(
             "{}: valid; {} studies, {} study–target pairs",
