@@ -5,7 +5,7 @@ use crate::data::checks::{rounding_note, FileFacts};
 use crate::data::fingerprint::{content_index, ContentIndex};
 use crate::data::{DataReader, DataReport, LoadOptions, RawTable, Table};
 use crate::error::{Error, Result};
-use crate::finding::{Finding, RunInfo};
+use crate::finding::{Analysed, Finding, RunInfo};
 use crate::resample::stability::{aggregate, run_replicate};
 use crate::resample::{ReplicateRecord, Stability};
 use crate::search::{local_parents, ParentSearch, SearchData};
@@ -263,16 +263,6 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
     });
     finding.digest = crate::digest::digest(&finding);
     finding
-}
-
-/// A finished analysis: the finding and the content index of the data it was made from (which
-/// goes into the manifest, not into `result.json`).
-#[derive(Clone, Debug, PartialEq)]
-pub struct Analysed {
-    /// Everything found.
-    pub finding: Finding,
-    /// The analysed file's content fingerprint and locating index.
-    pub content: ContentIndex,
 }
 
 /// Runs the whole analysis of a CSV file: full-data search, every replicate, stability.

@@ -63,6 +63,16 @@ fn short_commit(build: &str) -> String {
     }
 }
 
+/// A finished analysis: the finding and the content index of the data it was made from (which
+/// goes into the manifest, not into `result.json`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Analysed {
+    /// Everything found.
+    pub finding: Finding,
+    /// The analysed file's content fingerprint and locating index.
+    pub content: crate::data::fingerprint::ContentIndex,
+}
+
 /// Facts about the run that do not belong to the findings and are excluded from the digest.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct RunInfo {

@@ -1,8 +1,8 @@
 //! The manifest that binds a dossier to its data, settings, results and rendered files. Canonical
 //! JSON and the result digest are in [`crate::digest`].
 
-use crate::analysis::Analysed;
 use crate::data::fingerprint::{sha256_text, ContentIndex};
+use crate::finding::Analysed;
 use crate::finding::{settings_sha256, settings_value, ToolInfo};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;

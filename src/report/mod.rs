@@ -6,8 +6,8 @@ pub mod json;
 pub mod markdown;
 pub mod tables;
 
-use crate::analysis::Analysed;
 use crate::error::Result;
+use crate::finding::Analysed;
 use crate::finding::Finding;
 use crate::manifest::{Manifest, MANIFEST_FILE};
 use crate::output::Claim;

@@ -9,7 +9,8 @@
 //! the result digest as well (a unit test holds that), and the report lists them.
 
 use super::report::{check, visible, Check, Status};
-use crate::analysis::{Analysed, Progress};
+use crate::analysis::Progress;
+use crate::finding::Analysed;
 use crate::manifest::{Manifest, MANIFEST_FILE};
 use serde::de::DeserializeOwned;
 use serde::Serialize;
