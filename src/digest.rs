@@ -55,7 +55,7 @@ pub fn remove_pointer(tree: &mut serde_json::Value, pointer: &str) {
 }
 
 /// Lower-case hexadecimal of bytes.
-fn hex(bytes: &[u8]) -> String {
+pub fn hex(bytes: &[u8]) -> String {
     bytes.iter().map(|b| format!("{b:02x}")).collect()
 }
 

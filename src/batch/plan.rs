@@ -207,7 +207,7 @@ impl Plan {
 
 /// Why a data path cannot be read as a file, or `None` when it can be opened. A FIFO or another
 /// special file is left to the reader.
-fn unusable_data(path: &Path) -> Option<&'static str> {
+pub(super) fn unusable_data(path: &Path) -> Option<&'static str> {
     match std::fs::metadata(path) {
         Ok(m) if m.is_dir() => Some("is a folder, not a CSV file"),
         Ok(_) => None,

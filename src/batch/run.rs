@@ -5,7 +5,7 @@
 //! inside one analysis are parallel already); see DEVELOPERS.md for the measurement behind this.
 
 use super::drift::{sets, Drift};
-use super::plan::{Pair, Plan, Shard};
+use super::plan::{unusable_data, Pair, Plan, Shard};
 use super::{
     Entry, EntryData, EntryStability, Failure, PlanRef, Status, StudySummary, Summary, Totals,
     BATCH_SCHEMA,
@@ -112,7 +112,9 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
         Ok(Ok(finding)) => (entry_of(&finding, pair.index, relative), None),
         // A file that cannot be opened (missing, a folder, a link loop, no permission): the
         // message describes the path, not the file's content, and the index may say it.
-        Ok(Err((e @ crate::error::Error::Input(_), true))) if !opened(&pair.study.data_path) => {
+        Ok(Err((e @ crate::error::Error::Input(_), true)))
+            if unusable_data(&pair.study.data_path).is_some() =>
+        {
             (failed(pair.index, e.to_string(), Failure::Input), None)
         }
         Ok(Err((e @ crate::error::Error::Input(_), true))) => {
@@ -132,11 +134,6 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
             None,
         ),
     }
-}
-
-/// Whether `path` names something the reader opens and reads: not a folder, and reachable.
-fn opened(path: &Path) -> bool {
-    std::fs::metadata(path).is_ok_and(|m| !m.is_dir())
 }
 
 /// What the index and the summary say of data the reader refused: the file as the plan names it

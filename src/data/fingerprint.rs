@@ -22,10 +22,7 @@ pub const BLOCK_ROWS: usize = 256;
 /// Tag at the start of the canonical content encoding.
 pub const CONTENT_TAG: &[u8] = b"forebear.content/1";
 
-/// Lower-case hexadecimal of bytes.
-pub fn hex(bytes: &[u8]) -> String {
-    bytes.iter().map(|b| format!("{b:02x}")).collect()
-}
+pub use crate::digest::hex;
 
 /// SHA-256 (hex) of a text.
 pub fn sha256_text(text: &str) -> String {
