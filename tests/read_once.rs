@@ -10,7 +10,7 @@ use common::*;
 use std::fs::{File, OpenOptions};
 use std::io::Write;
 use std::os::unix::fs::OpenOptionsExt;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::{Child, Command, Output, Stdio};
 use std::time::{Duration, Instant};
 
@@ -72,6 +72,26 @@ fn fifo_writer(path: &Path, child: &mut Child) -> File {
     }
 }
 
+/// `analyze` started on a new FIFO `data.csv` of `scratch` for `target` into `scratch/out`, with
+/// `extra` flags: the running child, the FIFO's write end (open once forebear reads) and `out`.
+fn analyze_fifo(scratch: &Scratch, target: &str, extra: &[&str]) -> (Child, File, PathBuf) {
+    let fifo = scratch.path("data.csv");
+    make_fifo(&fifo);
+    let out = scratch.path("out");
+    let mut args = vec![
+        "analyze",
+        fifo.to_str().unwrap(),
+        "--target",
+        target,
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    args.extend(extra);
+    let mut child = forebear(&args).spawn().unwrap();
+    let writer = fifo_writer(&fifo, &mut child);
+    (child, writer, out)
+}
+
 fn manifest(dir: &Path) -> serde_json::Value {
     let text = std::fs::read_to_string(dir.join("manifest.json")).unwrap();
     serde_json::from_str(&text).unwrap()
@@ -89,22 +109,7 @@ fn content_sha256(path: &Path) -> String {
 fn a_fifo_is_analysed_and_its_byte_hash_is_that_of_the_bytes_written() {
     let scratch = Scratch::new("read-once-fifo");
     let bytes = delimited(&table(300), ",", ".");
-    let fifo = scratch.path("data.csv");
-    make_fifo(&fifo);
-    let out = scratch.path("out");
-    let mut child = forebear(&[
-        "analyze",
-        fifo.to_str().unwrap(),
-        "--target",
-        "y",
-        "--out",
-        out.to_str().unwrap(),
-        "--replicates",
-        "0",
-    ])
-    .spawn()
-    .unwrap();
-    let mut writer = fifo_writer(&fifo, &mut child);
+    let (child, mut writer, out) = analyze_fifo(&scratch, "y", &["--replicates", "0"]);
     writer.write_all(bytes.as_bytes()).unwrap();
     drop(writer);
     let output = finish(child);
@@ -182,19 +187,7 @@ fn a_pipe_given_as_dev_stdin_is_read_once_by_every_command() {
 #[test]
 fn a_misspelt_target_in_a_fifo_fails_after_the_header_without_waiting_for_the_rows() {
     let scratch = Scratch::new("read-once-header");
-    let fifo = scratch.path("data.csv");
-    make_fifo(&fifo);
-    let mut child = forebear(&[
-        "analyze",
-        fifo.to_str().unwrap(),
-        "--target",
-        "yy",
-        "--out",
-        scratch.path("out").to_str().unwrap(),
-    ])
-    .spawn()
-    .unwrap();
-    let mut writer = fifo_writer(&fifo, &mut child);
+    let (child, mut writer, _) = analyze_fifo(&scratch, "yy", &[]);
     writer.write_all(b"x1,x2,y,z\n").unwrap();
     // The rows never come while forebear runs: it must answer from the header alone.
     let output = finish(child);
@@ -216,22 +209,7 @@ fn a_file_that_grows_while_read_gets_fingerprints_of_the_same_bytes() {
     let split = whole.match_indices('\n').nth(7000).unwrap().0 + 1;
     let (first, growth) = whole.split_at(split);
     assert!(first.len() > 2 * 65536);
-    let fifo = scratch.path("data.csv");
-    make_fifo(&fifo);
-    let out = scratch.path("out");
-    let mut child = forebear(&[
-        "analyze",
-        fifo.to_str().unwrap(),
-        "--target",
-        "y",
-        "--out",
-        out.to_str().unwrap(),
-        "--replicates",
-        "0",
-    ])
-    .spawn()
-    .unwrap();
-    let mut writer = fifo_writer(&fifo, &mut child);
+    let (child, mut writer, out) = analyze_fifo(&scratch, "y", &["--replicates", "0"]);
     writer.write_all(first.as_bytes()).unwrap();
     writer.flush().unwrap();
     writer.write_all(growth.as_bytes()).unwrap();
