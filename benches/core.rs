@@ -14,10 +14,9 @@
 //! (docs/benchmarks.md): (d) under 2 s; (b) within 1.5× of (c).
 
 use forebear::analysis::{analyze_file, Silent};
-use forebear::data::LoadOptions;
 use forebear::measure::{conditional_dependence, Scaling};
 use forebear::rng::{standard_normal, unit_interval, Key};
-use forebear::study::StudyInput;
+use forebear::settings::SettingsInput;
 use kiddo::{ImmutableKdTree, SquaredEuclidean};
 use rayon::prelude::*;
 use std::hint::black_box;
@@ -131,11 +130,12 @@ fn main() {
         }
         let target =
             std::env::var("FOREBEAR_BENCH_TARGET").unwrap_or_else(|_| DEFAULT_TARGET.to_string());
-        let input = StudyInput {
-            replicates: 0,
-            ..StudyInput::for_target(&target)
-        };
-        let options = LoadOptions::default();
+        let settings = SettingsInput {
+            replicates: Some(0),
+            ..SettingsInput::for_target(&target)
+        }
+        .check()
+        .expect("bench settings are valid");
         let d = report(
             "d",
             &format!(
@@ -145,7 +145,7 @@ fn main() {
             runs,
             || {
                 black_box(
-                    analyze_file(&path, &input, &options, Vec::new(), &Silent)
+                    analyze_file(&path, &settings, &target, Vec::new(), &Silent)
                         .expect("analysis runs"),
                 );
             },

@@ -3,13 +3,14 @@
 
 use crate::data::checks::{rounding_note, FileFacts};
 use crate::data::fingerprint::{content_index, ContentIndex};
-use crate::data::{DataReader, DataReport, LoadOptions, RawTable, Table};
+use crate::data::{DataReader, DataReport, RawTable, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Analysed, Finding, RunInfo};
 use crate::resample::stability::{aggregate, run_replicate};
 use crate::resample::{ReplicateRecord, Stability};
 use crate::search::{local_parents, ParentSearch, SearchData};
-use crate::study::{Study, StudyInput};
+use crate::settings::Settings;
+use crate::study::Study;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::ops::Range;
@@ -51,15 +52,16 @@ pub struct Prepared {
 /// file is reported at once), and its bytes are hashed as they are parsed.
 pub fn prepare(
     path: &Path,
-    input: &StudyInput,
-    options: &LoadOptions,
+    settings: &Settings,
+    target: &str,
     progress: &dyn Progress,
 ) -> Result<Prepared> {
     crate::data::names::check_data_path(path)?;
     let started = Instant::now();
     let started_utc = crate::timefmt::now_rfc3339();
+    let options = settings.reader();
     let reader = DataReader::open(path, options)?;
-    let checked = Study::new(input, reader.header())?;
+    let checked = Study::new(settings, target, reader.header())?;
     let (raw, facts) = reader.read_rows()?;
     assemble(
         path,
@@ -76,12 +78,13 @@ pub fn prepare(
 pub fn prepare_read(
     path: &Path,
     (raw, facts): (RawTable, FileFacts),
-    input: &StudyInput,
-    options: &LoadOptions,
+    settings: &Settings,
+    target: &str,
     progress: &dyn Progress,
 ) -> Result<Prepared> {
     let started = (Instant::now(), crate::timefmt::now_rfc3339());
-    let checked = Study::new(input, &raw)?;
+    let checked = Study::new(settings, target, &raw)?;
+    let options = settings.reader();
     assemble(path, raw, facts, checked, options, progress, started)
 }
 
@@ -91,7 +94,7 @@ fn assemble(
     raw: RawTable,
     facts: FileFacts,
     (study, used, target): (Study, Vec<usize>, usize),
-    options: &LoadOptions,
+    options: &crate::data::LoadOptions,
     progress: &dyn Progress,
     (started, started_utc): (Instant, String),
 ) -> Result<Prepared> {
@@ -243,6 +246,7 @@ impl Prepared {
             threads: rayon::current_num_threads(),
             data_path: self.data_path.clone(),
             command_line,
+            study_file: None,
         }
     }
 }
@@ -268,12 +272,12 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
 /// Runs the whole analysis of a CSV file: full-data search, every replicate, stability.
 pub fn analyze_file(
     path: &Path,
-    input: &StudyInput,
-    options: &LoadOptions,
+    settings: &Settings,
+    target: &str,
     command_line: Vec<String>,
     progress: &dyn Progress,
 ) -> Result<Analysed> {
-    let prepared = prepare(path, input, options, progress)?;
+    let prepared = prepare(path, settings, target, progress)?;
     let full = prepared.full_search(progress);
     let records = prepared.replicates(0..prepared.study.resampling.count, &full, progress);
     let content = prepared.content.clone();
@@ -305,13 +309,13 @@ pub struct Partial {
 /// Computes replicates `range` of a study into a partial result.
 pub fn analyze_part(
     path: &Path,
-    input: &StudyInput,
-    options: &LoadOptions,
+    settings: &Settings,
+    target: &str,
     range: Range<u32>,
     command_line: Vec<String>,
     progress: &dyn Progress,
 ) -> Result<Partial> {
-    let prepared = prepare(path, input, options, progress)?;
+    let prepared = prepare(path, settings, target, progress)?;
     let count = prepared.study.resampling.count;
     if range.start >= range.end || range.end > count {
         return Err(Error::input(format!(
@@ -388,6 +392,7 @@ pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> 
         threads: rayon::current_num_threads(),
         data_path: first.finding.run.data_path.clone(),
         command_line,
+        study_file: first.finding.run.study_file.clone(),
     };
     Ok(Analysed {
         finding: attach_stability(finding, &records),

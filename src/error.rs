@@ -8,6 +8,19 @@ pub enum Error {
     /// Bad usage or bad input (exit code 2): the user can fix it.
     #[error("{0}")]
     Input(String),
+    /// Settings that break a rule (exit code 2). Each problem carries the key at fault; shown here
+    /// as the command line names them, re-rendered by study files and plans at their keys.
+    #[error("{}", crate::settings::key::render_flags(.0))]
+    Settings(Vec<crate::settings::key::SettingProblem>),
+    /// Several problems of one file (a study file, a plan), each a line naming its place, and a
+    /// closing summary (exit code 2). The summary is the message; the lines come before it.
+    #[error("{summary}")]
+    Problems {
+        /// One line per problem.
+        problems: Vec<String>,
+        /// What they amount to.
+        summary: String,
+    },
     /// Verification found a difference or a batch found drift (exit code 1).
     #[error("{0}")]
     Mismatch(String),
@@ -35,7 +48,7 @@ impl Error {
     pub fn exit_code(&self) -> i32 {
         match self {
             Error::Mismatch(_) => 1,
-            Error::Input(_) => 2,
+            Error::Input(_) | Error::Settings(_) | Error::Problems { .. } => 2,
             Error::Internal(_) => 3,
             Error::ClosedPipe => 0,
         }

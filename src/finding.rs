@@ -16,7 +16,7 @@ pub const SCHEMA: &str = "forebear.result/1";
 /// Version of the method: every computation that affects results. It changes whenever any such
 /// computation changes (`tests/method_version.rs` holds the digests that pin it), so that `verify`
 /// can tell "another build of the same method" from "another method".
-pub const METHOD_VERSION: &str = "forebear-method/3";
+pub const METHOD_VERSION: &str = "forebear-method/4";
 
 /// Tool identity.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
@@ -86,6 +86,9 @@ pub struct RunInfo {
     pub data_path: String,
     /// The command line that produced this result.
     pub command_line: Vec<String>,
+    /// The study file the settings came from (`analyze --config`), with its SHA-256.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub study_file: Option<crate::settings::StudyFileRecord>,
 }
 
 /// What the used rows of one column look like (for the dossier's data section).

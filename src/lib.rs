@@ -1,6 +1,7 @@
 //! forebear: nonparametric local causal search with a dossier a reviewer can re-run.
 //!
-//! Data flow (DESIGN.md): `data` reads and validates a CSV; `study` validates settings; `search`
+//! Data flow (DESIGN.md): `data` reads and validates a CSV; `settings` checks settings once and
+//! `study` checks them against the data's header; `search`
 //! runs forward selection and parent recovery on the coefficients of `measure`; the result is one
 //! `finding::Finding`, rendered by `report` and digested by `manifest`.
 
@@ -20,6 +21,7 @@ pub mod reproduce;
 pub mod resample;
 pub mod rng;
 pub mod search;
+pub mod settings;
 pub mod study;
 pub mod text;
 pub mod timefmt;

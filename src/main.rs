@@ -1,7 +1,5 @@
 //! The forebear binary: parse arguments, call one command, map errors to exit codes.
 
-use clap::Parser;
-
 fn main() {
     // A panic is a bug, not bad input: report it in one line and exit 3 as DESIGN.md promises,
     // instead of Rust's default message and exit code 101.
@@ -25,16 +23,24 @@ fn main() {
     let argv: Vec<String> = std::env::args_os()
         .map(|a| a.to_string_lossy().into_owned())
         .collect();
-    let cli = match forebear::cli::Cli::try_parse() {
-        Ok(cli) => cli,
+    let (cli, explicit) = match forebear::cli::parse(std::env::args_os()) {
+        Ok(parsed) => parsed,
         Err(error) => usage_error(error),
     };
-    let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, argv));
+    let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, &explicit, argv));
     match outcome {
         Ok(Ok(())) => {}
         // The reader of our output went away: not a failure, and nothing left to say.
         Ok(Err(forebear::error::Error::ClosedPipe)) => {}
         Ok(Err(error)) => {
+            if let forebear::error::Error::Problems { problems, .. } = &error {
+                for problem in problems {
+                    eprintln!(
+                        "forebear: error: {}",
+                        forebear::text::for_terminal(&one_line(problem))
+                    );
+                }
+            }
             // Names, values and paths inside the message are the user's: no control sequence or
             // bidirectional control of theirs reaches the terminal.
             eprintln!(

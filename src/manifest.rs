@@ -58,6 +58,10 @@ pub struct ManifestSettings {
     pub canonical: serde_json::Value,
     /// SHA-256 of the canonical JSON text of `canonical`.
     pub sha256: String,
+    /// The study file the settings were read from (`analyze --config`), with the SHA-256 of its
+    /// bytes; flags typed beside it are in the command line.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub study_file: Option<crate::settings::StudyFileRecord>,
 }
 
 /// The result digests.
@@ -94,6 +98,7 @@ impl Manifest {
             settings: ManifestSettings {
                 canonical: settings_value(finding),
                 sha256: settings_sha256(finding),
+                study_file: finding.run.study_file.clone(),
             },
             results: ManifestResults {
                 digest: finding.digest.clone(),

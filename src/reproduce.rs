@@ -31,10 +31,8 @@ pub fn reproduce_command(finding: &Finding) -> String {
         parts.push(format!("--candidates {}", shell_quote(&named.join(","))));
     }
     let data = &finding.data;
-    match data.delimiter.as_str() {
-        "," => {}
-        "\t" => parts.push("--delimiter tab".to_string()),
-        other => parts.push(format!("--delimiter {}", shell_quote(other))),
+    if data.delimiter != crate::data::Delimiter::Comma {
+        parts.push(format!("--delimiter {}", data.delimiter.flag_value()));
     }
     if data.decimal_comma {
         parts.push("--decimal-comma".to_string());

@@ -5,77 +5,12 @@ use crate::data::checks::{require_rows, MIN_ROWS_PER_SAMPLE};
 use crate::data::load::RawTable;
 use crate::data::DataReport;
 use crate::error::{Error, Result};
+use crate::data::LoadOptions;
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
 use crate::search::SelectionRule;
+use crate::settings::{Key, SettingProblem, Settings, SettingsInput};
 use serde::{Deserialize, Serialize};
-
-/// Settings as the user gave them (flags now, a TOML file later).
-#[derive(Clone, Debug)]
-pub struct StudyInput {
-    /// Target column name.
-    pub target: String,
-    /// Columns never to consider (neither as candidates nor in members' boundaries).
-    pub exclude: Vec<String>,
-    /// When given, the only columns considered besides the target; every other column is left
-    /// out as if excluded.
-    pub candidates: Option<Vec<String>>,
-    /// Study seed for every keyed random draw.
-    pub seed: u64,
-    /// Predictor scaling.
-    pub scaling: Scaling,
-    /// Level of the pairwise independence tests.
-    pub alpha: f64,
-    /// Number of resampling replicates (0: none).
-    pub replicates: u32,
-    /// How replicates draw their rows.
-    pub resample: PlanKind,
-    /// Share of rows per replicate (`subsample` only).
-    pub fraction: Option<f64>,
-    /// π_thr: the frequency at which a finding counts as stable.
-    pub stability_threshold: f64,
-    /// How forward selections decide (stopping rule, selection level, permutations).
-    pub selection: SelectionRule,
-}
-
-impl StudyInput {
-    /// The command line's defaults for one target: seed 1, rank scaling, α = 0.05, 100
-    /// complementary-pairs replicates, π_thr = 0.6.
-    pub fn for_target(target: &str) -> StudyInput {
-        StudyInput {
-            target: target.to_string(),
-            exclude: Vec::new(),
-            candidates: None,
-            seed: 1,
-            scaling: Scaling::Rank,
-            alpha: 0.05,
-            replicates: 100,
-            resample: PlanKind::ComplementaryPairs,
-            fraction: None,
-            stability_threshold: 0.6,
-            selection: SelectionRule::calibrated(),
-        }
-    }
-
-    /// The input that gives `study` again: with the same data, `Study::new` and
-    /// [`Study::on_data`] on it return a study equal to `study`.
-    pub fn replaying(study: &Study) -> StudyInput {
-        let plan = &study.resampling;
-        StudyInput {
-            target: study.target.clone(),
-            exclude: study.excluded.clone(),
-            candidates: study.candidates_named.clone(),
-            seed: study.seed,
-            scaling: study.scaling,
-            alpha: study.alpha,
-            replicates: plan.count,
-            resample: plan.kind,
-            fraction: (plan.kind == PlanKind::Subsample).then_some(plan.fraction),
-            stability_threshold: study.stability_threshold,
-            selection: study.selection,
-        }
-    }
-}
 
 /// The validated settings, in the canonical form that is hashed and recorded.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
@@ -106,86 +41,114 @@ pub struct Study {
 }
 
 impl Study {
-    /// Checks `input` against the header of `raw`. Returns the study and the positions (in `raw`)
-    /// of the used columns and of the target.
-    pub fn new(input: &StudyInput, raw: &RawTable) -> Result<(Study, Vec<usize>, usize)> {
-        let target = raw.require_column(&input.target, "target")?;
-        let mut excluded_positions = Vec::new();
-        for name in &input.exclude {
-            let j = raw.require_column(name, "excluded")?;
-            if j == target {
-                return Err(Error::input(format!(
-                    "the target '{name}' cannot also be excluded; remove it from --exclude"
-                )));
+    /// Checks the column roles of `settings` for `target` against the header of `raw` (every
+    /// problem, not only the first). Returns the study and the positions (in `raw`) of the used
+    /// columns and of the target.
+    pub fn new(
+        settings: &Settings,
+        target: &str,
+        raw: &RawTable,
+    ) -> Result<(Study, Vec<usize>, usize)> {
+        let mut problems = Vec::new();
+        let mut column = |name: &str, key: Key, role: &str| match raw.require_column(name, role) {
+            Ok(j) => Some(j),
+            Err(e) => {
+                problems.push(SettingProblem::about(key).text(e.to_string()));
+                None
             }
-            excluded_positions.push(j);
-        }
-        if !(input.alpha > 0.0 && input.alpha < 1.0) {
-            return Err(Error::input(format!(
-                "--alpha {} is not a level: it must lie strictly between 0 and 1",
-                input.alpha
-            )));
-        }
-        if !(input.stability_threshold > 0.5 && input.stability_threshold <= 1.0) {
-            return Err(Error::input(format!(
-                "--stability-threshold {} is outside (0.5, 1]: the error bound of Meinshausen and \
-                 Bühlmann (2010) needs a threshold above one half",
-                input.stability_threshold
-            )));
-        }
-        if let Some(problem) = input.selection.problems().into_iter().next() {
-            return Err(Error::input(problem));
-        }
-        let resampling =
-            ResamplePlan::new(input.resample, input.replicates, input.fraction, input.seed)?;
-        let named = match &input.candidates {
-            None => None,
-            Some(names) => Some(named_candidates(names, &input.exclude, target, raw)?),
+        };
+        let target_position = column(target, Key::Targets, "target");
+        let excluded_positions: Vec<usize> = settings
+            .exclude()
+            .iter()
+            .filter_map(|name| column(name, Key::Exclude, "excluded"))
+            .collect();
+        let named: Option<Vec<usize>> = settings.candidates().map(|names| {
+            names
+                .iter()
+                .filter_map(|name| column(name, Key::Candidates, "candidate"))
+                .collect()
+        });
+        let Some(target_position) = target_position.filter(|_| problems.is_empty()) else {
+            return Err(Error::Settings(problems));
         };
         let used: Vec<usize> = (0..raw.names.len())
             .filter(|j| !excluded_positions.contains(j))
-            .filter(|&j| j == target || named.as_ref().is_none_or(|n| n.contains(&j)))
+            .filter(|&j| {
+                j == target_position || named.as_ref().is_none_or(|n| n.contains(&j))
+            })
             .collect();
         if used.len() < 3 {
             let have: Vec<String> = used
                 .iter()
-                .filter(|&&j| j != target)
+                .filter(|&&j| j != target_position)
                 .map(|&j| format!("'{}'", raw.names[j]))
                 .collect();
-            return Err(Error::input(format!(
-                "{}: {} candidate column(s) remain besides the target '{}'{}, but the search needs \
-                 at least 2 ({CANDIDATES_REASON}); {}",
-                raw.file,
-                have.len(),
-                input.target,
-                if have.is_empty() { String::new() } else { format!(" ({})", have.join(", ")) },
-                if input.candidates.is_some() {
-                    "name more columns with --candidates"
-                } else {
-                    "exclude fewer columns or add candidate columns to the file"
-                }
-            )));
+            let (key, advice) = match settings.candidates() {
+                Some(_) => (Key::Candidates, "name more columns with "),
+                None => (Key::Exclude, "exclude fewer columns with "),
+            };
+            return Err(Error::Settings(vec![SettingProblem::about(key)
+                .text(format!(
+                    "{}: {} candidate column(s) remain besides the target '{}'{}, but the search \
+                     needs at least 2 ({CANDIDATES_REASON}); {advice}",
+                    raw.file,
+                    have.len(),
+                    target,
+                    if have.is_empty() {
+                        String::new()
+                    } else {
+                        format!(" ({})", have.join(", "))
+                    },
+                ))
+                .name(key)
+                .text(" or add candidate columns to the file")]));
         }
         let study = Study {
-            target: input.target.clone(),
+            target: target.to_string(),
             candidates: used
                 .iter()
-                .filter(|&&j| j != target)
+                .filter(|&&j| j != target_position)
                 .map(|&j| raw.names[j].clone())
                 .collect(),
             excluded: excluded_positions
                 .iter()
                 .map(|&j| raw.names[j].clone())
                 .collect(),
-            candidates_named: input.candidates.clone(),
-            seed: input.seed,
-            scaling: input.scaling,
-            alpha: input.alpha,
-            resampling,
-            stability_threshold: input.stability_threshold,
-            selection: input.selection,
+            candidates_named: settings.candidates().map(<[String]>::to_vec),
+            seed: settings.seed(),
+            scaling: settings.scaling(),
+            alpha: settings.alpha(),
+            resampling: settings.resampling().clone(),
+            stability_threshold: settings.stability_threshold(),
+            selection: settings.selection(),
         };
-        Ok((study, used, target))
+        Ok((study, used, target_position))
+    }
+
+    /// The settings input that gives this study and its reader options again: with the same data,
+    /// checking it and building the study returns a study equal to `self`.
+    pub fn replaying(&self, reader: &LoadOptions) -> SettingsInput {
+        let plan = &self.resampling;
+        SettingsInput {
+            targets: Some(vec![self.target.clone()]),
+            exclude: Some(self.excluded.clone()),
+            candidates: self.candidates_named.clone(),
+            seed: Some(self.seed),
+            scaling: Some(self.scaling),
+            alpha: Some(self.alpha),
+            replicates: Some(plan.count),
+            resample: Some(plan.kind),
+            fraction: (plan.kind == PlanKind::Subsample).then_some(plan.fraction),
+            stability_threshold: Some(self.stability_threshold),
+            stopping_rule: Some(self.selection.stopping_rule),
+            selection_alpha: Some(self.selection.alpha),
+            permutations: Some(self.selection.permutations),
+            delimiter: Some(reader.delimiter),
+            decimal_comma: Some(reader.decimal_comma),
+            missing_tokens: Some(reader.missing_tokens.clone()),
+            missing: Some(reader.missing_policy),
+        }
     }
 
     /// Drops the candidates that the data step left out (constant, or repeating another column)
@@ -279,42 +242,11 @@ const CANDIDATES_REASON: &str = "parents are recognised as two or more members o
 /// probability n^(1 − n), about 5·10⁻²⁵ at 20 rows.
 const BOOTSTRAP_MIN_ROWS: usize = 20;
 
-/// Positions of the columns named by `--candidates`, checked against the header, the target and
-/// `--exclude`.
-fn named_candidates(
-    names: &[String],
-    exclude: &[String],
-    target: usize,
-    raw: &RawTable,
-) -> Result<Vec<usize>> {
-    if names.is_empty() {
-        return Err(Error::input(
-            "--candidates names no column; give at least two, as in --candidates x1,x2",
-        ));
-    }
-    let mut positions = Vec::new();
-    for name in names {
-        let j = raw.require_column(name, "candidate")?;
-        if j == target {
-            return Err(Error::input(format!(
-                "the target '{name}' cannot also be a candidate; remove it from --candidates"
-            )));
-        }
-        if exclude.contains(name) {
-            return Err(Error::input(format!(
-                "column '{name}' is named by both --candidates and --exclude; name it in one of them"
-            )));
-        }
-        positions.push(j);
-    }
-    Ok(positions)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::data::checks::FileFacts;
-    use crate::data::{LoadOptions, MissingPolicy};
+    use crate::data::{Delimiter, MissingPolicy};
 
     /// Six columns over 40 rows: y, three varying candidates, a constant one and a copy of x1.
     fn raw() -> RawTable {
@@ -334,9 +266,11 @@ mod tests {
         )
     }
 
-    fn run(input: &StudyInput, options: &LoadOptions) -> (Study, DataReport) {
+    fn run(input: &SettingsInput) -> (Study, DataReport) {
         let raw = raw();
-        let (study, used, target) = Study::new(input, &raw).unwrap();
+        let settings = input.check().unwrap();
+        let options = settings.reader();
+        let (study, used, target) = Study::new(&settings, &settings.targets()[0], &raw).unwrap();
         let left_out = (0..raw.names.len())
             .filter(|j| !used.contains(j))
             .map(|j| raw.names[j].clone())
@@ -349,21 +283,22 @@ mod tests {
 
     #[test]
     fn replaying_a_study_and_its_reader_options_gives_the_same_study_and_report() {
-        let mut input = StudyInput::for_target("y");
-        input.candidates = Some(vec!["z".into(), "x1".into(), "k".into(), "x1_copy".into()]);
-        input.exclude = vec!["x2".into()];
-        input.seed = 9;
-        input.scaling = Scaling::Standardize;
-        input.resample = PlanKind::Subsample;
-        input.fraction = Some(0.7);
-        input.replicates = 12;
-        let options = LoadOptions {
-            delimiter: b';',
-            decimal_comma: true,
-            missing_policy: MissingPolicy::Error,
-            ..LoadOptions::from_token_list("-1,NA")
+        let input = SettingsInput {
+            candidates: Some(vec!["z".into(), "x1".into(), "k".into(), "x1_copy".into()]),
+            exclude: Some(vec!["x2".into()]),
+            seed: Some(9),
+            scaling: Some(Scaling::Standardize),
+            resample: Some(PlanKind::Subsample),
+            fraction: Some(0.7),
+            replicates: Some(12),
+            delimiter: Some(Delimiter::Semicolon),
+            decimal_comma: Some(true),
+            missing: Some(MissingPolicy::Error),
+            missing_tokens: Some(vec!["-1".into(), "NA".into()]),
+            ..SettingsInput::for_target("y")
         };
-        let (study, report) = run(&input, &options);
+        let options = input.check().unwrap().reader().clone();
+        let (study, report) = run(&input);
         assert_eq!(study.candidates, ["x1", "z"], "file order, usable only");
         assert_eq!(report.constant_columns, ["k"]);
         assert_eq!(report.duplicate_columns["x1_copy"], "x1");
@@ -371,7 +306,7 @@ mod tests {
 
         let replayed_options = LoadOptions::from_report(&report);
         assert_eq!(replayed_options, options);
-        let (again, again_report) = run(&StudyInput::replaying(&study), &replayed_options);
+        let (again, again_report) = run(&study.replaying(&replayed_options));
         assert_eq!(again, study);
         assert_eq!(again_report, report);
 
@@ -381,24 +316,21 @@ mod tests {
         let report_json: DataReport =
             serde_json::from_str(&serde_json::to_string(&report).unwrap()).unwrap();
         assert_eq!(
-            run(
-                &StudyInput::replaying(&study_json),
-                &LoadOptions::from_report(&report_json)
-            ),
+            run(&study_json.replaying(&LoadOptions::from_report(&report_json))),
             (study, report)
         );
     }
 
     #[test]
     fn replaying_a_default_study_keeps_the_defaults() {
-        let (study, report) = run(&StudyInput::for_target("y"), &LoadOptions::default());
+        let (study, report) = run(&SettingsInput::for_target("y"));
         assert_eq!(study.candidates_named, None);
         assert!(!serde_json::to_string(&study)
             .unwrap()
             .contains("candidates_named"));
-        let input = StudyInput::replaying(&study);
+        let input = study.replaying(&LoadOptions::from_report(&report));
         assert_eq!(input.fraction, None);
-        assert_eq!(run(&input, &LoadOptions::from_report(&report)).0, study);
+        assert_eq!(run(&input).0, study);
         assert_eq!(LoadOptions::from_report(&report), LoadOptions::default());
     }
 
@@ -409,7 +341,7 @@ mod tests {
             "missing_tokens":["","NA","NaN","null"]}"#;
         let report: DataReport = serde_json::from_str(old).unwrap();
         let options = LoadOptions::from_report(&report);
-        assert_eq!(options.delimiter, b',');
+        assert_eq!(options.delimiter, Delimiter::Comma);
         assert!(!options.decimal_comma);
         assert_eq!(options.missing_policy, MissingPolicy::DropRows);
         assert_eq!(options.missing_tokens, ["", "NA", "NaN", "null"]);
@@ -417,11 +349,29 @@ mod tests {
 
     #[test]
     fn rows_needed_follow_the_resampling_plan() {
-        let (mut study, _) = run(&StudyInput::for_target("y"), &LoadOptions::default());
+        let (mut study, _) = run(&SettingsInput::for_target("y"));
         assert_eq!(study.rows_needed().0, 40);
-        study.resampling = ResamplePlan::new(PlanKind::Subsample, 10, Some(0.3), 1).unwrap();
+        study.resampling = ResamplePlan::new(PlanKind::Subsample, 10, Some(0.3));
         assert_eq!(study.rows_needed().0, 67);
-        study.resampling = ResamplePlan::new(PlanKind::ComplementaryPairs, 0, None, 1).unwrap();
+        study.resampling = ResamplePlan::new(PlanKind::ComplementaryPairs, 0, None);
         assert_eq!(study.rows_needed().0, 20);
+    }
+
+    #[test]
+    fn every_unknown_column_is_reported_at_once_with_its_key() {
+        let input = SettingsInput {
+            exclude: Some(vec!["x9".into()]),
+            candidates: Some(vec!["zz".into(), "x1".into()]),
+            ..SettingsInput::for_target("yy")
+        };
+        let settings = input.check().unwrap();
+        let Err(Error::Settings(problems)) = Study::new(&settings, "yy", &raw()) else {
+            panic!("unknown columns accepted");
+        };
+        let keys: Vec<Key> = problems.iter().map(|p| p.key).collect();
+        assert_eq!(keys, [Key::Targets, Key::Exclude, Key::Candidates]);
+        assert!(problems[0]
+            .render(crate::settings::Naming::Flags)
+            .contains("the target column 'yy' is not in the header; did you mean 'y'?"));
     }
 }

@@ -4,22 +4,24 @@
 //! the characters that matter to the reader, so that most inputs get past the header.
 
 use forebear::analysis::{prepare, Silent};
-use forebear::data::{read_csv, LoadOptions, MissingPolicy};
-use forebear::study::StudyInput;
+use forebear::data::{read_csv, Delimiter, MissingPolicy};
+use forebear::settings::SettingsInput;
 use proptest::prelude::*;
 
 const ALPHABET: &[u8] = b"0123456789.,;|\t\n\r\"+-eE xyNA#/inf\xe9\xef\xbb\xbf\0";
 
-fn options(flags: u8) -> LoadOptions {
-    LoadOptions {
-        delimiter: [b',', b';', b'\t', b'|'][usize::from(flags & 3)],
-        decimal_comma: flags & 4 != 0,
-        missing_policy: if flags & 8 != 0 {
+/// Reader settings drawn from the bits of `flags`, for `target`, without resampling.
+fn settings(flags: u8, target: &str) -> SettingsInput {
+    SettingsInput {
+        delimiter: Some(Delimiter::ALL[usize::from(flags & 3)]),
+        decimal_comma: Some(flags & 4 != 0),
+        missing: Some(if flags & 8 != 0 {
             MissingPolicy::Error
         } else {
             MissingPolicy::DropRows
-        },
-        ..LoadOptions::default()
+        }),
+        replicates: Some(0),
+        ..SettingsInput::for_target(target)
     }
 }
 
@@ -36,13 +38,12 @@ proptest! {
         std::fs::create_dir_all(&dir).unwrap();
         let path = dir.join("any.csv");
         std::fs::write(&path, &bytes).unwrap();
-        let options = options(flags);
+        let options = settings(flags, "").check_reader().unwrap();
         match read_csv(&path, &options) {
             Err(e) => prop_assert_eq!(e.exit_code(), 2, "{}", e),
             Ok(raw) => {
-                let mut input = StudyInput::for_target(&raw.names[0]);
-                input.replicates = 0;
-                if let Err(e) = prepare(&path, &input, &options, &Silent) {
+                let checked = settings(flags, &raw.names[0]).check().unwrap();
+                if let Err(e) = prepare(&path, &checked, &raw.names[0], &Silent) {
                     prop_assert_eq!(e.exit_code(), 2, "{}", e);
                 }
             }

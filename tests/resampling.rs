@@ -291,8 +291,8 @@ fn bootstrap_t_n(exclude_copies: bool) -> f64 {
         })
         .collect();
     let table = Table::from_columns(vec!["y".into(), "z".into()], cols);
-    let plan = ResamplePlan::new(PlanKind::Bootstrap, 2, None, 3).unwrap();
-    let drawn = plan.rows(0, n);
+    let plan = ResamplePlan::new(PlanKind::Bootstrap, 2, None);
+    let drawn = plan.rows(3, 0, n);
     let sub = table.select_rows(&drawn.rows);
     let mut data = SearchData::new(&sub, Scaling::Rank, 3, 1);
     if exclude_copies {

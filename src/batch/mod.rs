@@ -12,6 +12,7 @@
 //! `summary.json` and the index files hold no timestamps, durations, paths of the machine or
 //! command lines, so that shard outputs collected give the same bytes as one run.
 
+mod check;
 pub mod drift;
 pub mod index;
 pub mod output;

@@ -1,100 +1,37 @@
 //! The batch plan: a TOML file of studies (a data file, one or more targets, settings), with
-//! defaults for all studies and per-study overrides. [`Plan::load`] validates the whole file
-//! before anything runs and returns every problem it finds, each naming the plan file and, where
-//! the TOML parser gives a position, the line.
+//! defaults for all studies and per-study overrides. `[defaults]` and every `[[study]]` take the
+//! settings keys of a study file (one reader, `settings::toml_table`); a study adds `name` and
+//! `data`. [`Plan::load`] validates the whole file before anything runs and returns every problem
+//! it finds, each at the line and column of the key at fault; [`Plan::check`] adds a header-only
+//! read of every data file.
 
 use crate::data::fingerprint::sha256_text;
-use crate::data::LoadOptions;
-use crate::study::StudyInput;
+use crate::settings::toml_table::{bounded, line_and_column, Placed, SettingsTable};
+use crate::settings::{Key, Settings, SettingsInput};
 use serde::de::DeserializeOwned;
 use serde::Deserialize;
+use std::collections::BTreeMap;
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 use toml::de::{DeTable, DeValue, ValueDeserializer};
 use toml::Spanned;
 
 pub use super::rules::unsafe_name;
-use super::rules::{check_duplicates, check_settings, check_study};
+use super::rules::{check_duplicates, check_study};
 
 /// File names of a batch output folder that a study name must not take.
 pub const RESERVED_NAMES: [&str; 3] = ["index.html", "index.md", "summary.json"];
 
 /// Keys of a study table besides the settings.
-const STUDY_KEYS: [&str; 3] = ["name", "data", "targets"];
-/// Keys of `[defaults]`, also allowed in every `[[study]]` as overrides.
-const SETTING_KEYS: [&str; 16] = [
-    "seed",
-    "replicates",
-    "resample",
-    "fraction",
-    "alpha",
-    "stability_threshold",
-    "stopping_rule",
-    "selection_alpha",
-    "permutations",
-    "scaling",
-    "exclude",
-    "candidates",
-    "missing_tokens",
-    "missing",
-    "delimiter",
-    "decimal_comma",
-];
+pub(super) const STUDY_KEYS: [&str; 2] = ["name", "data"];
 
 /// One problem of a plan file.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Problem {
-    /// 1-based line in the plan file, where known.
-    pub line: Option<usize>,
+    /// 1-based line and column (in characters) in the plan file, where known.
+    pub place: Option<(usize, usize)>,
     /// What is wrong, and what to do.
     pub message: String,
-}
-
-/// Settings as written (all optional: a study's value, else the default's, else the built-in).
-#[derive(Clone, Debug, Default, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub(super) struct SettingsTable {
-    pub(super) seed: Option<u64>,
-    pub(super) replicates: Option<u32>,
-    pub(super) resample: Option<String>,
-    pub(super) fraction: Option<f64>,
-    pub(super) alpha: Option<f64>,
-    pub(super) stability_threshold: Option<f64>,
-    pub(super) stopping_rule: Option<String>,
-    pub(super) selection_alpha: Option<f64>,
-    pub(super) permutations: Option<u32>,
-    pub(super) scaling: Option<String>,
-    pub(super) exclude: Option<Vec<String>>,
-    pub(super) candidates: Option<Vec<String>>,
-    pub(super) missing_tokens: Option<Vec<String>>,
-    pub(super) missing: Option<String>,
-    pub(super) delimiter: Option<String>,
-    pub(super) decimal_comma: Option<bool>,
-}
-
-impl SettingsTable {
-    /// `self` where set, else `defaults`.
-    fn over(self, defaults: &SettingsTable) -> SettingsTable {
-        let d = defaults.clone();
-        SettingsTable {
-            seed: self.seed.or(d.seed),
-            replicates: self.replicates.or(d.replicates),
-            resample: self.resample.or(d.resample),
-            fraction: self.fraction.or(d.fraction),
-            alpha: self.alpha.or(d.alpha),
-            stability_threshold: self.stability_threshold.or(d.stability_threshold),
-            stopping_rule: self.stopping_rule.or(d.stopping_rule),
-            selection_alpha: self.selection_alpha.or(d.selection_alpha),
-            permutations: self.permutations.or(d.permutations),
-            scaling: self.scaling.or(d.scaling),
-            exclude: self.exclude.or(d.exclude),
-            candidates: self.candidates.or(d.candidates),
-            missing_tokens: self.missing_tokens.or(d.missing_tokens),
-            missing: self.missing.or(d.missing),
-            delimiter: self.delimiter.or(d.delimiter),
-            decimal_comma: self.decimal_comma.or(d.decimal_comma),
-        }
-    }
 }
 
 #[derive(Debug, Deserialize)]
@@ -102,7 +39,31 @@ impl SettingsTable {
 pub(super) struct StudyHead {
     pub(super) name: Spanned<String>,
     pub(super) data: Spanned<String>,
-    pub(super) targets: Spanned<Vec<String>>,
+}
+
+/// Where a study's keys are written in the plan, to place the problems found later (a data
+/// file's header).
+#[derive(Clone, Debug, Default)]
+pub(super) struct StudyPlaces {
+    /// The study's own keys.
+    pub(super) own: BTreeMap<Key, Range<usize>>,
+    /// The keys of `[defaults]`.
+    pub(super) defaults: BTreeMap<Key, Range<usize>>,
+    /// The `data` value.
+    pub(super) data: Range<usize>,
+    /// The `name` value.
+    pub(super) name: Range<usize>,
+}
+
+impl StudyPlaces {
+    /// Where the value of `key` came from: the study, else `[defaults]`, else the study's name.
+    pub(super) fn of(&self, key: Key) -> Range<usize> {
+        self.own
+            .get(&key)
+            .or_else(|| self.defaults.get(&key))
+            .cloned()
+            .unwrap_or_else(|| self.name.clone())
+    }
 }
 
 /// One validated study of the plan.
@@ -116,20 +77,10 @@ pub struct PlannedStudy {
     pub data_path: PathBuf,
     /// Targets in the order written.
     pub targets: Vec<String>,
-    /// Reader options.
-    pub load: LoadOptions,
-    /// Settings for every target (`target` is filled in per target by [`PlannedStudy::input`]).
-    pub(super) settings: StudyInput,
-}
-
-impl PlannedStudy {
-    /// The settings of this study for one target.
-    pub fn input(&self, target: &str) -> StudyInput {
-        StudyInput {
-            target: target.to_string(),
-            ..self.settings.clone()
-        }
-    }
+    /// Checked settings (reader options included) for every target.
+    pub settings: Settings,
+    /// Where its keys are written.
+    pub(super) places: StudyPlaces,
 }
 
 /// A validated plan.
@@ -159,14 +110,12 @@ pub struct Pair<'a> {
 impl Plan {
     /// Reads and validates a plan file; on failure returns every problem found.
     pub fn load(path: &Path) -> Result<Plan, Vec<Problem>> {
-        let text = std::fs::read_to_string(path).map_err(|e| {
-            vec![Problem {
-                line: None,
-                message: format!("cannot read the plan file: {e}"),
-            }]
-        })?;
+        let text = read_plan(path)?;
         let dir = path.parent().unwrap_or(Path::new(""));
-        let studies = parse(&text, dir)?;
+        let (studies, problems) = parse(&text, dir);
+        if !problems.is_empty() {
+            return Err(placed(&text, problems));
+        }
         Ok(Plan {
             path: path.to_path_buf(),
             file_name: path.file_name().map_or_else(
@@ -265,46 +214,52 @@ impl Shard {
     }
 }
 
-fn line_of(text: &str, offset: usize) -> usize {
-    text[..offset.min(text.len())].matches('\n').count() + 1
+/// The plan's text, or why it cannot be read.
+pub(super) fn read_plan(path: &Path) -> Result<String, Vec<Problem>> {
+    std::fs::read_to_string(path).map_err(|e| {
+        vec![Problem {
+            place: None,
+            message: format!("cannot read the plan file: {e}"),
+        }]
+    })
 }
 
-pub(super) struct Collector<'t> {
-    text: &'t str,
-    pub(super) problems: Vec<Problem>,
+/// Problems at byte spans as problems at lines and columns, in the order of the text.
+pub(super) fn placed(text: &str, mut problems: Vec<Placed>) -> Vec<Problem> {
+    problems.sort_by_key(|p| p.span.as_ref().map_or(0, |s| s.start));
+    problems
+        .into_iter()
+        .map(|p| Problem {
+            place: p.span.map(|s| line_and_column(text, s.start)),
+            message: p.message,
+        })
+        .collect()
 }
 
-impl Collector<'_> {
+pub(super) struct Collector {
+    pub(super) problems: Vec<Placed>,
+}
+
+impl Collector {
     pub(super) fn at(&mut self, span: Option<Range<usize>>, message: String) {
-        let line = span.map(|s| line_of(self.text, s.start));
-        self.problems.push(Problem { line, message });
+        self.problems.push(Placed { span, message });
     }
 
-    /// Deserialises `table` after reporting (and removing) keys outside `known`.
-    fn table<'i, T: DeserializeOwned>(
+    /// Deserialises the keys `known` of `table` (others are the caller's).
+    fn table<T: DeserializeOwned>(
         &mut self,
-        mut table: DeTable<'i>,
+        table: &DeTable<'_>,
         span: Range<usize>,
         known: &[&str],
         place: &str,
     ) -> Option<T> {
-        let unknown: Vec<(String, Range<usize>)> = table
-            .keys()
-            .filter(|k| !known.contains(&k.get_ref().as_ref()))
-            .map(|k| (k.get_ref().to_string(), k.span()))
-            .collect();
-        for (key, key_span) in unknown {
-            self.at(
-                Some(key_span),
-                format!(
-                    "unknown key {} in {place}; the keys there are: {}",
-                    crate::text::quoted(&key),
-                    known.join(", ")
-                ),
-            );
-            table.remove(key.as_str());
+        let mut inside = DeTable::new();
+        for (k, v) in table.iter() {
+            if known.contains(&k.get_ref().as_ref()) {
+                inside.insert(k.clone(), v.clone());
+            }
         }
-        let value = Spanned::new(span.clone(), DeValue::Table(table));
+        let value = Spanned::new(span.clone(), DeValue::Table(inside));
         match T::deserialize(ValueDeserializer::from(value)) {
             Ok(v) => Some(v),
             Err(e) => {
@@ -317,40 +272,27 @@ impl Collector<'_> {
     }
 }
 
-fn split_table<'i>(table: &DeTable<'i>, keys: &[&str]) -> (DeTable<'i>, DeTable<'i>) {
-    let mut inside = DeTable::new();
-    let mut outside = DeTable::new();
-    for (k, v) in table.iter() {
-        if keys.contains(&k.get_ref().as_ref()) {
-            inside.insert(k.clone(), v.clone());
-        } else {
-            outside.insert(k.clone(), v.clone());
+/// The studies that passed every check, and every problem of the plan.
+pub(super) fn parse(text: &str, dir: &Path) -> (Vec<PlannedStudy>, Vec<Placed>) {
+    let root = match DeTable::parse(text) {
+        Ok(root) => root,
+        Err(e) => {
+            let problem = Placed {
+                span: e.span(),
+                message: format!("not a TOML file: {}", bounded(e.message())),
+            };
+            return (Vec::new(), vec![problem]);
         }
-    }
-    (inside, outside)
-}
-
-fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
-    let root = DeTable::parse(text).map_err(|e| {
-        vec![Problem {
-            line: e.span().map(|s| line_of(text, s.start)),
-            message: format!("not a TOML file: {}", bounded(e.message())),
-        }]
-    })?;
+    };
     let mut c = Collector {
-        text,
         problems: Vec::new(),
     };
     let mut defaults = SettingsTable::default();
-    let mut defaults_span = None;
     let mut study_values = Vec::new();
     for (key, value) in root.get_ref().iter() {
         match (key.get_ref().as_ref(), value.get_ref()) {
             ("defaults", DeValue::Table(t)) => {
-                defaults_span = Some(key.span());
-                defaults = c
-                    .table(t.clone(), value.span(), &SETTING_KEYS, "[defaults]")
-                    .unwrap_or_default();
+                defaults = SettingsTable::read(t, &[], "[defaults]", &mut c.problems);
             }
             ("study", DeValue::Array(items)) => study_values.extend(items.iter().cloned()),
             ("defaults", _) | ("study", _) => c.at(
@@ -369,10 +311,20 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
             ),
         }
     }
-    let default_problems = check_settings(&defaults, None).err().unwrap_or_default();
-    for m in &default_problems {
-        c.at(defaults_span.clone(), format!("[defaults]: {m}"));
-    }
+    // [defaults] need not name targets; its other problems are reported there, once.
+    let default_problems: Vec<String> = match defaults.input.check() {
+        Ok(_) => Vec::new(),
+        Err(problems) => problems
+            .iter()
+            .filter(|p| p.key != Key::Targets || defaults.input.targets.is_some())
+            .map(|p| {
+                let placed = defaults.place(p, None, "[defaults]");
+                let message = placed.message.clone();
+                c.problems.push(placed);
+                message
+            })
+            .collect(),
+    };
     if study_values.is_empty() {
         c.at(
             None,
@@ -380,7 +332,7 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
         );
     }
     let mut studies: Vec<PlannedStudy> = Vec::new();
-    let mut names: Vec<(String, usize)> = Vec::new();
+    let mut names: Vec<(String, Range<usize>)> = Vec::new();
     for (n, item) in study_values.into_iter().enumerate() {
         let span = item.span();
         let DeValue::Table(table) = item.into_inner() else {
@@ -388,47 +340,37 @@ fn parse(text: &str, dir: &Path) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
             continue;
         };
         let place = study_place(&table, n);
-        let (head, rest) = split_table(&table, &STUDY_KEYS);
-        let (settings, _) = split_table(&rest, &SETTING_KEYS);
-        let mut all_known: Vec<&str> = STUDY_KEYS.to_vec();
-        all_known.extend(SETTING_KEYS);
-        for (k, _) in rest.iter() {
-            if !SETTING_KEYS.contains(&k.get_ref().as_ref()) {
-                c.at(
-                    Some(k.span()),
-                    format!(
-                        "unknown key {} in {place}; the keys there are: {}",
-                        crate::text::quoted(k.get_ref()),
-                        all_known.join(", ")
-                    ),
-                );
-            }
-        }
-        let head: Option<StudyHead> = c.table(head, span.clone(), &STUDY_KEYS, &place);
-        let own: SettingsTable = c
-            .table(settings, span.clone(), &SETTING_KEYS, &place)
-            .unwrap_or_default();
+        let own = SettingsTable::read(&table, &STUDY_KEYS, &place, &mut c.problems);
+        let head: Option<StudyHead> = c.table(&table, span.clone(), &STUDY_KEYS, &place);
         let Some(head) = head else { continue };
-        let line = line_of(text, head.name.span().start);
-        names.push((head.name.get_ref().clone(), line));
-        let merged = own.over(&defaults);
-        if let Some(study) = check_study(&mut c, head, merged, &default_problems, dir, &place) {
+        names.push((head.name.get_ref().clone(), head.name.span()));
+        let study = StudyTables {
+            own,
+            defaults: &defaults,
+            default_problems: &default_problems,
+        };
+        if let Some(study) = check_study(&mut c, head, study, dir, &place) {
             studies.push(study);
         }
     }
-    check_duplicates(&mut c, &names);
-    if !c.problems.is_empty() {
-        c.problems.sort_by_key(|p| p.line.unwrap_or(0));
-        return Err(c.problems);
-    }
+    check_duplicates(&mut c, &names, text);
     studies.sort_by(|a, b| a.name.cmp(&b.name));
-    Ok(studies)
+    (studies, c.problems)
 }
 
-/// A parser's message, on one line and of bounded length (it may quote the plan's text).
-fn bounded(message: &str) -> String {
-    let line = message.split_whitespace().collect::<Vec<_>>().join(" ");
-    crate::text::capped(&crate::text::escaped(&line), 2 * crate::text::ECHO_CHARS)
+/// A study's own settings and the defaults under them.
+pub(super) struct StudyTables<'a> {
+    pub(super) own: SettingsTable,
+    pub(super) defaults: &'a SettingsTable,
+    /// The messages already reported at `[defaults]`.
+    pub(super) default_problems: &'a [String],
+}
+
+impl StudyTables<'_> {
+    /// The study's settings: its own keys over the defaults.
+    pub(super) fn merged(&self) -> SettingsInput {
+        self.own.input.clone().over(&self.defaults.input)
+    }
 }
 
 fn study_place(table: &DeTable<'_>, n: usize) -> String {
@@ -443,7 +385,10 @@ mod tests {
     use super::*;
 
     fn plan_in(text: &str) -> Result<Vec<PlannedStudy>, Vec<Problem>> {
-        parse(text, Path::new(""))
+        match parse(text, Path::new("")) {
+            (studies, problems) if problems.is_empty() => Ok(studies),
+            (_, problems) => Err(placed(text, problems)),
+        }
     }
 
     #[test]
@@ -467,9 +412,9 @@ mod tests {
         .unwrap();
         let names: Vec<&str> = studies.iter().map(|s| s.name.as_str()).collect();
         assert_eq!(names, ["a", "b"]);
-        assert_eq!(studies[0].input("y").seed, 4);
-        assert_eq!(studies[1].input("x").seed, 9);
-        assert_eq!(studies[1].input("x").replicates, 6);
+        assert_eq!(studies[0].settings.seed(), 4);
+        assert_eq!(studies[1].settings.seed(), 9);
+        assert_eq!(studies[1].settings.resampling().count, 6);
         assert_eq!(studies[1].targets, ["y", "x"]);
     }
 

@@ -1,15 +1,12 @@
 //! The rules a plan must follow: safe folder names, valid settings, unique study names. Used by
 //! [`super::plan`] while it reads the file, so that every problem is reported at once.
 
-use super::plan::{Collector, PlannedStudy, Problem, SettingsTable, StudyHead, RESERVED_NAMES};
-use crate::data::LoadOptions;
-use crate::measure::Scaling;
-use crate::resample::{PlanKind, ResamplePlan};
-use crate::search::{SelectionRule, StoppingRule};
-use crate::study::StudyInput;
+use super::plan::{Collector, PlannedStudy, StudyHead, StudyPlaces, StudyTables, RESERVED_NAMES};
+use crate::settings::toml_table::{line_and_column, Placed};
+use crate::settings::{Key, Naming};
 use crate::text::quoted;
-use clap::ValueEnum;
 use std::collections::BTreeMap;
+use std::ops::Range;
 use std::path::Path;
 
 /// The device name `name` stands for under the Windows file naming rules (`CON`, `PRN`, `AUX`,
@@ -82,8 +79,7 @@ pub fn unsafe_name(name: &str, strict: bool) -> Option<String> {
 pub(super) fn check_study(
     c: &mut Collector,
     head: StudyHead,
-    settings: SettingsTable,
-    inherited_problems: &[String],
+    tables: StudyTables<'_>,
     dir: &Path,
     place: &str,
 ) -> Option<PlannedStudy> {
@@ -117,18 +113,20 @@ pub(super) fn check_study(
             ),
         );
     }
-    let targets = head.targets.get_ref().clone();
-    if targets.is_empty() {
-        c.at(
-            Some(head.targets.span()),
-            format!("{place}: 'targets' is empty; list at least one target column"),
-        );
-    }
+    let places = StudyPlaces {
+        own: tables.own.spans.clone(),
+        defaults: tables.defaults.spans.clone(),
+        data: head.data.span(),
+        name: head.name.span(),
+    };
+    let merged = tables.merged();
+    let targets = merged.targets.clone().unwrap_or_default();
+    let targets_at = Some(places.of(Key::Targets));
     let mut seen: BTreeMap<String, &str> = BTreeMap::new();
     for target in &targets {
         if let Some(why) = unsafe_name(target, false) {
             c.at(
-                Some(head.targets.span()),
+                targets_at.clone(),
                 format!(
                     "{place}: the target {} {why}: it is used as a folder name",
                     quoted(target)
@@ -137,7 +135,7 @@ pub(super) fn check_study(
         }
         if let Some(other) = seen.insert(target.to_lowercase(), target) {
             c.at(
-                Some(head.targets.span()),
+                targets_at.clone(),
                 format!(
                     "{place}: the target {} is listed twice (as {}; folder names that differ \
                      only in case collide on some file systems)",
@@ -147,179 +145,54 @@ pub(super) fn check_study(
             );
         }
     }
-    let input = match check_settings(&settings, Some(&targets)) {
-        Ok(input) => input,
+    let settings = match merged.check() {
+        Ok(settings) => Some(settings),
         Err(problems) => {
-            // A problem of [defaults] is reported there once, not again for every study.
-            for m in problems.iter().filter(|m| !inherited_problems.contains(m)) {
-                c.at(Some(head.name.span()), format!("{place}: {m}"));
+            for p in &problems {
+                let own = tables.own.spans.contains_key(&p.key);
+                let at_defaults = tables.defaults.place(p, None, "[defaults]");
+                // A problem of [defaults] alone is reported there once, not for every study.
+                if !own && tables.default_problems.contains(&at_defaults.message) {
+                    continue;
+                }
+                c.problems.push(Placed {
+                    span: Some(places.of(p.key)),
+                    message: format!("{place}: {}", p.render(Naming::Keys)),
+                });
             }
-            return None;
+            None
         }
     };
     if c.problems.len() > before {
         return None;
     }
-    let load = match reader_options(&settings) {
-        Ok(load) => load,
-        Err(message) => {
-            c.at(Some(head.name.span()), format!("{place}: {message}"));
-            return None;
-        }
-    };
     Some(PlannedStudy {
         name,
         data_path: dir.join(&data),
         data,
         targets,
-        load,
-        settings: input,
+        settings: settings?,
+        places,
     })
 }
 
-/// The reader options of a study, through the command line's own parsers (same names, same
-/// checks, same messages without the flags' dashes).
-fn reader_options(s: &SettingsTable) -> std::result::Result<LoadOptions, String> {
-    let plain = |e: crate::error::Error| e.to_string().replace("--", "");
-    let mut load = LoadOptions::default();
-    if let Some(delimiter) = &s.delimiter {
-        load.delimiter = crate::data::load::parse_delimiter(delimiter).map_err(plain)?;
-    }
-    if let Some(policy) = &s.missing {
-        load.missing_policy = crate::data::MissingPolicy::parse(policy).map_err(plain)?;
-    }
-    load.decimal_comma = s.decimal_comma.unwrap_or(false);
-    Ok(match &s.missing_tokens {
-        Some(tokens) => load.with_token_list(&tokens.join(",")),
-        None => load,
-    })
-}
-
-/// The settings as a study input, or every problem with them.
-pub(super) fn check_settings(
-    s: &SettingsTable,
-    targets: Option<&[String]>,
-) -> std::result::Result<StudyInput, Vec<String>> {
-    let base = StudyInput::for_target("");
-    let mut problems = Vec::new();
-    let mut problem = |m: String| problems.push(m);
-    let mut ok = true;
-    let scaling = match s.scaling.as_deref() {
-        None => base.scaling,
-        Some(name) => Scaling::parse(name).unwrap_or_else(|| {
-            problem(format!(
-                "scaling {} is not known; use rank, standardize or none",
-                quoted(name)
-            ));
-            ok = false;
-            base.scaling
-        }),
-    };
-    let resample = match s.resample.as_deref() {
-        None => base.resample,
-        Some(name) => PlanKind::parse(name).unwrap_or_else(|| {
-            problem(format!(
-                "resample {} is not known; use complementary-pairs, subsample or bootstrap",
-                quoted(name)
-            ));
-            ok = false;
-            base.resample
-        }),
-    };
-    let alpha = s.alpha.unwrap_or(base.alpha);
-    if !(alpha > 0.0 && alpha < 1.0) {
-        problem(format!(
-            "alpha {alpha} is not a level: it must lie strictly between 0 and 1"
-        ));
-        ok = false;
-    }
-    let threshold = s.stability_threshold.unwrap_or(base.stability_threshold);
-    if !(threshold > 0.5 && threshold <= 1.0) {
-        problem(format!(
-            "stability_threshold {threshold} is outside (0.5, 1]: the error bound of Meinshausen \
-             and Bühlmann (2010) needs a threshold above one half"
-        ));
-        ok = false;
-    }
-    let stopping_rule = match s.stopping_rule.as_deref() {
-        None => base.selection.stopping_rule,
-        Some(name) => StoppingRule::from_str(name, false).unwrap_or_else(|_| {
-            problem(format!(
-                "stopping_rule {} is not known; use calibrated or natural",
-                quoted(name)
-            ));
-            ok = false;
-            base.selection.stopping_rule
-        }),
-    };
-    let selection = SelectionRule {
-        stopping_rule,
-        alpha: s.selection_alpha.unwrap_or(base.selection.alpha),
-        permutations: s.permutations.unwrap_or(base.selection.permutations),
-    };
-    for p in selection.problems() {
-        problem(p);
-        ok = false;
-    }
-    let seed = s.seed.unwrap_or(base.seed);
-    let replicates = s.replicates.unwrap_or(base.replicates);
-    if let Err(e) = ResamplePlan::new(resample, replicates, s.fraction, seed) {
-        problem(e.to_string().replace("--", ""));
-        ok = false;
-    }
-    for token in s.missing_tokens.iter().flatten() {
-        if token.contains(',') {
-            problem(format!(
-                "the missing_tokens entry {} contains a comma; list each token separately",
-                quoted(token)
-            ));
-            ok = false;
-        }
-    }
-    let exclude = s.exclude.clone().unwrap_or_default();
-    for target in targets.unwrap_or_default() {
-        if exclude.contains(target) {
-            problem(format!(
-                "the target {} is also excluded; remove it from 'exclude'",
-                quoted(target)
-            ));
-            ok = false;
-        }
-    }
-    if !ok {
-        return Err(problems);
-    }
-    Ok(StudyInput {
-        target: String::new(),
-        exclude,
-        candidates: s.candidates.clone(),
-        seed,
-        scaling,
-        alpha,
-        replicates,
-        resample,
-        fraction: s.fraction,
-        stability_threshold: threshold,
-        selection,
-    })
-}
-
-pub(super) fn check_duplicates(c: &mut Collector, names: &[(String, usize)]) {
-    let mut seen: BTreeMap<String, (&str, usize)> = BTreeMap::new();
-    for (name, line) in names {
+pub(super) fn check_duplicates(c: &mut Collector, names: &[(String, Range<usize>)], text: &str) {
+    let mut seen: BTreeMap<String, (&str, &Range<usize>)> = BTreeMap::new();
+    for (name, span) in names {
         let key = name.to_ascii_lowercase();
-        if let Some((other, other_line)) = seen.get(&key) {
-            c.problems.push(Problem {
-                line: Some(*line),
+        if let Some((other, other_span)) = seen.get(&key) {
+            c.problems.push(Placed {
+                span: Some(span.clone()),
                 message: format!(
-                    "the study name {} is used twice (also {} on line {other_line}); names must \
-                     be unique, ignoring case, since each is a folder",
+                    "the study name {} is used twice (also {} on line {}); names must be unique, \
+                     ignoring case, since each is a folder",
                     quoted(name),
-                    quoted(other)
+                    quoted(other),
+                    line_and_column(text, other_span.start).0
                 ),
             });
         } else {
-            seen.insert(key, (name, *line));
+            seen.insert(key, (name, span));
         }
     }
 }

@@ -98,12 +98,12 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
     let work = || -> std::result::Result<Finding, (crate::error::Error, bool)> {
         let analysed = analyze_file(
             &pair.study.data_path,
-            &pair.study.input(pair.target),
-            &pair.study.load,
+            &pair.study.settings,
+            pair.target,
             command_line.to_vec(),
             &Silent,
         )
-        .map_err(|e| (e, true))?;
+        .map_err(|e| (plan_named(e), true))?;
         let claim = Claim::take(&folder, Kind::Dossier, false, &Silent).map_err(|e| (e, false))?;
         crate::report::write_dossier(&analysed, claim).map_err(|e| (e, false))?;
         Ok(analysed.finding)
@@ -133,6 +133,20 @@ fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<
             ),
             None,
         ),
+    }
+}
+
+/// A settings error as the plan names settings (keys, not flags).
+fn plan_named(error: crate::error::Error) -> crate::error::Error {
+    match error {
+        crate::error::Error::Settings(problems) => crate::error::Error::input(
+            problems
+                .iter()
+                .map(|p| p.render(crate::settings::Naming::Keys))
+                .collect::<Vec<_>>()
+                .join("; "),
+        ),
+        other => other,
     }
 }
 

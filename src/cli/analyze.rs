@@ -1,40 +1,47 @@
-//! `forebear analyze DATA --target COL ...`
+//! `forebear analyze DATA --target COL [--config study.toml] ...`
 
 use crate::analysis::{analyze_file, Progress};
-use crate::data::LoadOptions;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::output::{Claim, Kind};
 use crate::resample::PlanKind;
-use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA};
-use crate::search::{SelectionRule, StoppingRule};
-use crate::study::StudyInput;
+use crate::search::StoppingRule;
+use crate::settings::{
+    Key, Settings, SettingsInput, Sources, StudyFile, StudyFileRecord, DEFAULT_ALPHA,
+    DEFAULT_PERMUTATIONS, DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA,
+    DEFAULT_STABILITY_THRESHOLD,
+};
 use clap::Args;
 use std::path::{Path, PathBuf};
 
-/// Arguments of `analyze`.
+/// Arguments of `analyze`. Every setting may also come from a study file (`--config`); a flag
+/// typed here wins over the file, a default shown here applies only when neither gives it.
 #[derive(Debug, Args)]
 pub struct AnalyzeArgs {
     /// The CSV file (header row, numeric columns).
     pub data: PathBuf,
-    /// The outcome column whose direct causes are sought.
+    /// The outcome column whose direct causes are sought (or `targets` in the study file).
     #[arg(long)]
-    pub target: String,
+    pub target: Option<String>,
+    /// A study file of settings (TOML; the keys are the flags' names with '_' for '-', as in
+    /// examples/study.toml). Flags typed on the command line win over it.
+    #[arg(long, value_name = "FILE")]
+    pub config: Option<PathBuf>,
     /// Output folder for result.json, dossier.md, dossier.html, stability.csv, trace.csv and
     /// manifest.json.
     #[arg(long, default_value = "forebear-output")]
     pub out: PathBuf,
     /// Study seed for every random tie-break and resample.
-    #[arg(long, default_value_t = 1)]
+    #[arg(long, default_value_t = DEFAULT_SEED)]
     pub seed: u64,
     /// Predictor scaling before nearest-neighbour search.
     #[arg(long, value_enum, default_value_t = Scaling::Rank)]
     pub scaling: Scaling,
     /// Level of the pairwise independence tests.
-    #[arg(long, default_value_t = 0.05, allow_negative_numbers = true)]
+    #[arg(long, default_value_t = DEFAULT_ALPHA, allow_negative_numbers = true)]
     pub alpha: f64,
     /// Resampling replicates (0 disables resampling; even for complementary pairs).
-    #[arg(long, default_value_t = 100)]
+    #[arg(long, default_value_t = DEFAULT_REPLICATES)]
     pub replicates: u32,
     /// Resampling plan.
     #[arg(long, value_enum, default_value_t = PlanKind::ComplementaryPairs)]
@@ -43,7 +50,7 @@ pub struct AnalyzeArgs {
     #[arg(long)]
     pub fraction: Option<f64>,
     /// Frequency at which a finding counts as stable, in (0.5, 1].
-    #[arg(long, default_value_t = 0.6)]
+    #[arg(long, default_value_t = DEFAULT_STABILITY_THRESHOLD)]
     pub stability_threshold: f64,
     /// When forward selection admits a column: calibrated (a permutation test at
     /// --selection-alpha, then a shrink phase) or natural (any positive T_n, the published rule).
@@ -74,30 +81,29 @@ pub struct AnalyzeArgs {
 }
 
 impl AnalyzeArgs {
-    /// The study input these flags describe.
-    pub fn study_input(&self) -> Result<StudyInput> {
-        Ok(StudyInput {
-            target: self.target.clone(),
-            exclude: super::split_names(&self.exclude),
+    /// The settings these flags give: only the flags in `explicit` (typed, not defaulted), so that
+    /// a study file's values are not overridden by defaults.
+    pub fn given(&self, explicit: &[Key]) -> SettingsInput {
+        let given = |key: Key| explicit.contains(&key);
+        let mut input = SettingsInput {
+            targets: self.target.clone().map(|t| vec![t]),
+            exclude: given(Key::Exclude).then(|| super::split_names(&self.exclude)),
             candidates: self.candidates.as_deref().map(super::split_names),
-            seed: self.seed,
-            scaling: self.scaling,
-            alpha: self.alpha,
-            replicates: self.replicates,
-            resample: self.resample,
+            seed: given(Key::Seed).then_some(self.seed),
+            scaling: given(Key::Scaling).then_some(self.scaling),
+            alpha: given(Key::Alpha).then_some(self.alpha),
+            replicates: given(Key::Replicates).then_some(self.replicates),
+            resample: given(Key::Resample).then_some(self.resample),
             fraction: self.fraction,
-            stability_threshold: self.stability_threshold,
-            selection: SelectionRule {
-                stopping_rule: self.stopping_rule,
-                alpha: self.selection_alpha,
-                permutations: self.permutations,
-            },
-        })
-    }
-
-    /// Reader options.
-    pub fn load_options(&self) -> Result<LoadOptions> {
-        self.reader.load_options()
+            stability_threshold: given(Key::StabilityThreshold)
+                .then_some(self.stability_threshold),
+            stopping_rule: given(Key::StoppingRule).then_some(self.stopping_rule),
+            selection_alpha: given(Key::SelectionAlpha).then_some(self.selection_alpha),
+            permutations: given(Key::Permutations).then_some(self.permutations),
+            ..SettingsInput::default()
+        };
+        self.reader.give(&mut input, explicit);
+        input
     }
 }
 
@@ -111,49 +117,69 @@ pub fn parse_range(text: &str) -> std::result::Result<std::ops::Range<u32>, Stri
     Ok(a..b)
 }
 
-/// Runs `analyze`.
-pub fn run(args: AnalyzeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
-    let input = args.study_input()?;
+/// Runs `analyze`: the settings from the flags typed (`explicit`) over the study file, if any.
+pub fn run(
+    args: AnalyzeArgs,
+    explicit: &[Key],
+    argv: Vec<String>,
+    progress: &dyn Progress,
+) -> Result<()> {
+    let file = args.config.as_deref().map(StudyFile::read).transpose()?;
+    let sources = Sources::new(args.given(explicit), file);
+    let settings = sources.check()?;
+    let target = settings.single_target().map_err(|e| sources.explain(e))?;
     if let Some(range) = args.replicate_range.clone() {
         let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
-        let part = crate::analysis::analyze_part(
+        let mut part = crate::analysis::analyze_part(
             &args.data,
-            &input,
-            &args.load_options()?,
+            &settings,
+            &target,
             range,
             argv,
             progress,
-        )?;
+        )
+        .map_err(|e| sources.explain(e))?;
+        part.finding.run.study_file = sources.study_file();
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
         claim.write_files(&[("partial.json", text + "\n")])?;
         super::out::line(&args.out.join("partial.json").display().to_string())?;
         return Ok(());
     }
-    analyze_into(
-        &args.data,
-        &input,
-        &args.load_options()?,
-        &args.out,
-        args.force,
-        argv,
-        progress,
-    )
+    let request = Request {
+        data: &args.data,
+        settings: &settings,
+        target: &target,
+        study_file: sources.study_file(),
+        out: &args.out,
+        force: args.force,
+    };
+    analyze_into(&request, argv, progress).map_err(|e| sources.explain(e))
+}
+
+/// One analysis to write into one output folder.
+pub struct Request<'a> {
+    /// The data file.
+    pub data: &'a Path,
+    /// Checked settings.
+    pub settings: &'a Settings,
+    /// The target column.
+    pub target: &'a str,
+    /// The study file the settings came from, if any (recorded in the manifest).
+    pub study_file: Option<StudyFileRecord>,
+    /// The output folder.
+    pub out: &'a Path,
+    /// Replace a former dossier there.
+    pub force: bool,
 }
 
 /// Analyses one file into one output folder and reports where it went.
-pub fn analyze_into(
-    data: &Path,
-    input: &StudyInput,
-    options: &LoadOptions,
-    out: &Path,
-    force: bool,
-    argv: Vec<String>,
-    progress: &dyn Progress,
-) -> Result<()> {
+pub fn analyze_into(request: &Request<'_>, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+    let out = request.out;
     // Refuse an unusable output folder before the work, not after it.
-    let claim = Claim::take(out, Kind::Dossier, force, progress)?;
-    let analysed = analyze_file(data, input, options, argv, progress)?;
+    let claim = Claim::take(out, Kind::Dossier, request.force, progress)?;
+    let mut analysed = analyze_file(request.data, request.settings, request.target, argv, progress)?;
+    analysed.finding.run.study_file = request.study_file.clone();
     crate::report::write_dossier(&analysed, claim)?;
     progress.say(&format!(
         "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json)",

@@ -4,7 +4,7 @@
 use crate::analysis::Progress;
 use crate::batch::drift::compare;
 use crate::batch::output::{collect, read_summary, write_index};
-use crate::batch::plan::{Plan, Shard};
+use crate::batch::plan::{Plan, Problem, Shard};
 use crate::batch::run::{run_pairs, summary};
 use crate::batch::{Summary, DEFAULT_DRIFT_THRESHOLD};
 use crate::error::{Error, Result};
@@ -49,6 +49,9 @@ pub struct BatchArgs {
 /// Runs `batch`.
 pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
     let started = Instant::now();
+    if args.check {
+        return check(&args);
+    }
     let plan = load_plan(&args)?;
     if !(0.0..=1.0).contains(&args.drift_threshold) {
         return Err(Error::input(format!(
@@ -57,15 +60,6 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
         )));
     }
     let shard = args.shard;
-    if args.check {
-        super::out::line(&format!(
-            "{}: valid; {} studies, {} study–target pairs",
-            args.plan.display(),
-            plan.studies.len(),
-            plan.pairs().len()
-        ))?;
-        return Ok(());
-    }
     let previous = match &args.previous {
         Some(dir) => {
             let (summary, sha) = read_summary(dir, "--previous")?;
@@ -111,47 +105,51 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
     report(&args, &result, started, progress)
 }
 
-fn load_plan(args: &BatchArgs) -> Result<Plan> {
-    let name = args.plan.display();
-    let problems = match Plan::load(&args.plan) {
-        Ok(plan) => {
-            let missing = plan.missing_data();
-            if missing.is_empty() {
-                return Ok(plan);
-            }
-            let lines: Vec<String> = missing
-                .iter()
-                .map(|(study, path, why)| {
-                    format!("study '{study}': the data file '{}' {why}", path.display())
-                })
-                .collect();
-            if !args.check {
-                // Data files are refreshed by other systems: one late file must not cost the
-                // whole night, so the study fails alone and the others run.
-                for line in &lines {
-                    eprintln!(
-                        "forebear: warning: {name}: {line}; that study will fail, the others run"
-                    );
-                }
-                return Ok(plan);
-            }
-            lines
-        }
-        Err(problems) => problems
-            .into_iter()
-            .map(|p| match p.line {
-                Some(line) => format!("line {line}: {}", p.message),
-                None => p.message,
-            })
-            .collect(),
-    };
-    for problem in &problems {
-        eprintln!("forebear: error: {name}: {problem}");
+/// `--check`: every problem of the plan and of its data files' headers, or "valid".
+fn check(args: &BatchArgs) -> Result<()> {
+    let name = args.plan.display().to_string();
+    let (problems, studies, pairs) = Plan::check(&args.plan);
+    if problems.is_empty() {
+        return super::out::line(&format!(
+            "{name}: valid; {studies} studies, {pairs} study–target pairs; every data file's \
+             header names the columns the plan uses"
+        ));
     }
-    Err(Error::input(format!(
-        "{name}: {} problem(s), listed above; nothing was run",
-        problems.len()
-    )))
+    Err(plan_problems(&name, &problems))
+}
+
+/// Each problem as `PLAN:LINE:COLUMN: message`, then the count.
+fn plan_problems(name: &str, problems: &[Problem]) -> Error {
+    let problems: Vec<String> = problems
+        .iter()
+        .map(|p| match p.place {
+            Some((line, column)) => format!("{name}:{line}:{column}: {}", p.message),
+            None => format!("{name}: {}", p.message),
+        })
+        .collect();
+    Error::Problems {
+        summary: format!(
+            "{name}: {} problem(s), listed above; nothing was run",
+            problems.len()
+        ),
+        problems,
+    }
+}
+
+fn load_plan(args: &BatchArgs) -> Result<Plan> {
+    let name = args.plan.display().to_string();
+    let plan = Plan::load(&args.plan)
+        .map_err(|problems| plan_problems(&name, &problems))?;
+    // Data files are refreshed by other systems: one late file must not cost the whole night, so
+    // the study fails alone and the others run.
+    for (study, path, why) in plan.missing_data() {
+        eprintln!(
+            "forebear: warning: {name}: study '{study}': the data file '{}' {why}; that study \
+             will fail, the others run",
+            path.display()
+        );
+    }
+    Ok(plan)
 }
 
 /// The closing line on stderr, the index path on stdout, and the exit code: 3 when a pair failed

@@ -1,11 +1,10 @@
 //! `forebear demo [--out DIR]`: writes the invented demo data and analyses its two targets.
 
 use crate::analysis::Progress;
-use crate::data::LoadOptions;
 use crate::demo::{generate_demo_csv, DEMO_CSV, DEMO_FILE, DEMO_TARGETS};
 use crate::error::{Error, Result};
 use crate::output::{fs_error, rename_file_noreplace, sync_dir, write_synced};
-use crate::study::StudyInput;
+use crate::settings::SettingsInput;
 use clap::Args;
 use std::path::{Path, PathBuf};
 
@@ -45,7 +44,9 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         data.display()
     ));
     for target in DEMO_TARGETS {
-        let input = StudyInput::for_target(target);
+        let settings = SettingsInput::for_target(target)
+            .check()
+            .map_err(Error::Settings)?;
         let argv = vec![
             "forebear".into(),
             "analyze".into(),
@@ -55,15 +56,16 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             "--out".into(),
             args.out.join(target).display().to_string(),
         ];
-        super::analyze::analyze_into(
-            &data,
-            &input,
-            &LoadOptions::default(),
-            &args.out.join(target),
-            args.force,
-            argv,
-            progress,
-        )?;
+        let out = args.out.join(target);
+        let request = super::analyze::Request {
+            data: &data,
+            settings: &settings,
+            target,
+            study_file: None,
+            out: &out,
+            force: args.force,
+        };
+        super::analyze::analyze_into(&request, argv, progress)?;
     }
     super::out::line(&format!(
         "demo output is in {}/ (one folder per target; open dossier.html)",

@@ -11,7 +11,9 @@ pub mod reader;
 pub mod verify;
 
 use crate::analysis::Progress;
-use clap::{Parser, Subcommand};
+use crate::settings::Key;
+use clap::parser::ValueSource;
+use clap::{CommandFactory, FromArgMatches, Parser, Subcommand};
 
 /// forebear: which measured variables directly drive an outcome, how stable that is, and a dossier
 /// a reviewer can re-run.
@@ -75,8 +77,27 @@ pub fn split_names(list: &[String]) -> Vec<String> {
 /// machine this runs on, far below what takes minutes to start).
 pub const MAX_THREADS: usize = 256;
 
-/// Runs the parsed command line.
-pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
+/// Parses the command line. Returns the arguments and the settings whose flags were typed (not
+/// defaulted): those win over a study file.
+pub fn parse<I, T>(args: I) -> Result<(Cli, Vec<Key>), clap::Error>
+where
+    I: IntoIterator<Item = T>,
+    T: Into<std::ffi::OsString> + Clone,
+{
+    let matches = Cli::command().try_get_matches_from(args)?;
+    let cli = Cli::from_arg_matches(&matches)?;
+    let explicit = match matches.subcommand() {
+        Some(("analyze", sub)) => Key::ALL
+            .into_iter()
+            .filter(|k| sub.value_source(k.arg_id()) == Some(ValueSource::CommandLine))
+            .collect(),
+        _ => Vec::new(),
+    };
+    Ok((cli, explicit))
+}
+
+/// Runs the parsed command line; `explicit` lists the settings typed as flags ([`parse`]).
+pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Result<()> {
     if let Some(threads) = cli.threads {
         if threads == 0 {
             return Err(crate::error::Error::input("--threads must be at least 1"));
@@ -96,7 +117,7 @@ pub fn run(cli: Cli, argv: Vec<String>) -> crate::error::Result<()> {
     }
     let progress = Stderr { quiet: cli.quiet };
     match cli.command {
-        Command::Analyze(args) => analyze::run(args, argv, &progress),
+        Command::Analyze(args) => analyze::run(args, explicit, argv, &progress),
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, &progress),
         Command::Batch(args) => batch::run(args, argv, &progress),

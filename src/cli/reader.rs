@@ -1,8 +1,8 @@
 //! The reader flags shared by every command that reads a data file.
 
-use crate::data::load::parse_delimiter;
-use crate::data::{LoadOptions, MissingPolicy};
-use crate::error::Result;
+use crate::data::{Delimiter, LoadOptions, MissingPolicy};
+use crate::error::{Error, Result};
+use crate::settings::{Key, SettingsInput, DEFAULT_MISSING_TOKENS};
 use clap::Args;
 
 /// How the data file is read.
@@ -10,7 +10,7 @@ use clap::Args;
 pub struct ReaderArgs {
     /// The character between values: ',' (default), ';', tab or '|'.
     #[arg(long, value_name = "CHAR", default_value = ",")]
-    pub delimiter: String,
+    pub delimiter: Delimiter,
     /// Read decimal commas (3,14); then points are refused, and values need another delimiter
     /// (usually ';') unless they are quoted.
     #[arg(long)]
@@ -20,24 +20,33 @@ pub struct ReaderArgs {
     #[arg(
         long,
         value_name = "TOKENS",
-        default_value = ",NA,NaN,null,#N/A",
+        default_value_t = DEFAULT_MISSING_TOKENS.join(","),
         allow_hyphen_values = true
     )]
     pub missing_tokens: String,
     /// Rows missing a value in a used column: drop-rows (drop and count them) or error.
-    #[arg(long, value_name = "POLICY", default_value = "drop-rows")]
-    pub missing: String,
+    #[arg(long, value_name = "POLICY", value_enum, default_value_t = MissingPolicy::DropRows)]
+    pub missing: MissingPolicy,
 }
 
 impl ReaderArgs {
-    /// The reader options these flags describe.
+    /// Sets in `input` the reader settings whose flags are in `explicit` (typed, not defaulted).
+    pub fn give(&self, input: &mut SettingsInput, explicit: &[Key]) {
+        let given = |key: Key| explicit.contains(&key);
+        input.delimiter = given(Key::Delimiter).then_some(self.delimiter);
+        input.decimal_comma = given(Key::DecimalComma).then_some(self.decimal_comma);
+        input.missing = given(Key::Missing).then_some(self.missing);
+        input.missing_tokens = given(Key::MissingTokens).then(|| {
+            // Empty entries are kept: "" stands for empty cells.
+            self.missing_tokens.split(',').map(str::to_string).collect()
+        });
+    }
+
+    /// The reader options of these flags alone (every flag, typed or defaulted), for commands
+    /// that take no study file.
     pub fn load_options(&self) -> Result<LoadOptions> {
-        let options = LoadOptions {
-            delimiter: parse_delimiter(&self.delimiter)?,
-            decimal_comma: self.decimal_comma,
-            missing_policy: MissingPolicy::parse(&self.missing)?,
-            ..LoadOptions::default()
-        };
-        Ok(options.with_token_list(&self.missing_tokens))
+        let mut input = SettingsInput::default();
+        self.give(&mut input, &Key::ALL);
+        input.check_reader().map_err(Error::Settings)
     }
 }

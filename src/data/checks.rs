@@ -81,7 +81,7 @@ impl RawTable {
             constant_by_rounding: BTreeMap::new(),
             excluded_columns: excluded,
             missing_tokens: options.missing_tokens.clone(),
-            delimiter: options.delimiter_text(),
+            delimiter: options.delimiter,
             decimal_comma: options.decimal_comma,
             missing_policy: options.missing_policy,
             duplicate_columns: BTreeMap::new(),

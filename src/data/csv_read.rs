@@ -7,19 +7,9 @@ use super::checks::FileFacts;
 use super::limits::{size_text, MAX_FIELD_BYTES, MAX_RECORD_BYTES};
 use super::signature::{encoding_hint, wide_encoding};
 use super::source::{is_record_too_long, Source};
+use super::delimiter::Delimiter;
 use crate::error::{Error, Result};
 use std::collections::BTreeMap;
-
-/// The delimiters the reader accepts, with the name `--delimiter` takes for each.
-pub const DELIMITERS: [(u8, &str); 4] = [(b',', ","), (b';', ";"), (b'\t', "tab"), (b'|', "|")];
-
-/// The name of a delimiter in a message: `','`, `';'`, `tab`, `'|'`.
-pub fn delimiter_name(delimiter: u8) -> String {
-    match delimiter {
-        b'\t' => "tab".to_string(),
-        d => format!("'{}'", d as char),
-    }
-}
 
 /// A file read record by record, once, hashing its bytes on the way ([`Source`]).
 pub struct Records {
@@ -33,7 +23,7 @@ pub struct Records {
 
 impl Records {
     /// Reads `source` (shown as `file` in messages) as records separated by `delimiter`.
-    pub fn new(source: Source, file: &str, delimiter: u8) -> Records {
+    pub fn new(source: Source, file: &str, delimiter: Delimiter) -> Records {
         // Headers are read as an ordinary record so that every line, the first included, goes
         // through the same byte-level checks. Records end at '\n' only: with the reader's default
         // CRLF terminator, every record after the first of a CRLF file reports the line before its
@@ -41,7 +31,7 @@ impl Records {
         let reader = csv::ReaderBuilder::new()
             .has_headers(false)
             .flexible(true)
-            .delimiter(delimiter)
+            .delimiter(delimiter.byte())
             .terminator(csv::Terminator::Any(b'\n'))
             .from_reader(source);
         Records {
@@ -175,7 +165,7 @@ impl Records {
     }
 
     /// Reads the header from the current record: trimmed, non-empty, distinct UTF-8 names.
-    pub fn header(&self, delimiter: u8) -> Result<Vec<String>> {
+    pub fn header(&self, delimiter: Delimiter) -> Result<Vec<String>> {
         let line = self.line();
         let file = &self.file;
         let mut names = Vec::with_capacity(self.record.len());
@@ -205,9 +195,9 @@ impl Records {
                 "{file}, line {line}: the header is the single name {} and seems to use {} between \
                  names, not {}; read it with --delimiter {}",
                 quoted(&names[0]),
-                delimiter_name(other),
-                plural_name(delimiter),
-                flag_value(other)
+                other.name(),
+                delimiter.plural(),
+                other.flag_value()
             )));
         }
         check_names(&names, file, line, delimiter)?;
@@ -257,39 +247,19 @@ impl Records {
 }
 
 /// Another accepted delimiter, when the whole header is one name holding it.
-fn foreign_delimiter(names: &[String], delimiter: u8) -> Option<u8> {
+fn foreign_delimiter(names: &[String], delimiter: Delimiter) -> Option<Delimiter> {
     let [only] = names else { return None };
-    DELIMITERS
-        .iter()
-        .map(|&(d, _)| d)
+    Delimiter::ALL
+        .into_iter()
         .filter(|&d| d != delimiter)
-        .max_by_key(|&d| only.bytes().filter(|&b| b == d).count())
-        .filter(|&d| only.as_bytes().contains(&d))
+        .max_by_key(|d| only.bytes().filter(|&b| b == d.byte()).count())
+        .filter(|d| only.as_bytes().contains(&d.byte()))
 }
 
-fn plural_name(delimiter: u8) -> &'static str {
-    match delimiter {
-        b',' => "commas",
-        b';' => "semicolons",
-        b'\t' => "tabs",
-        _ => "'|' characters",
-    }
-}
-
-/// How to write a delimiter after `--delimiter` in a shell.
-fn flag_value(delimiter: u8) -> &'static str {
-    match delimiter {
-        b',' => "','",
-        b';' => "';'",
-        b'\t' => "tab",
-        _ => "'|'",
-    }
-}
-
-fn check_names(names: &[String], file: &str, line: u64, delimiter: u8) -> Result<()> {
+fn check_names(names: &[String], file: &str, line: u64, delimiter: Delimiter) -> Result<()> {
     let filled: Vec<&String> = names.iter().filter(|n| !n.is_empty()).collect();
     let numeric =
-        |n: &str| is_number_text(n) || (delimiter != b',' && is_number_text(&n.replace(',', ".")));
+        |n: &str| is_number_text(n) || (delimiter != Delimiter::Comma && is_number_text(&n.replace(',', ".")));
     if !filled.is_empty() && filled.iter().all(|n| numeric(n)) {
         let j = names.iter().position(|n| !n.is_empty()).unwrap_or(0);
         return Err(Error::input(format!(
@@ -303,7 +273,7 @@ fn check_names(names: &[String], file: &str, line: u64, delimiter: u8) -> Result
         let hint = if j + 1 == names.len() && names.len() > 1 {
             format!(
                 " (is there a {} at the end of the header?)",
-                delimiter_name(delimiter)
+                delimiter.name()
             )
         } else {
             String::new()
@@ -338,10 +308,10 @@ mod tests {
 
     #[test]
     fn a_header_of_one_name_holding_another_delimiter_is_recognised() {
-        assert_eq!(foreign_delimiter(&names(&["a;b;c"]), b','), Some(b';'));
-        assert_eq!(foreign_delimiter(&names(&["a\tb"]), b','), Some(b'\t'));
-        assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), b';'), Some(b','));
-        assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), b','), None);
-        assert_eq!(foreign_delimiter(&names(&["plain"]), b','), None);
+        assert_eq!(foreign_delimiter(&names(&["a;b;c"]), Delimiter::Comma), Some(Delimiter::Semicolon));
+        assert_eq!(foreign_delimiter(&names(&["a\tb"]), Delimiter::Comma), Some(Delimiter::Tab));
+        assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), Delimiter::Semicolon), Some(Delimiter::Comma));
+        assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), Delimiter::Comma), None);
+        assert_eq!(foreign_delimiter(&names(&["plain"]), Delimiter::Comma), None);
     }
 }

@@ -4,7 +4,8 @@
 
 use super::cells::{quoted, CellReader, ColumnIssues};
 use super::checks::FileFacts;
-use super::csv_read::{Records, DELIMITERS};
+use super::csv_read::Records;
+use super::delimiter::Delimiter;
 use super::limits::{size_text, MAX_COLUMNS, MAX_NAME_BYTES};
 use super::source::Source;
 use super::spelling::Spellings;
@@ -17,7 +18,7 @@ use std::path::Path;
 pub const DEFAULT_MISSING_TOKENS: [&str; 5] = ["", "NA", "NaN", "null", "#N/A"];
 
 /// What to do with a row that misses a value in a used column.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum MissingPolicy {
     /// Drop the row, and count the missing values per column (the default).
@@ -28,18 +29,6 @@ pub enum MissingPolicy {
 }
 
 impl MissingPolicy {
-    /// Parses a command-line name.
-    pub fn parse(name: &str) -> Result<MissingPolicy> {
-        match name {
-            "drop-rows" => Ok(MissingPolicy::DropRows),
-            "error" => Ok(MissingPolicy::Error),
-            _ => Err(Error::input(format!(
-                "--missing {} is not known; use drop-rows or error",
-                quoted(name)
-            ))),
-        }
-    }
-
     /// The command-line name.
     pub fn name(self) -> &'static str {
         match self {
@@ -53,9 +42,9 @@ impl MissingPolicy {
 /// settings), so that a run can be repeated from its result ([`LoadOptions::from_report`]).
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct LoadOptions {
-    /// The byte between fields: `,` (default), `;`, tab or `|`; written as the character.
-    #[serde(default = "comma", with = "delimiter_serde")]
-    pub delimiter: u8,
+    /// The character between fields; written as the character.
+    #[serde(default)]
+    pub delimiter: Delimiter,
     /// Read `3,14` as 3.14 (and refuse `3.14`).
     #[serde(default)]
     pub decimal_comma: bool,
@@ -66,28 +55,10 @@ pub struct LoadOptions {
     pub missing_policy: MissingPolicy,
 }
 
-fn comma() -> u8 {
-    b','
-}
-
-/// The delimiter in JSON as the character itself (`","`, `"\t"`), not as a byte value.
-mod delimiter_serde {
-    use serde::{Deserialize, Deserializer, Serializer};
-
-    pub fn serialize<S: Serializer>(delimiter: &u8, serializer: S) -> Result<S::Ok, S::Error> {
-        serializer.serialize_str(&(*delimiter as char).to_string())
-    }
-
-    pub fn deserialize<'de, D: Deserializer<'de>>(deserializer: D) -> Result<u8, D::Error> {
-        let text = String::deserialize(deserializer)?;
-        super::parse_delimiter(&text).map_err(serde::de::Error::custom)
-    }
-}
-
 impl Default for LoadOptions {
     fn default() -> Self {
         LoadOptions {
-            delimiter: b',',
+            delimiter: Delimiter::Comma,
             decimal_comma: false,
             missing_tokens: DEFAULT_MISSING_TOKENS
                 .iter()
@@ -99,38 +70,14 @@ impl Default for LoadOptions {
 }
 
 impl LoadOptions {
-    /// Default options with the missing-value tokens of a comma-separated list as typed after
-    /// `--missing-tokens`. An empty entry (as in `,NA`) stands for empty cells; the list replaces
-    /// the default tokens.
-    pub fn from_token_list(list: &str) -> Self {
-        LoadOptions::default().with_token_list(list)
-    }
-
-    /// These options with the tokens of `list` (see [`LoadOptions::from_token_list`]).
-    pub fn with_token_list(mut self, list: &str) -> Self {
-        let mut missing_tokens: Vec<String> = Vec::new();
-        for token in list.split(',').map(|t| t.trim().to_string()) {
-            if !missing_tokens.contains(&token) {
-                missing_tokens.push(token);
-            }
-        }
-        self.missing_tokens = missing_tokens;
-        self
-    }
-
     /// The options a recorded run was read with.
     pub fn from_report(report: &DataReport) -> LoadOptions {
         LoadOptions {
-            delimiter: parse_delimiter(&report.delimiter).unwrap_or(b','),
+            delimiter: report.delimiter,
             decimal_comma: report.decimal_comma,
             missing_tokens: report.missing_tokens.clone(),
             missing_policy: report.missing_policy,
         }
-    }
-
-    /// The delimiter as recorded: the character itself.
-    pub fn delimiter_text(&self) -> String {
-        (self.delimiter as char).to_string()
     }
 
     /// The tokens for a message: `an empty cell, NA, NaN, null or #N/A`.
@@ -148,26 +95,6 @@ impl LoadOptions {
             .collect();
         super::cells::or_list(&shown)
     }
-}
-
-/// Parses `--delimiter`: `,`, `;`, `|`, or a tab (typed as `tab`, `\t` or the character itself).
-pub fn parse_delimiter(text: &str) -> Result<u8> {
-    let byte = match text {
-        "tab" | "\\t" | "\t" => Some(b'\t'),
-        "comma" => Some(b','),
-        "semicolon" => Some(b';'),
-        "pipe" => Some(b'|'),
-        _ => DELIMITERS
-            .iter()
-            .find(|(_, name)| *name == text)
-            .map(|&(d, _)| d),
-    };
-    byte.ok_or_else(|| {
-        Error::input(format!(
-            "--delimiter {} is not supported; use ',' (the default), ';', tab or '|'",
-            quoted(text)
-        ))
-    })
 }
 
 /// The file's cells as numbers or missing, before any row or column is dropped.
@@ -261,7 +188,7 @@ impl DataReader {
             header_line,
         } = header;
         let cells = CellReader::new(&options.missing_tokens, options.decimal_comma);
-        let comma_clash = options.decimal_comma && options.delimiter == b',';
+        let comma_clash = options.decimal_comma && options.delimiter == Delimiter::Comma;
         while records.advance()? {
             records.check_width(&names).map_err(|e| match comma_clash {
                 true => Error::input(format!(
@@ -490,26 +417,16 @@ mod tests {
     }
 
     #[test]
-    fn token_lists_keep_the_empty_entry_and_drop_repeats() {
-        let options = LoadOptions::from_token_list(",NA, NA ,-999");
-        assert_eq!(options.missing_tokens, vec!["", "NA", "-999"]);
+    fn tokens_are_described_with_the_empty_entry_in_words() {
+        let options = LoadOptions {
+            missing_tokens: vec!["".into(), "NA".into(), "-999".into()],
+            ..LoadOptions::default()
+        };
         assert_eq!(options.describe_tokens(), "an empty cell, NA or -999");
         assert_eq!(
             LoadOptions::default().describe_tokens(),
             "an empty cell, NA, NaN, null or #N/A"
         );
-    }
-
-    #[test]
-    fn delimiters_parse_by_character_or_name() {
-        assert_eq!(parse_delimiter(",").unwrap(), b',');
-        assert_eq!(parse_delimiter(";").unwrap(), b';');
-        assert_eq!(parse_delimiter("tab").unwrap(), b'\t');
-        assert_eq!(parse_delimiter("\\t").unwrap(), b'\t');
-        assert_eq!(parse_delimiter("\t").unwrap(), b'\t');
-        assert_eq!(parse_delimiter("|").unwrap(), b'|');
-        let error = parse_delimiter(":").unwrap_err().to_string();
-        assert!(error.contains("':'") && error.contains("tab"), "{error}");
     }
 
     #[test]

@@ -4,6 +4,7 @@ pub mod cells;
 pub mod checks;
 pub mod compare;
 pub mod csv_read;
+pub mod delimiter;
 pub mod fingerprint;
 pub mod limits;
 pub mod load;
@@ -14,5 +15,6 @@ mod spelling;
 pub mod table;
 mod unreadable;
 
+pub use delimiter::Delimiter;
 pub use load::{read_csv, read_data, DataReader, LoadOptions, MissingPolicy, RawTable};
 pub use table::{DataReport, Table};

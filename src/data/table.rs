@@ -93,8 +93,8 @@ pub struct DataReport {
     /// The missing-value tokens in force.
     pub missing_tokens: Vec<String>,
     /// The delimiter the file was read with (the character itself).
-    #[serde(default = "comma")]
-    pub delimiter: String,
+    #[serde(default)]
+    pub delimiter: super::delimiter::Delimiter,
     /// Whether numbers were read with a decimal comma.
     #[serde(default)]
     pub decimal_comma: bool,
@@ -107,6 +107,3 @@ pub struct DataReport {
     pub duplicate_columns: BTreeMap<String, String>,
 }
 
-fn comma() -> String {
-    ",".to_string()
-}

@@ -3,7 +3,6 @@
 //! a sequence drawn in order, so replicate k is the same whether it runs first, last, alone or on
 //! another machine.
 
-use crate::error::{Error, Result};
 use crate::rng::{uniform_below, Key};
 use serde::{Deserialize, Serialize};
 
@@ -51,8 +50,6 @@ pub struct ResamplePlan {
     /// Share of rows per replicate: 0.5 (⌊n/2⌋ rows) for complementary pairs, the chosen fraction
     /// for subsamples, 1 for the bootstrap.
     pub fraction: f64,
-    /// The study seed.
-    pub seed: u64,
 }
 
 /// Rows drawn for one replicate, and for the bootstrap the original row behind each drawn row.
@@ -64,62 +61,37 @@ pub struct ReplicateRows {
     pub with_replacement: bool,
 }
 
+/// Share of rows per subsample when none is given (common practice: half the rows, as
+/// complementary pairs use).
+pub const DEFAULT_SUBSAMPLE_FRACTION: f64 = 0.5;
+
 /// Most replicates a plan may ask for: each replicate repeats the whole search, and stability
 /// frequencies are already resolved to 0.1 % at this count (a bound of our own).
 pub const MAX_REPLICATES: u32 = 10_000;
 
 impl ResamplePlan {
-    /// Checks the settings of a plan. `fraction` applies to `subsample` only (default 0.5).
-    pub fn new(
-        kind: PlanKind,
-        count: u32,
-        fraction: Option<f64>,
-        seed: u64,
-    ) -> Result<ResamplePlan> {
-        if count > MAX_REPLICATES {
-            return Err(Error::input(format!(
-                "--replicates {count} is above the limit of {MAX_REPLICATES}: each replicate repeats \
-                 the whole search, and 100 to 1000 replicates resolve a stability frequency well \
-                 beyond what it can tell"
-            )));
-        }
-        if kind == PlanKind::ComplementaryPairs && !count.is_multiple_of(2) {
-            return Err(Error::input(format!(
-                "--replicates {count}: complementary pairs come in twos (two halves per split), so \
-                 the number of replicates must be even; use {} or {}",
-                count - 1,
-                count + 1
-            )));
-        }
-        let fraction = match (kind, fraction) {
-            (PlanKind::Subsample, Some(f)) if !(f > 0.0 && f < 1.0) => {
-                return Err(Error::input(format!(
-                    "--fraction {f} is not a share of the rows: it must lie strictly between 0 and 1"
-                )))
-            }
-            (PlanKind::Subsample, f) => f.unwrap_or(0.5),
-            (_, Some(f)) => {
-                return Err(Error::input(format!(
-                    "--fraction {f} applies to --resample subsample only; {} fixes its own share",
-                    kind.name()
-                )))
-            }
-            (PlanKind::ComplementaryPairs, None) => 0.5,
-            (PlanKind::Bootstrap, None) => 1.0,
+    /// A plan of `count` replicates; `fraction` is the share of rows of a subsample (0.5 when not
+    /// given) and is fixed by the other kinds. The settings check (`settings::check`) has already
+    /// refused counts and fractions that make no plan.
+    pub fn new(kind: PlanKind, count: u32, fraction: Option<f64>) -> ResamplePlan {
+        let fraction = match kind {
+            PlanKind::Subsample => fraction.unwrap_or(DEFAULT_SUBSAMPLE_FRACTION),
+            PlanKind::ComplementaryPairs => 0.5,
+            PlanKind::Bootstrap => 1.0,
         };
-        Ok(ResamplePlan {
+        ResamplePlan {
             kind,
             count,
             fraction,
-            seed,
-        })
+        }
     }
 
-    /// The rows of replicate `k` (0-based) of a table with `n` rows.
-    pub fn rows(&self, k: u32, n: usize) -> ReplicateRows {
+    /// The rows of replicate `k` (0-based) of a table with `n` rows, drawn with keys of the study
+    /// seed.
+    pub fn rows(&self, seed: u64, k: u32, n: usize) -> ReplicateRows {
         match self.kind {
             PlanKind::ComplementaryPairs => {
-                let key = Key::new("complementary-pairs", self.seed)
+                let key = Key::new("complementary-pairs", seed)
                     .number(u64::from(k / 2))
                     .finish();
                 let permutation = shuffled(n, n, &key);
@@ -136,7 +108,7 @@ impl ResamplePlan {
                 }
             }
             PlanKind::Subsample => {
-                let key = Key::new("subsample", self.seed)
+                let key = Key::new("subsample", seed)
                     .number(u64::from(k))
                     .finish();
                 let m = ((self.fraction * n as f64).floor() as usize).clamp(2, n);
@@ -148,7 +120,7 @@ impl ResamplePlan {
                 }
             }
             PlanKind::Bootstrap => {
-                let key = Key::new("bootstrap", self.seed)
+                let key = Key::new("bootstrap", seed)
                     .number(u64::from(k))
                     .finish();
                 let mut rng = key.stream(0);
@@ -184,23 +156,23 @@ mod tests {
 
     #[test]
     fn complementary_halves_are_disjoint_and_of_half_size() {
-        let plan = ResamplePlan::new(PlanKind::ComplementaryPairs, 10, None, 3).unwrap();
+        let plan = ResamplePlan::new(PlanKind::ComplementaryPairs, 10, None);
         for b in 0..5 {
-            let a = plan.rows(2 * b, 101).rows;
-            let c = plan.rows(2 * b + 1, 101).rows;
+            let a = plan.rows(3, 2 * b, 101).rows;
+            let c = plan.rows(3, 2 * b + 1, 101).rows;
             assert_eq!(a.len(), 50);
             assert_eq!(c.len(), 50);
             assert!(a.iter().all(|r| !c.contains(r)));
         }
-        assert_ne!(plan.rows(0, 101), plan.rows(2, 101));
+        assert_ne!(plan.rows(3, 0, 101), plan.rows(3, 2, 101));
     }
 
     #[test]
     fn replicate_rows_do_not_depend_on_which_replicates_ran_before() {
-        let plan = ResamplePlan::new(PlanKind::Subsample, 20, Some(0.3), 9).unwrap();
-        let later = plan.rows(17, 500);
-        let _ = plan.rows(3, 500);
-        assert_eq!(plan.rows(17, 500), later);
+        let plan = ResamplePlan::new(PlanKind::Subsample, 20, Some(0.3));
+        let later = plan.rows(9, 17, 500);
+        let _ = plan.rows(9, 3, 500);
+        assert_eq!(plan.rows(9, 17, 500), later);
         assert_eq!(later.rows.len(), 150);
         let mut dedup = later.rows.clone();
         dedup.dedup();
@@ -209,8 +181,8 @@ mod tests {
 
     #[test]
     fn bootstrap_draws_n_rows_with_replacement() {
-        let plan = ResamplePlan::new(PlanKind::Bootstrap, 4, None, 1).unwrap();
-        let rows = plan.rows(0, 1000);
+        let plan = ResamplePlan::new(PlanKind::Bootstrap, 4, None);
+        let rows = plan.rows(1, 0, 1000);
         assert!(rows.with_replacement);
         assert_eq!(rows.rows.len(), 1000);
         let mut distinct = rows.rows.clone();
@@ -218,15 +190,6 @@ mod tests {
         // Expected share of distinct rows is 1 − (1 − 1/n)^n ≈ 1 − 1/e ≈ 0.632 (classical result).
         let share = distinct.len() as f64 / 1000.0;
         assert!((share - 0.632).abs() < 0.05, "share {share}");
-    }
-
-    #[test]
-    fn bad_plans_are_refused() {
-        assert!(ResamplePlan::new(PlanKind::ComplementaryPairs, 7, None, 1).is_err());
-        assert!(ResamplePlan::new(PlanKind::Subsample, 10, Some(1.0), 1).is_err());
-        assert!(ResamplePlan::new(PlanKind::Subsample, 10, Some(0.0), 1).is_err());
-        assert!(ResamplePlan::new(PlanKind::Bootstrap, 10, Some(0.5), 1).is_err());
-        assert!(ResamplePlan::new(PlanKind::ComplementaryPairs, 0, None, 1).is_ok());
     }
 
     #[test]

@@ -133,9 +133,9 @@ pub struct Headline {
 /// Runs replicate `k` of `plan` on `table` and condenses it into a record.
 pub fn run_replicate(table: &Table, study: &Study, k: u32, full_trace: &[Step]) -> ReplicateRecord {
     let plan = &study.resampling;
-    let drawn = plan.rows(k, table.n_rows());
+    let drawn = plan.rows(study.seed, k, table.n_rows());
     let sub = table.select_rows(&drawn.rows);
-    let mut data = SearchData::new(&sub, study.scaling, plan.seed, u64::from(k) + 1);
+    let mut data = SearchData::new(&sub, study.scaling, study.seed, u64::from(k) + 1);
     if drawn.with_replacement {
         data = data.with_origins(drawn.rows.iter().map(|&r| r as u32).collect());
     }

@@ -80,32 +80,4 @@ impl SelectionRule {
             exhaustive,
         }
     }
-
-    /// Every problem with these values, each one sentence naming the setting by its key.
-    pub fn problems(&self) -> Vec<String> {
-        let mut problems = Vec::new();
-        if !(self.alpha > 0.0 && self.alpha < 1.0) {
-            problems.push(format!(
-                "selection_alpha {} is not a level: it must lie strictly between 0 and 1",
-                self.alpha
-            ));
-        } else if self.is_calibrated() {
-            let fewest = TestPlan::fewest_permutations(self.alpha);
-            if self.permutations < fewest {
-                problems.push(format!(
-                    "permutations {} cannot give a p-value of selection_alpha {} or less: the \
-                     smallest Monte Carlo p-value is 1/(permutations + 1), so at least {fewest} \
-                     are needed",
-                    self.permutations, self.alpha
-                ));
-            }
-        }
-        if self.permutations > MAX_PERMUTATIONS {
-            problems.push(format!(
-                "permutations {} is above the limit of {MAX_PERMUTATIONS} draws per test",
-                self.permutations
-            ));
-        }
-        problems
-    }
 }

@@ -17,12 +17,13 @@ use serde::Serialize;
 use std::path::Path;
 
 /// Fields of `result.json` always taken from the record.
-pub(super) const RECORDED_FACTS: [&str; 8] = [
+pub(super) const RECORDED_FACTS: [&str; 9] = [
     "/run/started_utc",
     "/run/duration_seconds",
     "/run/threads",
     "/run/data_path",
     "/run/command_line",
+    "/run/study_file",
     "/tool/version",
     "/tool/build",
     "/data/file",
@@ -58,8 +59,9 @@ pub(super) fn taken_from_record(result_pointers: &[&str]) -> Vec<String> {
         .collect()
 }
 
-/// `value` with the fields at `pointers` copied from `record` (a field absent from either stays
-/// as it is).
+/// `value` with the fields at `pointers` copied from `record`: a field of the record is set (added
+/// when `value` lacks it, as an optional field a re-run does not fill), a field absent from the
+/// record stays as it is.
 pub(super) fn with_recorded<T: Serialize + DeserializeOwned>(
     value: &T,
     record: &T,
@@ -68,8 +70,15 @@ pub(super) fn with_recorded<T: Serialize + DeserializeOwned>(
     let mut tree = serde_json::to_value(value).map_err(|e| e.to_string())?;
     let source = serde_json::to_value(record).map_err(|e| e.to_string())?;
     for pointer in pointers {
-        if let (Some(slot), Some(recorded)) = (tree.pointer_mut(pointer), source.pointer(pointer)) {
+        let Some(recorded) = source.pointer(pointer) else {
+            continue;
+        };
+        if let Some(slot) = tree.pointer_mut(pointer) {
             *slot = recorded.clone();
+        } else if let Some((parent, key)) = pointer.rsplit_once('/') {
+            if let Some(serde_json::Value::Object(members)) = tree.pointer_mut(parent) {
+                members.insert(key.to_string(), recorded.clone());
+            }
         }
     }
     serde_json::from_value(tree).map_err(|e| e.to_string())
@@ -261,6 +270,10 @@ mod tests {
             threads: 1,
             data_path: String::new(),
             command_line: Vec::new(),
+            study_file: Some(crate::settings::StudyFileRecord {
+                path: String::new(),
+                sha256: String::new(),
+            }),
         };
         let tree = serde_json::to_value(run).unwrap();
         for key in tree.as_object().unwrap().keys() {

@@ -13,7 +13,7 @@ use crate::finding::Analysed;
 use crate::finding::Finding;
 use crate::manifest::{differences, Difference, Manifest};
 use crate::resample::ReplicateRecord;
-use crate::study::StudyInput;
+use crate::settings::Naming;
 
 /// Differences listed per check before the rest is summarised (all of them with another version).
 pub(super) const SHOWN_DIFFERENCES: usize = 5;
@@ -209,14 +209,14 @@ fn prepare_rerun(
         (Ok(o), Ok(s)) => (o, s),
         (Err(why), _) | (_, Err(why)) => return Err(vec![why]),
     };
-    let prepared = prepare_read(
-        &request.data,
-        data,
-        &StudyInput::replaying(&study),
-        &options,
-        progress,
-    )
-    .map_err(|e| vec![format!("the re-run stopped: {e}")])?;
+    let settings = study.replaying(&options).check().map_err(|problems| {
+        problems
+            .iter()
+            .map(|p| format!("the recorded settings break a rule: {}", p.render(Naming::Keys)))
+            .collect::<Vec<_>>()
+    })?;
+    let prepared = prepare_read(&request.data, data, &settings, &study.target, progress)
+        .map_err(|e| vec![format!("the re-run stopped: {e}")])?;
     if prepared.study != study {
         let found = differences(
             &serde_json::to_value(&study).unwrap_or_default(),

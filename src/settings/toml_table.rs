@@ -1,0 +1,174 @@
+//! Settings from a TOML table — a study file, a plan's `[defaults]` or one `[[study]]` — read key
+//! by key, so that every problem is found in one pass and each is placed at its key (line and
+//! column, from the parser's spans).
+
+use super::input::SettingsInput;
+use super::key::{Key, Naming, SettingProblem};
+use crate::text::quoted;
+use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::ops::Range;
+use toml::de::{DeTable, DeValue, ValueDeserializer};
+use toml::Spanned;
+
+/// A problem in a TOML text, at a byte span where one is known.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Placed {
+    /// Bytes of the text at fault.
+    pub span: Option<Range<usize>>,
+    /// What is wrong, and what to do.
+    pub message: String,
+}
+
+/// The settings of one table, with where each key was written.
+#[derive(Clone, Debug, Default)]
+pub struct SettingsTable {
+    /// The values that read.
+    pub input: SettingsInput,
+    /// The span of each key written in the table.
+    pub spans: BTreeMap<Key, Range<usize>>,
+}
+
+impl SettingsTable {
+    /// Reads the setting keys of `table`; keys in `other_keys` belong to the caller and are
+    /// skipped; any other key, and every value of the wrong type, is a problem (all of them).
+    /// `place` names the table in messages (`[defaults]`, `[[study]] "line-a"`).
+    pub fn read(
+        table: &DeTable<'_>,
+        other_keys: &[&str],
+        place: &str,
+        problems: &mut Vec<Placed>,
+    ) -> SettingsTable {
+        let mut read = SettingsTable::default();
+        for (key, value) in table.iter() {
+            let name = key.get_ref().as_ref();
+            if other_keys.contains(&name) {
+                continue;
+            }
+            let Some(setting) = Key::named(name) else {
+                problems.push(Placed {
+                    span: Some(key.span()),
+                    message: unknown_key(name, other_keys, place),
+                });
+                continue;
+            };
+            let mut one = DeTable::new();
+            one.insert(key.clone(), value.clone());
+            let spanned = Spanned::new(value.span(), DeValue::Table(one));
+            match SettingsInput::deserialize(ValueDeserializer::from(spanned)) {
+                Ok(given) => {
+                    read.input = given.over(&read.input);
+                    read.spans.insert(setting, key.span());
+                }
+                Err(e) => problems.push(Placed {
+                    span: Some(value.span()),
+                    message: format!("{place}: {name}: {}", bounded(e.message())),
+                }),
+            }
+        }
+        read
+    }
+
+    /// A problem of the settings placed at its key (or at `fallback` when the key is not in this
+    /// table), named as a study file or plan names it.
+    pub fn place(
+        &self,
+        problem: &SettingProblem,
+        fallback: Option<Range<usize>>,
+        place: &str,
+    ) -> Placed {
+        Placed {
+            span: self.spans.get(&problem.key).cloned().or(fallback),
+            message: format!("{place}: {}", problem.render(Naming::Keys)),
+        }
+    }
+}
+
+/// The message for a key that a table does not take, with the closest known key.
+fn unknown_key(name: &str, other_keys: &[&str], place: &str) -> String {
+    let known: Vec<String> = other_keys
+        .iter()
+        .map(|k| k.to_string())
+        .chain(Key::ALL.iter().map(|k| k.name().to_string()))
+        .collect();
+    let hint = match crate::data::load::closest_names(name, &known).first() {
+        Some(close) => format!("did you mean {}? ", quoted(close)),
+        None => String::new(),
+    };
+    format!(
+        "unknown key {} in {place}; {hint}the keys there are: {}",
+        quoted(name),
+        known.join(", ")
+    )
+}
+
+/// 1-based line and column (in characters) of byte `offset` of `text`.
+pub fn line_and_column(text: &str, offset: usize) -> (usize, usize) {
+    let mut offset = offset.min(text.len());
+    while !text.is_char_boundary(offset) {
+        offset -= 1;
+    }
+    let before = &text[..offset];
+    let line = before.matches('\n').count() + 1;
+    let start = before.rfind('\n').map_or(0, |i| i + 1);
+    (line, before[start..].chars().count() + 1)
+}
+
+/// A parser's message, on one line and of bounded length (it may quote the file's text).
+pub fn bounded(message: &str) -> String {
+    let line = message.split_whitespace().collect::<Vec<_>>().join(" ");
+    crate::text::capped(&crate::text::escaped(&line), 2 * crate::text::ECHO_CHARS)
+}
+
+/// Problems of a TOML text as lines `FILE:LINE:COLUMN: message` (the form compilers use), in the
+/// order of the text, problems without a place last.
+pub fn located(file: &str, text: &str, mut problems: Vec<Placed>) -> Vec<String> {
+    problems.sort_by_key(|p| p.span.as_ref().map_or(usize::MAX, |s| s.start));
+    problems
+        .into_iter()
+        .map(|p| match p.span {
+            Some(span) => {
+                let (line, column) = line_and_column(text, span.start);
+                format!("{file}:{line}:{column}: {}", p.message)
+            }
+            None => format!("{file}: {}", p.message),
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read(text: &str) -> (SettingsTable, Vec<String>) {
+        let root = DeTable::parse(text).unwrap();
+        let mut problems = Vec::new();
+        let table = SettingsTable::read(root.get_ref(), &["name"], "study.toml", &mut problems);
+        (table, located("study.toml", text, problems))
+    }
+
+    #[test]
+    fn every_bad_key_and_value_is_reported_at_its_line_and_column() {
+        let (table, problems) = read(
+            "name = \"x\"\nalpha = \"high\"\nscaling = \"ranked\"\nseeds = 4\nreplicates = 10\n",
+        );
+        assert_eq!(problems.len(), 3, "{problems:#?}");
+        assert!(problems[0].starts_with("study.toml:2:9: study.toml: alpha:"));
+        assert!(problems[1].starts_with("study.toml:3:11: study.toml: scaling:"));
+        assert!(problems[1].contains("ranked"), "{}", problems[1]);
+        assert!(
+            problems[2].starts_with("study.toml:4:1: unknown key 'seeds'")
+                && problems[2].contains("did you mean 'seed'?"),
+            "{}",
+            problems[2]
+        );
+        assert_eq!(table.input.replicates, Some(10));
+        assert_eq!(table.spans.len(), 1);
+    }
+
+    #[test]
+    fn columns_count_characters_not_bytes() {
+        assert_eq!(line_and_column("a = 'é'\nb = 1", 9), (2, 1));
+        assert_eq!(line_and_column("é = 1", 3), (1, 2));
+    }
+}
