@@ -11,8 +11,7 @@
 //! target `c0` depends on `c1` and `c2`, so that no column is constant or a copy of another.
 
 use forebear::analysis::{prepare, Silent};
-use forebear::data::LoadOptions;
-use forebear::study::StudyInput;
+use forebear::settings::SettingsInput;
 use std::io::{BufWriter, Write};
 use std::path::Path;
 use std::time::Instant;
@@ -66,9 +65,13 @@ fn write_table(path: &Path, rows: usize, cols: usize) -> std::io::Result<()> {
 
 fn read(path: &Path) {
     let started = Instant::now();
-    let mut input = StudyInput::for_target("c0");
-    input.replicates = 0;
-    let prepared = match prepare(path, &input, &LoadOptions::default(), &Silent) {
+    let settings = SettingsInput {
+        replicates: Some(0),
+        ..SettingsInput::for_target("c0")
+    }
+    .check()
+    .expect("valid settings");
+    let prepared = match prepare(path, &settings, "c0", &Silent) {
         Ok(p) => p,
         Err(e) => {
             eprintln!("read_large: {e}");

@@ -4,8 +4,8 @@
 use crate::data::checks::{require_rows, MIN_ROWS_PER_SAMPLE};
 use crate::data::load::RawTable;
 use crate::data::DataReport;
-use crate::error::{Error, Result};
 use crate::data::LoadOptions;
+use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
 use crate::search::SelectionRule;
@@ -74,9 +74,7 @@ impl Study {
         };
         let used: Vec<usize> = (0..raw.names.len())
             .filter(|j| !excluded_positions.contains(j))
-            .filter(|&j| {
-                j == target_position || named.as_ref().is_none_or(|n| n.contains(&j))
-            })
+            .filter(|&j| j == target_position || named.as_ref().is_none_or(|n| n.contains(&j)))
             .collect();
         if used.len() < 3 {
             let have: Vec<String> = used

@@ -381,13 +381,13 @@ targets = []
     assert_eq!(exit_code(&run), 2);
     let err = stderr(&run);
     for expected in [
-        "plan.toml: line 3: unknown key 'colour' in [defaults]",
-        "plan.toml: line 6: the study name '../escape' contains '..'",
-        "plan.toml: line 11: the study name 'line\\u{7}bell' contains a control character",
-        "plan.toml: line 18: [[study]] 'line-c': the target 'a\\\\b' contains '\\'",
-        "plan.toml: line 19: unknown key 'replicate' in [[study]] 'line-c'",
-        "plan.toml: line 22: the study name 'LINE-C' is used twice",
-        "plan.toml: line 24: [[study]] 'LINE-C': 'targets' is empty",
+        "plan.toml:3:1: unknown key 'colour' in [defaults]",
+        "plan.toml:6:8: the study name '../escape' contains '..'",
+        "plan.toml:11:8: the study name 'line\\u{7}bell' contains a control character",
+        "plan.toml:18:1: [[study]] 'line-c': the target 'a\\\\b' contains '\\'",
+        "plan.toml:19:1: unknown key 'replicate' in [[study]] 'line-c'; did you mean 'replicates'?",
+        "plan.toml:22:8: the study name 'LINE-C' is used twice (also 'line-c' on line 16)",
+        "plan.toml:24:1: [[study]] 'LINE-C': no target column is named",
         "7 problem(s), listed above; nothing was run",
     ] {
         assert!(err.contains(expected), "missing {expected:?} in:\n{err}");
@@ -406,7 +406,7 @@ fn bad_settings_are_rejected_with_their_line_before_anything_runs() {
     assert_eq!(exit_code(&run), 2);
     let err = stderr(&run);
     assert!(
-        err.contains("[defaults]: alpha 1.5 is not a level"),
+        err.contains("plan.toml:5:1: [defaults]: alpha 1.5 is not a level"),
         "{err}"
     );
     assert!(
@@ -414,7 +414,7 @@ fn bad_settings_are_rejected_with_their_line_before_anything_runs() {
         "{err}"
     );
     assert!(
-        err.contains("[[study]] 'line-c': scaling 'log' is not known"),
+        err.contains("plan.toml:23:11: [[study]] 'line-c': scaling: unknown variant `log`"),
         "{err}"
     );
     // A problem of [defaults] is listed once, not once per study.
@@ -432,10 +432,65 @@ fn check_mode_treats_a_missing_data_file_as_a_plan_problem() {
     let missing = s.batch(&["--check"]);
     assert_eq!(exit_code(&missing), 2);
     assert!(
-        stderr(&missing).contains("study 'line-c': the data file"),
+        stderr(&missing).contains("plan.toml:19:8: [[study]] 'line-c': the data file"),
         "{}",
         stderr(&missing)
     );
+    assert!(!s.path("forebear-batch").exists());
+}
+
+#[test]
+fn check_reports_every_problem_of_a_plan_and_its_data_headers_in_one_round_at_each_key() {
+    let s = Scratch::with_plan("check-all");
+    let plan = r#"[defaults]
+alpha = 1.5
+replicates = 4
+
+[[study]]
+name = "line-a"
+data = "data/line_a.csv"
+targets = ["crush_strength", "pore_densty"]
+
+[[study]]
+name = "line-b"
+data = "data/line_b.csv"
+targets = ["crush_strength"]
+exclude = ["conveyor_sped"]
+scaling = "log"
+colour = "blue"
+
+[[study]]
+name = "line-c"
+data = "data/line_d.csv"
+targets = ["crush_strength"]
+"#;
+    std::fs::write(s.path("plan.toml"), plan).unwrap();
+    let checked = s.batch(&["--check"]);
+    assert_eq!(exit_code(&checked), 2);
+    let err = stderr(&checked);
+    let lines: Vec<&str> = err.lines().collect();
+    let expected = [
+        "plan.toml:2:1: [defaults]: alpha 1.5 is not a level",
+        "plan.toml:8:1: [[study]] 'line-a': ",
+        "the target column 'pore_densty' is not in the header; did you mean 'pore_density'?",
+        "plan.toml:14:1: [[study]] 'line-b': ",
+        "the excluded column 'conveyor_sped' is not in the header; did you mean 'conveyor_speed'?",
+        "plan.toml:15:11: [[study]] 'line-b': scaling: unknown variant `log`",
+        "plan.toml:16:1: unknown key 'colour' in [[study]] 'line-b'",
+        "plan.toml:20:8: [[study]] 'line-c': the data file",
+        "line_d.csv' does not exist",
+        "plan.toml: 6 problem(s), listed above; nothing was run",
+    ];
+    for needle in expected {
+        assert!(err.contains(needle), "missing {needle:?} in:\n{err}");
+    }
+    assert_eq!(
+        lines.len(),
+        7,
+        "six problems and the count, one line each:\n{err}"
+    );
+    // The study whose only fault is a header mismatch was checked against its file even though
+    // other studies (and [defaults]) have problems of their own.
     assert!(!s.path("forebear-batch").exists());
 }
 
@@ -453,7 +508,14 @@ fn a_folder_given_as_a_plans_data_file_is_called_a_folder() {
             .unwrap()
     };
     let checked = batch(&["--check"]);
-    let err = assert_refused(&checked, &["study 'line-a'", "line_a.csv", "is a folder"]);
+    let err = assert_refused(
+        &checked,
+        &[
+            "small.toml:7:8: [[study]] 'line-a'",
+            "line_a.csv",
+            "is a folder",
+        ],
+    );
     assert!(!err.contains("does not exist"), "{err}");
     let ran = batch(&["--out", "out"]);
     let err = assert_refused(&ran, &["is a folder"]);

@@ -449,8 +449,15 @@ fn zero_threads_are_refused() {
 fn clap_usage_errors_exit_2() {
     let s = Scratch::new("usage");
     let data = s.write("data.csv", csv_text(&table(30)));
-    let cases: [Vec<&OsStr>; 5] = [
-        vec![OsStr::new("analyze"), data.as_os_str()],
+    // Without --target (and without a study file naming targets): one line, naming the flag.
+    let no_target = run([OsStr::new("analyze"), data.as_os_str()]);
+    assert_input_error(
+        &no_target,
+        &s,
+        &["data.csv"],
+        &["no target column is named; name the outcome with --target"],
+    );
+    let cases: [Vec<&OsStr>; 4] = [
         vec![
             OsStr::new("analyze"),
             data.as_os_str(),
@@ -997,4 +1004,162 @@ fn shard_and_replicate_range_values_are_checked_when_parsed() {
         assert!(stderr.contains(expected), "{args:?}: {stderr}");
         assert_eq!(stderr.lines().count(), 1, "{args:?}: {stderr}");
     }
+}
+
+// ---- study files: `analyze --config` (issue 13) ------------------------------------------------
+
+/// The example study file of the repository.
+fn example_study() -> std::path::PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/study.toml")
+}
+
+#[test]
+fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_over_it() {
+    let text = std::fs::read_to_string(example_study()).unwrap();
+    // Every key the settings take is shown (set or commented out) as `key =` at a line's start.
+    for key in forebear::settings::Key::ALL {
+        let shown = text.lines().any(|l| {
+            l.trim_start_matches("# ")
+                .strip_prefix(key.name())
+                .is_some_and(|rest| rest.trim_start().starts_with('='))
+        });
+        assert!(shown, "examples/study.toml does not show '{}'", key.name());
+    }
+    let s = Scratch::new("config-example");
+    let data = s.write("discs.csv", forebear::demo::DEMO_CSV);
+    let out = s.path("out");
+    let ran = run([
+        OsStr::new("analyze"),
+        data.as_os_str(),
+        OsStr::new("--config"),
+        example_study().as_os_str(),
+        OsStr::new("--replicates"),
+        OsStr::new("0"),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_success(&ran);
+    let result = result_json(&out);
+    let settings = &result["settings"];
+    assert_eq!(settings["target"], "crush_strength", "from the file");
+    assert_eq!(settings["seed"], 20261202, "from the file");
+    assert_eq!(settings["excluded"], serde_json::json!(["conveyor_speed"]));
+    assert_eq!(
+        settings["resampling"]["count"], 0,
+        "the flag wins over the file"
+    );
+    assert!(
+        settings["resampling"].get("seed").is_none(),
+        "the seed is stored once"
+    );
+    let manifest: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("manifest.json")).unwrap()).unwrap();
+    assert_eq!(
+        manifest["settings"]["study_file"]["sha256"],
+        sha256_hex(text.as_bytes()),
+        "the study file's hash is in the manifest"
+    );
+    let verified = run([
+        OsStr::new("verify"),
+        out.as_os_str(),
+        OsStr::new("--data"),
+        data.as_os_str(),
+    ]);
+    assert_success(&verified);
+}
+
+#[test]
+fn every_problem_of_a_study_file_and_the_flags_is_reported_at_once_where_it_was_written() {
+    let s = Scratch::new("config-problems");
+    let data = s.write("discs.csv", forebear::demo::DEMO_CSV);
+    let config = s.write(
+        "study.toml",
+        "targets = [\"crush_strength\"]\nalpha = 1.5\nscaling = \"ranked\"\nseeds = 3\n\
+         replicates = 7\nexclude = [\"crush_strength\"]\n",
+    );
+    let out = s.path("out");
+    let ran = run([
+        OsStr::new("analyze"),
+        data.as_os_str(),
+        OsStr::new("--config"),
+        config.as_os_str(),
+        OsStr::new("--stability-threshold"),
+        OsStr::new("0.4"),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    let err = common::assert_refused(&ran, &[]);
+    let file = config.display().to_string();
+    let lines: Vec<&str> = err.lines().collect();
+    assert_eq!(
+        lines,
+        [
+            format!("forebear: error: {file}:2:1: alpha 1.5 is not a level: it must lie strictly between 0 and 1"),
+            format!("forebear: error: {file}:3:11: scaling: unknown variant `ranked`, expected one of `rank`, `standardize`, `none`"),
+            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, delimiter, decimal_comma, missing_tokens, missing"),
+            format!("forebear: error: {file}:5:1: replicates 7: complementary pairs come in twos (two halves per split), so the number of replicates must be even; use 6 or 8"),
+            format!("forebear: error: {file}:6:1: the target 'crush_strength' cannot also be excluded; remove it from exclude"),
+            "forebear: error: --stability-threshold 0.4 is outside (0.5, 1]: the error bound of Meinshausen and Bühlmann (2010) needs a threshold above one half".to_string(),
+            format!("forebear: error: {file}: 6 problem(s) with the settings, listed above; nothing was run"),
+        ]
+    );
+    assert!(!out.exists(), "nothing is written");
+}
+
+#[test]
+fn a_column_named_in_a_study_file_but_absent_from_the_header_is_placed_at_its_key() {
+    let s = Scratch::new("config-columns");
+    let data = s.write("discs.csv", forebear::demo::DEMO_CSV);
+    let config = s.write(
+        "study.toml",
+        "# roles\ntargets = [\"crush_strength\"]\nexclude = [\"kiln_peak_tmp\"]\n",
+    );
+    let out = s.path("out");
+    let ran = run([
+        OsStr::new("analyze"),
+        data.as_os_str(),
+        OsStr::new("--config"),
+        config.as_os_str(),
+        OsStr::new("--candidates"),
+        OsStr::new("zz,binder_fraction"),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    let err = common::assert_refused(
+        &ran,
+        &[
+            &format!(
+                "{}:3:1: {}, line 1: the excluded column 'kiln_peak_tmp' is not in the header; \
+                 did you mean 'kiln_peak_temp'?",
+                config.display(),
+                data.display()
+            ),
+            "the candidate column 'zz' is not in the header",
+            "2 problem(s) with the settings",
+        ],
+    );
+    assert!(!err.contains("--candidates:"), "{err}");
+    assert!(!out.exists());
+}
+
+#[test]
+fn settings_given_as_flags_are_named_as_flags_all_at_once() {
+    let s = Scratch::new("flag-problems");
+    let data = s.write("discs.csv", forebear::demo::DEMO_CSV);
+    let ran = analyze(
+        &s,
+        &data,
+        "crush_strength",
+        &["--alpha", "2", "--replicates", "3", "--fraction", "0.3"],
+    );
+    assert_input_error(
+        &ran,
+        &s,
+        &["discs.csv"],
+        &[
+            "--alpha 2 is not a level",
+            "--replicates 3: complementary pairs come in twos",
+            "--fraction 0.3 applies to --resample subsample only",
+        ],
+    );
 }

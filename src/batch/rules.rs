@@ -3,7 +3,7 @@
 
 use super::plan::{Collector, PlannedStudy, StudyHead, StudyPlaces, StudyTables, RESERVED_NAMES};
 use crate::settings::toml_table::{line_and_column, Placed};
-use crate::settings::{Key, Naming};
+use crate::settings::{Key, Naming, SettingProblem, SettingsInput};
 use crate::text::quoted;
 use std::collections::BTreeMap;
 use std::ops::Range;
@@ -83,7 +83,6 @@ pub(super) fn check_study(
     dir: &Path,
     place: &str,
 ) -> Option<PlannedStudy> {
-    let before = c.problems.len();
     let name = head.name.get_ref().clone();
     if let Some(why) = unsafe_name(&name, true) {
         c.at(
@@ -146,7 +145,7 @@ pub(super) fn check_study(
         }
     }
     let settings = match merged.check() {
-        Ok(settings) => Some(settings),
+        Ok(settings) => settings,
         Err(problems) => {
             for p in &problems {
                 let own = tables.own.spans.contains_key(&p.key);
@@ -160,20 +159,29 @@ pub(super) fn check_study(
                     message: format!("{place}: {}", p.render(Naming::Keys)),
                 });
             }
-            None
+            // The keys at fault at their defaults, so that the columns can still be checked
+            // against the data file's header in the same round (`batch --check`).
+            without(merged, &problems).check().ok()?
         }
     };
-    if c.problems.len() > before {
-        return None;
-    }
     Some(PlannedStudy {
         name,
         data_path: dir.join(&data),
         data,
         targets,
-        settings: settings?,
+        settings,
         places,
     })
+}
+
+/// `input` without the keys of `problems` (their defaults apply instead); unchanged when a column
+/// role is at fault, since the roles are what a header check is for.
+fn without(input: SettingsInput, problems: &[SettingProblem]) -> SettingsInput {
+    let roles = [Key::Targets, Key::Exclude, Key::Candidates];
+    if problems.iter().any(|p| roles.contains(&p.key)) {
+        return input;
+    }
+    problems.iter().fold(input, |input, p| input.without(p.key))
 }
 
 pub(super) fn check_duplicates(c: &mut Collector, names: &[(String, Range<usize>)], text: &str) {

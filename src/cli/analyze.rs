@@ -95,8 +95,7 @@ impl AnalyzeArgs {
             replicates: given(Key::Replicates).then_some(self.replicates),
             resample: given(Key::Resample).then_some(self.resample),
             fraction: self.fraction,
-            stability_threshold: given(Key::StabilityThreshold)
-                .then_some(self.stability_threshold),
+            stability_threshold: given(Key::StabilityThreshold).then_some(self.stability_threshold),
             stopping_rule: given(Key::StoppingRule).then_some(self.stopping_rule),
             selection_alpha: given(Key::SelectionAlpha).then_some(self.selection_alpha),
             permutations: given(Key::Permutations).then_some(self.permutations),
@@ -130,15 +129,9 @@ pub fn run(
     let target = settings.single_target().map_err(|e| sources.explain(e))?;
     if let Some(range) = args.replicate_range.clone() {
         let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
-        let mut part = crate::analysis::analyze_part(
-            &args.data,
-            &settings,
-            &target,
-            range,
-            argv,
-            progress,
-        )
-        .map_err(|e| sources.explain(e))?;
+        let mut part =
+            crate::analysis::analyze_part(&args.data, &settings, &target, range, argv, progress)
+                .map_err(|e| sources.explain(e))?;
         part.finding.run.study_file = sources.study_file();
         let text = serde_json::to_string(&part)
             .map_err(|e| Error::internal(format!("partial result: {e}")))?;
@@ -174,11 +167,21 @@ pub struct Request<'a> {
 }
 
 /// Analyses one file into one output folder and reports where it went.
-pub fn analyze_into(request: &Request<'_>, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+pub fn analyze_into(
+    request: &Request<'_>,
+    argv: Vec<String>,
+    progress: &dyn Progress,
+) -> Result<()> {
     let out = request.out;
     // Refuse an unusable output folder before the work, not after it.
     let claim = Claim::take(out, Kind::Dossier, request.force, progress)?;
-    let mut analysed = analyze_file(request.data, request.settings, request.target, argv, progress)?;
+    let mut analysed = analyze_file(
+        request.data,
+        request.settings,
+        request.target,
+        argv,
+        progress,
+    )?;
     analysed.finding.run.study_file = request.study_file.clone();
     crate::report::write_dossier(&analysed, claim)?;
     progress.say(&format!(

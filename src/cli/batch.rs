@@ -138,8 +138,7 @@ fn plan_problems(name: &str, problems: &[Problem]) -> Error {
 
 fn load_plan(args: &BatchArgs) -> Result<Plan> {
     let name = args.plan.display().to_string();
-    let plan = Plan::load(&args.plan)
-        .map_err(|problems| plan_problems(&name, &problems))?;
+    let plan = Plan::load(&args.plan).map_err(|problems| plan_problems(&name, &problems))?;
     // Data files are refreshed by other systems: one late file must not cost the whole night, so
     // the study fails alone and the others run.
     for (study, path, why) in plan.missing_data() {

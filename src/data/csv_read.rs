@@ -4,10 +4,10 @@
 
 use super::cells::{is_number_text, one_line, quoted};
 use super::checks::FileFacts;
+use super::delimiter::Delimiter;
 use super::limits::{size_text, MAX_FIELD_BYTES, MAX_RECORD_BYTES};
 use super::signature::{encoding_hint, wide_encoding};
 use super::source::{is_record_too_long, Source};
-use super::delimiter::Delimiter;
 use crate::error::{Error, Result};
 use std::collections::BTreeMap;
 
@@ -258,8 +258,9 @@ fn foreign_delimiter(names: &[String], delimiter: Delimiter) -> Option<Delimiter
 
 fn check_names(names: &[String], file: &str, line: u64, delimiter: Delimiter) -> Result<()> {
     let filled: Vec<&String> = names.iter().filter(|n| !n.is_empty()).collect();
-    let numeric =
-        |n: &str| is_number_text(n) || (delimiter != Delimiter::Comma && is_number_text(&n.replace(',', ".")));
+    let numeric = |n: &str| {
+        is_number_text(n) || (delimiter != Delimiter::Comma && is_number_text(&n.replace(',', ".")))
+    };
     if !filled.is_empty() && filled.iter().all(|n| numeric(n)) {
         let j = names.iter().position(|n| !n.is_empty()).unwrap_or(0);
         return Err(Error::input(format!(
@@ -308,10 +309,25 @@ mod tests {
 
     #[test]
     fn a_header_of_one_name_holding_another_delimiter_is_recognised() {
-        assert_eq!(foreign_delimiter(&names(&["a;b;c"]), Delimiter::Comma), Some(Delimiter::Semicolon));
-        assert_eq!(foreign_delimiter(&names(&["a\tb"]), Delimiter::Comma), Some(Delimiter::Tab));
-        assert_eq!(foreign_delimiter(&names(&["a,b|c,d"]), Delimiter::Semicolon), Some(Delimiter::Comma));
-        assert_eq!(foreign_delimiter(&names(&["a", "b;c"]), Delimiter::Comma), None);
-        assert_eq!(foreign_delimiter(&names(&["plain"]), Delimiter::Comma), None);
+        assert_eq!(
+            foreign_delimiter(&names(&["a;b;c"]), Delimiter::Comma),
+            Some(Delimiter::Semicolon)
+        );
+        assert_eq!(
+            foreign_delimiter(&names(&["a\tb"]), Delimiter::Comma),
+            Some(Delimiter::Tab)
+        );
+        assert_eq!(
+            foreign_delimiter(&names(&["a,b|c,d"]), Delimiter::Semicolon),
+            Some(Delimiter::Comma)
+        );
+        assert_eq!(
+            foreign_delimiter(&names(&["a", "b;c"]), Delimiter::Comma),
+            None
+        );
+        assert_eq!(
+            foreign_delimiter(&names(&["plain"]), Delimiter::Comma),
+            None
+        );
     }
 }

@@ -106,4 +106,3 @@ pub struct DataReport {
     #[serde(default)]
     pub duplicate_columns: BTreeMap<String, String>,
 }
-

@@ -108,9 +108,7 @@ impl ResamplePlan {
                 }
             }
             PlanKind::Subsample => {
-                let key = Key::new("subsample", seed)
-                    .number(u64::from(k))
-                    .finish();
+                let key = Key::new("subsample", seed).number(u64::from(k)).finish();
                 let m = ((self.fraction * n as f64).floor() as usize).clamp(2, n);
                 let mut rows = shuffled(n, m, &key);
                 rows.sort_unstable();
@@ -120,9 +118,7 @@ impl ResamplePlan {
                 }
             }
             PlanKind::Bootstrap => {
-                let key = Key::new("bootstrap", seed)
-                    .number(u64::from(k))
-                    .finish();
+                let key = Key::new("bootstrap", seed).number(u64::from(k)).finish();
                 let mut rng = key.stream(0);
                 let mut rows: Vec<usize> = (0..n)
                     .map(|_| uniform_below(&mut rng, n as u64) as usize)

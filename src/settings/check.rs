@@ -103,7 +103,12 @@ impl SettingsInput {
         let mut problems = Vec::new();
         let targets = self.targets.clone().unwrap_or_default();
         let exclude = self.exclude.clone().unwrap_or_default();
-        roles(&targets, &exclude, self.candidates.as_deref(), &mut problems);
+        roles(
+            &targets,
+            &exclude,
+            self.candidates.as_deref(),
+            &mut problems,
+        );
         let alpha = self.alpha.unwrap_or(DEFAULT_ALPHA);
         if !is_level(alpha) {
             problems.push(not_a_level(Key::Alpha, alpha));
@@ -157,7 +162,10 @@ impl SettingsInput {
 
     fn reader_options(&self, problems: &mut Vec<SettingProblem>) -> LoadOptions {
         let tokens: Vec<String> = match &self.missing_tokens {
-            None => DEFAULT_MISSING_TOKENS.iter().map(|t| t.to_string()).collect(),
+            None => DEFAULT_MISSING_TOKENS
+                .iter()
+                .map(|t| t.to_string())
+                .collect(),
             Some(given) => {
                 let mut tokens: Vec<String> = Vec::new();
                 for token in given {

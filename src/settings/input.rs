@@ -83,6 +83,30 @@ impl SettingsInput {
         }
     }
 
+    /// `self` with `key` unset.
+    pub fn without(mut self, key: Key) -> SettingsInput {
+        match key {
+            Key::Targets => self.targets = None,
+            Key::Exclude => self.exclude = None,
+            Key::Candidates => self.candidates = None,
+            Key::Seed => self.seed = None,
+            Key::Scaling => self.scaling = None,
+            Key::Alpha => self.alpha = None,
+            Key::Replicates => self.replicates = None,
+            Key::Resample => self.resample = None,
+            Key::Fraction => self.fraction = None,
+            Key::StabilityThreshold => self.stability_threshold = None,
+            Key::StoppingRule => self.stopping_rule = None,
+            Key::SelectionAlpha => self.selection_alpha = None,
+            Key::Permutations => self.permutations = None,
+            Key::Delimiter => self.delimiter = None,
+            Key::DecimalComma => self.decimal_comma = None,
+            Key::MissingTokens => self.missing_tokens = None,
+            Key::Missing => self.missing = None,
+        }
+        self
+    }
+
     /// Whether `key` is set.
     pub fn has(&self, key: Key) -> bool {
         match key {
@@ -105,5 +129,4 @@ impl SettingsInput {
             Key::Missing => self.missing.is_some(),
         }
     }
-
 }

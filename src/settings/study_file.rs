@@ -26,16 +26,17 @@ pub struct StudyFile {
     path: PathBuf,
     text: String,
     table: SettingsTable,
+    /// Keys and values that did not read (reported with the settings' own problems).
+    unread: Vec<Placed>,
 }
 
 impl StudyFile {
-    /// Reads and parses `path`; every problem of the file at once (unknown keys, values of the
-    /// wrong type), each at its line and column.
+    /// Reads and parses `path`. A file that is not TOML is an error; unknown keys and values of the
+    /// wrong type are kept and reported by [`Sources::check`] with every other problem.
     pub fn read(path: &Path) -> Result<StudyFile> {
         let file = path.display().to_string();
-        let bytes = std::fs::read(path).map_err(|e| {
-            Error::input(format!("cannot read the study file '{file}': {e}"))
-        })?;
+        let bytes = std::fs::read(path)
+            .map_err(|e| Error::input(format!("cannot read the study file '{file}': {e}")))?;
         let text = String::from_utf8(bytes).map_err(|_| {
             Error::input(format!(
                 "the study file '{file}' is not UTF-8 text; save it as UTF-8 (TOML files are)"
@@ -48,15 +49,13 @@ impl StudyFile {
             };
             problems_error(&file, located(&file, &text, vec![placed]))
         })?;
-        let mut problems = Vec::new();
-        let table = SettingsTable::read(root.get_ref(), &[], "the study file", &mut problems);
-        if !problems.is_empty() {
-            return Err(problems_error(&file, located(&file, &text, problems)));
-        }
+        let mut unread = Vec::new();
+        let table = SettingsTable::read(root.get_ref(), &[], "", &mut unread);
         Ok(StudyFile {
             path: path.to_path_buf(),
             text,
             table,
+            unread,
         })
     }
 
@@ -93,26 +92,44 @@ impl Sources {
             Some(file) => self.flags.clone().over(&file.table.input),
             None => self.flags.clone(),
         };
-        input.check().map_err(|problems| self.explain(Error::Settings(problems)))
+        let unread = self.file.as_ref().map_or(&[][..], |f| &f.unread[..]);
+        match (input.check(), unread.is_empty()) {
+            (Ok(settings), true) => Ok(settings),
+            (Ok(_), false) => Err(self.explain_with(Vec::new())),
+            (Err(problems), _) => Err(self.explain_with(problems)),
+        }
     }
 
     /// A settings error with each problem at the flag or at the study file's key that gave the
     /// value; other errors unchanged.
     pub fn explain(&self, error: Error) -> Error {
-        let (Error::Settings(problems), Some(file)) = (&error, &self.file) else {
-            return error;
+        match error {
+            Error::Settings(problems) if self.file.is_some() => self.explain_with(problems),
+            other => other,
+        }
+    }
+
+    /// The problems of the file that did not read and `problems`, each at its flag or key.
+    fn explain_with(&self, problems: Vec<SettingProblem>) -> Error {
+        let Some(file) = &self.file else {
+            return Error::Settings(problems);
         };
-        let from_file = |p: &SettingProblem| {
-            !self.flags.has(p.key) && file.table.spans.contains_key(&p.key)
-        };
-        if !problems.iter().any(from_file) {
-            return error;
+        let from_file =
+            |p: &SettingProblem| !self.flags.has(p.key) && file.table.spans.contains_key(&p.key);
+        if file.unread.is_empty() && !problems.iter().any(from_file) {
+            return Error::Settings(problems);
         }
         let name = file.path.display().to_string();
-        let placed: Vec<Placed> = problems
+        let placed: Vec<Placed> = file
+            .unread
             .iter()
-            .filter(|p| from_file(p))
-            .map(|p| file.table.place(p, None, "the study file"))
+            .cloned()
+            .chain(
+                problems
+                    .iter()
+                    .filter(|p| from_file(p))
+                    .map(|p| file.table.place(p, None, "")),
+            )
             .collect();
         let mut lines = located(&name, &file.text, placed);
         lines.extend(

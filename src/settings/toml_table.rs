@@ -62,7 +62,7 @@ impl SettingsTable {
                 }
                 Err(e) => problems.push(Placed {
                     span: Some(value.span()),
-                    message: format!("{place}: {name}: {}", bounded(e.message())),
+                    message: in_place(place, &format!("{name}: {}", bounded(e.message()))),
                 }),
             }
         }
@@ -79,8 +79,18 @@ impl SettingsTable {
     ) -> Placed {
         Placed {
             span: self.spans.get(&problem.key).cloned().or(fallback),
-            message: format!("{place}: {}", problem.render(Naming::Keys)),
+            message: in_place(place, &problem.render(Naming::Keys)),
         }
+    }
+}
+
+/// `message` after the name of the table it is about, when there is one (a plan has several
+/// tables; a study file is one).
+fn in_place(place: &str, message: &str) -> String {
+    if place.is_empty() {
+        message.to_string()
+    } else {
+        format!("{place}: {message}")
     }
 }
 
@@ -95,8 +105,13 @@ fn unknown_key(name: &str, other_keys: &[&str], place: &str) -> String {
         Some(close) => format!("did you mean {}? ", quoted(close)),
         None => String::new(),
     };
+    let place = if place.is_empty() {
+        String::new()
+    } else {
+        format!(" in {place}")
+    };
     format!(
-        "unknown key {} in {place}; {hint}the keys there are: {}",
+        "unknown key {}{place}; {hint}the keys are: {}",
         quoted(name),
         known.join(", ")
     )
@@ -169,6 +184,6 @@ mod tests {
     #[test]
     fn columns_count_characters_not_bytes() {
         assert_eq!(line_and_column("a = 'é'\nb = 1", 9), (2, 1));
-        assert_eq!(line_and_column("é = 1", 3), (1, 2));
+        assert_eq!(line_and_column("é = 1", 2), (1, 2));
     }
 }

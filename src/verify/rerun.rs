@@ -212,7 +212,12 @@ fn prepare_rerun(
     let settings = study.replaying(&options).check().map_err(|problems| {
         problems
             .iter()
-            .map(|p| format!("the recorded settings break a rule: {}", p.render(Naming::Keys)))
+            .map(|p| {
+                format!(
+                    "the recorded settings break a rule: {}",
+                    p.render(Naming::Keys)
+                )
+            })
             .collect::<Vec<_>>()
     })?;
     let prepared = prepare_read(&request.data, data, &settings, &study.target, progress)
