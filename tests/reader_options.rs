@@ -476,13 +476,13 @@ fn dependence_takes_the_reader_options_too() {
     assert_success(&output);
     assert!(String::from_utf8_lossy(&output.stdout).contains("T_n(y, x1)"));
     let output = run([&args[..], &["--delimiter", ":"]].concat());
-    assert_input_error(&output, &s, &["semi.csv"], &["--delimiter ':'", "tab"]);
+    assert_input_error(&output, &s, &["semi.csv"], &["':' for '--delimiter", "tab"]);
     let output = run([&args[..], &["--delimiter", ";", "--missing", "sometimes"]].concat());
     assert_input_error(
         &output,
         &s,
         &["semi.csv"],
-        &["--missing 'sometimes'", "drop-rows"],
+        &["'sometimes' for '--missing", "drop-rows"],
     );
 }
 
