@@ -9,6 +9,7 @@ pub mod batch;
 pub mod cli;
 pub mod data;
 pub mod demo;
+pub mod dependence;
 pub mod digest;
 pub mod error;
 pub mod finding;
