@@ -217,3 +217,36 @@ fn statistic_and_test(
     });
     (ratio, test)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_json_lists_the_fields_in_alphabetical_order_as_it_always_has() {
+        let report = DependenceReport {
+            denominator: 4,
+            exceedances: Some(1),
+            given: vec!["x".into()],
+            numerator: 1,
+            on: vec!["z".into()],
+            p_value: Some(0.5),
+            permutations: Some(3),
+            response: "y".into(),
+            response_is_function_of_given: false,
+            rows_used: 10,
+            scaling: Scaling::Rank.name(),
+            scheme: Some(NullScheme::LocalPermutation),
+            seed: 1,
+            t_n: Some(0.25),
+        };
+        let text = serde_json::to_string(&report).unwrap();
+        // Through a `serde_json::Value` (whose maps are sorted) the text must not change.
+        let sorted = serde_json::to_string(&serde_json::to_value(&report).unwrap()).unwrap();
+        assert_eq!(text, sorted);
+        assert_eq!(
+            report.test(),
+            Some((0.5, 1, 3, NullScheme::LocalPermutation))
+        );
+    }
+}

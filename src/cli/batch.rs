@@ -43,7 +43,8 @@ pub struct BatchArgs {
     pub force: bool,
 }
 
-/// Runs `batch`.
+/// Runs `batch`: the closing line on stderr, the index path on stdout, and the result whose kind
+/// sets the exit code ([`crate::batch::outcome::result`]).
 pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
     let started = Instant::now();
     let plan = load_plan(&args)?;
