@@ -14,7 +14,7 @@ use crate::study::Study;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::ops::Range;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::time::Instant;
 
@@ -335,6 +335,35 @@ pub fn analyze_part(
         range: [range.start, range.end],
         records,
     })
+}
+
+/// Reads the partial results at `paths` (each a `partial.json` file or the folder that holds one),
+/// each with the file name it was read from, for [`merge_parts`].
+pub fn read_parts(paths: &[PathBuf]) -> Result<Vec<(String, Partial)>> {
+    let mut parts = Vec::new();
+    for path in paths {
+        let file = if path.is_dir() {
+            path.join("partial.json")
+        } else {
+            path.clone()
+        };
+        let text = std::fs::read_to_string(&file).map_err(|e| {
+            Error::input(format!(
+                "cannot read partial result '{}': {e}",
+                file.display()
+            ))
+        })?;
+        let part: Partial = serde_json::from_str(&text).map_err(|e| {
+            Error::input(format!(
+                "{}, line {}, column {}: not a forebear partial result ({e})",
+                file.display(),
+                e.line(),
+                e.column()
+            ))
+        })?;
+        parts.push((file.display().to_string(), part));
+    }
+    Ok(parts)
 }
 
 /// Combines partial results of one study into the finding a single run would have produced.

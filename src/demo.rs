@@ -1,6 +1,7 @@
 //! The built-in demo: an invented pilot line that fires ceramic filter discs. Seeded, so the
 //! committed `demo-data/filter_discs.csv` can be re-created byte for byte with `forebear demo
-//! --regenerate`. The true graph and mechanisms are in `demo-data/README.md`.
+//! --regenerate`, and [`write_demo_data`] places it for `forebear demo` without overwriting another
+//! file. The true graph and mechanisms are in `demo-data/README.md`.
 //!
 //! ```text
 //! binder_fraction ──▶ pore_density ──▶ crush_strength ◀── kiln_peak_temp
@@ -10,7 +11,10 @@
 //! ambient_humidity ──▶ slurry_moisture        conveyor_speed (unrelated)
 //! ```
 
+use crate::error::{Error, Result};
+use crate::output::{fs_error, rename_file_noreplace, sync_dir, write_synced};
 use crate::rng::{standard_normal, unit_interval, Key};
+use std::path::{Path, PathBuf};
 
 /// Rows in the demo data set.
 pub const DEMO_ROWS: usize = 1500;
@@ -80,6 +84,46 @@ pub fn generate_demo_csv_seeded(seed: u64) -> String {
         ));
     }
     out
+}
+
+/// Writes the demo CSV into `folder` (created if needed) unless it is already there, and returns
+/// its path. A different file of that name (the user's, or edited) is never overwritten, even with
+/// `--force`. The file is written beside its place and renamed without replacing, so it appears
+/// whole or not at all.
+pub fn write_demo_data(folder: &Path) -> Result<PathBuf> {
+    std::fs::create_dir_all(folder).map_err(|e| fs_error("create the folder", folder, &e))?;
+    let path = folder.join(DEMO_FILE);
+    place_demo_file(&path)?;
+    Ok(path)
+}
+
+/// Writes the demo CSV to `path` as [`write_demo_data`] describes.
+fn place_demo_file(path: &Path) -> Result<()> {
+    let same = |path: &Path| std::fs::read(path).is_ok_and(|bytes| bytes == DEMO_CSV.as_bytes());
+    let refuse = || {
+        Err(Error::input(format!(
+            "'{}' exists and is not the demo data; forebear does not overwrite it: move it away, \
+             or choose another --out",
+            path.display()
+        )))
+    };
+    if std::fs::symlink_metadata(path).is_ok() {
+        return if same(path) { Ok(()) } else { refuse() };
+    }
+    let staged = path.with_file_name(format!(".{DEMO_FILE}.partial-{}", std::process::id()));
+    write_synced(&staged, DEMO_CSV.as_bytes()).map_err(|e| fs_error("write", &staged, &e))?;
+    let placed = rename_file_noreplace(&staged, path);
+    let _ = std::fs::remove_file(&staged);
+    match placed {
+        Ok(()) => {
+            let folder = path.parent().unwrap_or(Path::new("."));
+            sync_dir(folder).map_err(|e| fs_error("write in", folder, &e))
+        }
+        // Another demo run placed it first.
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && same(path) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => refuse(),
+        Err(e) => Err(fs_error("write", path, &e)),
+    }
 }
 
 #[cfg(test)]

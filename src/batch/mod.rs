@@ -3,6 +3,8 @@
 //!
 //! - [`plan`] reads and validates the TOML plan (with the rules of `rules.rs`), and assigns pairs
 //!   to shards;
+//! - [`execute`] runs one whole batch into its output folder, and [`outcome`] turns the finished
+//!   summary into the closing line and the command's result;
 //! - [`run`] analyses pairs into dossiers and builds the [`Summary`];
 //! - [`drift`] compares a summary with a previous one;
 //! - [`index`] renders `index.md` and `index.html` from the summary;
@@ -14,7 +16,9 @@
 
 mod check;
 pub mod drift;
+pub mod execute;
 pub mod index;
+pub mod outcome;
 pub mod output;
 pub mod plan;
 mod rules;

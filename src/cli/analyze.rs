@@ -1,13 +1,13 @@
 //! `forebear analyze DATA --target COL [--config study.toml] ...`
 
-use crate::analysis::{analyze_file, Progress};
-use crate::error::{Error, Result};
+use crate::analysis::Progress;
+use crate::dossier::{write_dossier, write_part, DossierRequest};
+use crate::error::Result;
 use crate::measure::Scaling;
-use crate::output::{Claim, Kind};
 use crate::resample::PlanKind;
 use crate::search::StoppingRule;
 use crate::settings::{
-    Key, Settings, SettingsInput, Sources, StudyFile, StudyFileRecord, DEFAULT_ALPHA,
+    Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA,
     DEFAULT_PERMUTATIONS, DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA,
     DEFAULT_STABILITY_THRESHOLD,
 };
@@ -127,19 +127,7 @@ pub fn run(
     let sources = Sources::new(args.given(explicit), file);
     let settings = sources.check()?;
     let target = settings.single_target().map_err(|e| sources.explain(e))?;
-    if let Some(range) = args.replicate_range.clone() {
-        let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
-        let mut part =
-            crate::analysis::analyze_part(&args.data, &settings, &target, range, argv, progress)
-                .map_err(|e| sources.explain(e))?;
-        part.finding.run.study_file = sources.study_file();
-        let text = serde_json::to_string(&part)
-            .map_err(|e| Error::internal(format!("partial result: {e}")))?;
-        claim.write_files(&[("partial.json", text + "\n")])?;
-        super::out::line(&args.out.join("partial.json").display().to_string())?;
-        return Ok(());
-    }
-    let request = Request {
+    let request = DossierRequest {
         data: &args.data,
         settings: &settings,
         target: &target,
@@ -147,53 +135,21 @@ pub fn run(
         out: &args.out,
         force: args.force,
     };
-    analyze_into(&request, argv, progress).map_err(|e| sources.explain(e))
+    if let Some(range) = args.replicate_range.clone() {
+        let written =
+            write_part(&request, range, argv, progress).map_err(|e| sources.explain(e))?;
+        return super::out::line(&written.display().to_string());
+    }
+    let finding = write_dossier(&request, argv, progress).map_err(|e| sources.explain(e))?;
+    print_written(&finding, &args.out)
 }
 
-/// One analysis to write into one output folder.
-pub struct Request<'a> {
-    /// The data file.
-    pub data: &'a Path,
-    /// Checked settings.
-    pub settings: &'a Settings,
-    /// The target column.
-    pub target: &'a str,
-    /// The study file the settings came from, if any (recorded in the manifest).
-    pub study_file: Option<StudyFileRecord>,
-    /// The output folder.
-    pub out: &'a Path,
-    /// Replace a former dossier there.
-    pub force: bool,
-}
-
-/// Analyses one file into one output folder and reports where it went.
-pub fn analyze_into(
-    request: &Request<'_>,
-    argv: Vec<String>,
-    progress: &dyn Progress,
-) -> Result<()> {
-    let out = request.out;
-    // Refuse an unusable output folder before the work, not after it.
-    let claim = Claim::take(out, Kind::Dossier, request.force, progress)?;
-    let mut analysed = analyze_file(
-        request.data,
-        request.settings,
-        request.target,
-        argv,
-        progress,
-    )?;
-    analysed.finding.run.study_file = request.study_file.clone();
-    crate::report::write_dossier(&analysed, claim)?;
-    progress.say(&format!(
-        "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json)",
-        out.display()
-    ));
-    let finding = &analysed.finding;
+/// The line `analyze` and `demo` print for a written dossier: target, outcome, where.
+pub fn print_written(finding: &crate::finding::Finding, out: &Path) -> Result<()> {
     super::out::line(&format!(
         "{}: {} — {}",
         finding.target,
         finding.outcome.name(),
         out.join("dossier.md").display()
-    ))?;
-    Ok(())
+    ))
 }

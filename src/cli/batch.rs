@@ -2,14 +2,11 @@
 //! [--fail-on-drift]`: every study and target of a plan, an index, a summary, drift.
 
 use crate::analysis::Progress;
-use crate::batch::drift::compare;
-use crate::batch::output::{collect, read_summary, write_index};
+use crate::batch::execute::{check_drift_threshold, execute, BatchRequest};
+use crate::batch::outcome::{closing_line, index_path, result};
 use crate::batch::plan::{Plan, Problem, Shard};
-use crate::batch::run::{run_pairs, summary};
-use crate::batch::{Summary, DEFAULT_DRIFT_THRESHOLD};
+use crate::batch::DEFAULT_DRIFT_THRESHOLD;
 use crate::error::{Error, Result};
-use crate::finding::ToolInfo;
-use crate::output::{Claim, Kind, Staging};
 use clap::Args;
 use std::path::PathBuf;
 use std::time::Instant;
@@ -46,63 +43,30 @@ pub struct BatchArgs {
     pub force: bool,
 }
 
-/// Runs `batch`.
+/// Runs `batch`: the closing line on stderr, the index path on stdout, and the result whose kind
+/// sets the exit code ([`crate::batch::outcome::result`]).
 pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
     let started = Instant::now();
+    check_drift_threshold(args.drift_threshold)?;
     if args.check {
         return check(&args);
     }
     let plan = load_plan(&args)?;
-    if !(0.0..=1.0).contains(&args.drift_threshold) {
-        return Err(Error::input(format!(
-            "--drift-threshold {} is not a frequency difference: it must lie in [0, 1]",
-            args.drift_threshold
-        )));
-    }
-    let shard = args.shard;
-    let previous = match &args.previous {
-        Some(dir) => {
-            let (summary, sha) = read_summary(dir, "--previous")?;
-            if summary.shard.is_some() {
-                return Err(Error::input(format!(
-                    "--previous '{}' holds one shard only; compare with a whole or collected output",
-                    dir.display()
-                )));
-            }
-            Some((summary, sha))
-        }
-        None => None,
+    let request = BatchRequest {
+        plan,
+        plan_file: args.plan,
+        out: args.out,
+        previous: args.previous,
+        drift_threshold: args.drift_threshold,
+        fail_on_drift: args.fail_on_drift,
+        shard: args.shard,
+        collect: args.collect,
+        force: args.force,
     };
-    let claim = Claim::take(&args.out, Kind::Batch, args.force, progress)?;
-    let staging = Staging::new(claim)?;
-    let (tool, studies) = if args.collect.is_empty() {
-        let pairs = plan
-            .pairs()
-            .iter()
-            .filter(|p| shard.is_none_or(|s| s.holds(p.index)))
-            .count();
-        progress.say(&format!(
-            "batch {}: {pairs} study–target pairs{}, one after another with all cores each",
-            args.plan.display(),
-            shard.map_or(String::new(), |s| format!(
-                " (shard {}/{})",
-                s.index, s.count
-            ))
-        ));
-        let studies = run_pairs(&plan, shard, staging.path(), &argv, progress);
-        (ToolInfo::current(), studies)
-    } else {
-        progress.say(&format!("collecting {} shard outputs", args.collect.len()));
-        collect(&plan, &args.collect, staging.path())?
-    };
-    let draft = summary(&plan, shard, tool.clone(), studies, None);
-    let drift = previous
-        .as_ref()
-        .map(|(p, sha)| compare(p, sha, &draft, args.drift_threshold));
-    let result = summary(&plan, shard, tool, draft.studies, drift);
-    write_index(staging.path(), &result)?;
-    staging.finish()?;
-    report(&args, &result, started, progress)
+    let summary = execute(&request, &argv, progress)?;
+    progress.say(&closing_line(&request, &summary, started.elapsed()));
+    super::out::line(&index_path(&request).display().to_string())?;
+    result(&request, &summary)
 }
 
 /// `--check`: every problem of the plan and of its data files' headers, or "valid".
@@ -149,65 +113,4 @@ fn load_plan(args: &BatchArgs) -> Result<Plan> {
         );
     }
     Ok(plan)
-}
-
-/// The closing line on stderr, the index path on stdout, and the exit code: 3 when a pair failed
-/// on an internal error, else 2 when a pair failed, else 1 when there is drift and
-/// `--fail-on-drift` was given, else 0.
-fn report(
-    args: &BatchArgs,
-    summary: &Summary,
-    started: Instant,
-    progress: &dyn Progress,
-) -> Result<()> {
-    let totals = &summary.totals;
-    let drift = match &summary.drift {
-        None => "drift not checked".to_string(),
-        Some(d) if d.changes.is_empty() => "no drift".to_string(),
-        Some(d) => format!("drift: {} change(s)", d.changes.len()),
-    };
-    let drift = match summary
-        .drift
-        .as_ref()
-        .map_or(0, |d| d.unstable_outcomes.len())
-    {
-        0 => drift,
-        n => format!("{drift}, {n} outcome change(s) between unstable headlines (not drift)"),
-    };
-    let index = args.out.join("index.html");
-    progress.say(&format!(
-        "batch finished in {:.1} s: {} pairs, {} analysed, {} failed; {drift}; index: {}",
-        started.elapsed().as_secs_f64(),
-        totals.pairs,
-        totals.done,
-        totals.failed,
-        index.display()
-    ));
-    super::out::line(&index.display().to_string())?;
-    let internal = summary
-        .entries()
-        .any(|(_, _, e)| e.failure == Some(crate::batch::Failure::Internal));
-    if totals.failed > 0 {
-        let message = format!(
-            "{} of {} pairs failed (the others are complete); see {}",
-            totals.failed,
-            totals.pairs,
-            index.display()
-        );
-        return Err(if internal {
-            Error::internal(message)
-        } else {
-            Error::input(message)
-        });
-    }
-    if args.fail_on_drift && totals.changes > 0 {
-        return Err(Error::Mismatch(format!(
-            "{drift} since '{}'; see {}",
-            args.previous
-                .as_ref()
-                .map_or(String::new(), |p| p.display().to_string()),
-            index.display()
-        )));
-    }
-    Ok(())
 }

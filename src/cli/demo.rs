@@ -1,12 +1,11 @@
 //! `forebear demo [--out DIR]`: writes the invented demo data and analyses its two targets.
 
 use crate::analysis::Progress;
-use crate::demo::{generate_demo_csv, DEMO_CSV, DEMO_FILE, DEMO_TARGETS};
+use crate::demo::{generate_demo_csv, write_demo_data, DEMO_TARGETS};
 use crate::error::{Error, Result};
-use crate::output::{fs_error, rename_file_noreplace, sync_dir, write_synced};
 use crate::settings::SettingsInput;
 use clap::Args;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 /// Arguments of `demo`.
 #[derive(Debug, Args)]
@@ -35,10 +34,7 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         }
         return Ok(());
     }
-    let data_dir = args.out.join("demo-data");
-    std::fs::create_dir_all(&data_dir).map_err(|e| fs_error("create the folder", &data_dir, &e))?;
-    let data = data_dir.join(DEMO_FILE);
-    write_demo_data(&data)?;
+    let data = write_demo_data(&args.out.join("demo-data"))?;
     progress.say(&format!(
         "demo data: {} (an invented filter-disc firing line)",
         data.display()
@@ -57,7 +53,7 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             args.out.join(target).display().to_string(),
         ];
         let out = args.out.join(target);
-        let request = super::analyze::Request {
+        let request = crate::dossier::DossierRequest {
             data: &data,
             settings: &settings,
             target,
@@ -65,7 +61,8 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             out: &out,
             force: args.force,
         };
-        super::analyze::analyze_into(&request, argv, progress)?;
+        let finding = crate::dossier::write_dossier(&request, argv, progress)?;
+        super::analyze::print_written(&finding, &out)?;
     }
     super::out::line(&format!(
         "demo output is in {}/ (one folder per target; open dossier.html)",
@@ -77,35 +74,4 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
         data.display()
     ))?;
     Ok(())
-}
-
-/// Writes the demo CSV to `path` unless it is already there. A different file of that name (the
-/// user's, or edited) is never overwritten, even with `--force`. The file is written beside its
-/// place and renamed without replacing, so it appears whole or not at all.
-fn write_demo_data(path: &Path) -> Result<()> {
-    let same = |path: &Path| std::fs::read(path).is_ok_and(|bytes| bytes == DEMO_CSV.as_bytes());
-    let refuse = || {
-        Err(Error::input(format!(
-            "'{}' exists and is not the demo data; forebear does not overwrite it: move it away, \
-             or choose another --out",
-            path.display()
-        )))
-    };
-    if std::fs::symlink_metadata(path).is_ok() {
-        return if same(path) { Ok(()) } else { refuse() };
-    }
-    let staged = path.with_file_name(format!(".{DEMO_FILE}.partial-{}", std::process::id()));
-    write_synced(&staged, DEMO_CSV.as_bytes()).map_err(|e| fs_error("write", &staged, &e))?;
-    let placed = rename_file_noreplace(&staged, path);
-    let _ = std::fs::remove_file(&staged);
-    match placed {
-        Ok(()) => {
-            let folder = path.parent().unwrap_or(Path::new("."));
-            sync_dir(folder).map_err(|e| fs_error("write in", folder, &e))
-        }
-        // Another demo run placed it first.
-        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && same(path) => Ok(()),
-        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => refuse(),
-        Err(e) => Err(fs_error("write", path, &e)),
-    }
 }

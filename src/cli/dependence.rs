@@ -1,15 +1,12 @@
 //! `forebear dependence DATA --response COL --on COLS [--given COLS]`: prints T_n and the p-value
-//! of the permutation test the calibrated selection uses (`measure::permutation`): the response
-//! permuted over all rows without `--given`, locally within blocks of nearby rows of the `--given`
-//! columns otherwise; every draw is made, so p = (G + 1)/(N + 1) with G of N draws at or above T_n.
+//! of its permutation test, as measured by [`crate::dependence`].
 
-use crate::data::checks::rounding_note;
-use crate::data::DataReader;
-use crate::error::{Error, Result};
-use crate::measure::permutation::{max_statistic_test, NullScheme, Observed, TestPlan};
-use crate::measure::TargetRanks;
-use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA, MAX_PERMUTATIONS};
-use crate::search::SearchData;
+use crate::dependence::{
+    check_permutations, measure_dependence, DependenceReport, DependenceRequest,
+};
+use crate::error::Result;
+use crate::measure::permutation::NullScheme;
+use crate::search::rule::DEFAULT_PERMUTATIONS;
 use clap::Args;
 use std::path::PathBuf;
 
@@ -46,156 +43,71 @@ pub struct DependenceArgs {
 
 /// Runs `dependence`.
 pub fn run(args: DependenceArgs) -> Result<()> {
-    let scaling = args.scaling;
-    if !(1..=MAX_PERMUTATIONS).contains(&args.permutations) {
-        return Err(Error::input(format!(
-            "--permutations {} is not a number of draws: give one from 1 to {MAX_PERMUTATIONS}",
-            args.permutations
-        )));
-    }
-    let options = args.reader.load_options()?;
-    // The file is opened once; the columns are checked against its header before the rows are read.
-    let reader = DataReader::open(&args.data, &options)?;
-    let header = reader.header();
-    let response = header.require_column(&args.response, "response")?;
-    let on = super::split_names(&args.on);
-    let given = super::split_names(&args.given);
-    if on.is_empty() {
-        return Err(Error::input(
-            "--on names no column; give at least one, as in --on x1,x2",
-        ));
-    }
-    let mut used = vec![response];
-    for (names, role) in [(&on, "--on"), (&given, "--given")] {
-        for name in names {
-            let j = header.require_column(name, role)?;
-            if used.contains(&j) {
-                return Err(Error::input(format!(
-                    "column '{name}' is named twice among --response, --on and --given; each column may \
-                     appear once"
-                )));
-            }
-            used.push(j);
-        }
-    }
-    let (raw, facts) = reader.read_rows()?;
-    let (table, report) = raw.prepare(&used, response, Vec::new(), facts, &options)?;
-    if let Some((c, original)) = report.duplicate_columns.iter().next() {
-        return Err(Error::input(format!(
-            "{}, column '{c}': the column repeats '{original}' exactly on the rows used; name only \
-             one of them",
-            report.file
-        )));
-    }
-    if let Some(c) = report.constant_columns.first() {
-        let rounding = report
-            .constant_by_rounding
-            .get(c)
-            .map_or(String::new(), |texts| {
-                format!(" ({})", rounding_note(texts))
-            });
-        return Err(Error::input(format!(
-            "{}, column '{c}': the column is constant on the rows used{rounding}, so it carries no \
-             information; leave it out",
-            report.file
-        )));
-    }
-    let data = SearchData::new(&table, scaling, args.seed, 0);
-    let idx = |name: &String| {
-        table
-            .index_of(name)
-            .expect("prepared table keeps every used column")
+    // Checked before the reader flags, as it always was, so that it is the error reported when
+    // both are wrong.
+    check_permutations(args.permutations)?;
+    let request = DependenceRequest {
+        options: args.reader.load_options()?,
+        data: args.data,
+        response: args.response,
+        on: super::split_names(&args.on),
+        given: super::split_names(&args.given),
+        seed: args.seed,
+        permutations: args.permutations,
+        scaling: args.scaling,
     };
-    let y = idx(&args.response);
-    let z: Vec<usize> = on.iter().map(idx).collect();
-    let x: Vec<usize> = given.iter().map(idx).collect();
-    let xz: Vec<usize> = x.iter().chain(&z).copied().collect();
-    // The neighbours and keys of `conditional_dependence`, kept for the permutation test.
-    let ranks = TargetRanks::new(data.raw(y));
-    let conditioning = (!x.is_empty()).then(|| data.neighbours(y, &x));
-    let joint = data.neighbours(y, &xz);
-    let ratio = crate::measure::Ratio {
-        numerator: ranks.numerator(conditioning.as_deref(), &joint),
-        denominator: ranks.denominator(conditioning.as_deref()),
-    };
-    // One "candidate", the joint space of --given and --on; every draw is made (exhaustive), so
-    // the level only sets the critical value, which is not printed.
-    let test = (ratio.denominator != 0).then(|| {
-        let observed = Observed {
-            ranks: &ranks,
-            conditioning: conditioning.as_deref(),
-            joints: vec![&joint],
-            numerator: ratio.numerator,
-            denominator: ratio.denominator,
-        };
-        let blocks = (!x.is_empty()).then(|| data.permutation_blocks(&x));
-        let plan = TestPlan {
-            max_permutations: args.permutations,
-            alpha: DEFAULT_SELECTION_ALPHA,
-            exhaustive: true,
-        };
-        max_statistic_test(
-            &observed,
-            blocks.as_ref(),
-            &data.permutation_key("dependence", y, &x, None),
-            &plan,
-        )
-    });
+    let report = measure_dependence(&request)?;
     if args.json {
-        let value = serde_json::json!({
-            "response": args.response, "on": on, "given": given, "rows_used": report.rows_used,
-            "t_n": ratio.value(), "numerator": ratio.numerator, "denominator": ratio.denominator,
-            "response_is_function_of_given": ratio.denominator == 0,
-            "p_value": test.as_ref().map(|t| t.p_value),
-            "permutations": test.as_ref().map(|t| t.permutations),
-            "exceedances": test.as_ref().map(|t| t.exceedances),
-            "scheme": test.as_ref().map(|t| t.scheme),
-            "seed": args.seed, "scaling": scaling.name(),
-        });
-        super::out::json(&serde_json::to_string_pretty(&value).expect("plain JSON"))?;
+        super::out::json(&serde_json::to_string_pretty(&report).expect("plain JSON"))
     } else {
-        let given_text = if given.is_empty() {
-            String::new()
-        } else {
-            format!(" | {}", given.join(", "))
-        };
-        match ratio.value() {
-            Some(t) => {
-                super::out::line(&format!(
-                    "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
-                    args.response,
-                    on.join(", "),
-                    ratio.numerator,
-                    ratio.denominator,
-                    report.rows_used
-                ))?;
-                if let Some(test) = &test {
-                    let how = match test.scheme {
-                        NullScheme::Permutation => "over all rows".to_string(),
-                        NullScheme::LocalPermutation => {
-                            format!("within blocks of nearby rows of {}", given.join(", "))
-                        }
-                    };
-                    super::out::line(&format!(
-                        "p = {}   (permutation test: {} permuted {how}; {} of {} permutations at or \
-                         above T_n; seed {})",
-                        crate::report::markdown::p_value(test.p_value),
-                        args.response,
-                        test.exceedances,
-                        test.permutations,
-                        args.seed
-                    ))?;
-                }
+        print_text(&report)
+    }
+}
+
+/// The report as lines of text: T_n with its parts, then the p-value and how it was drawn.
+fn print_text(report: &DependenceReport) -> Result<()> {
+    let given_text = if report.given.is_empty() {
+        String::new()
+    } else {
+        format!(" | {}", report.given.join(", "))
+    };
+    let Some(t) = report.t_n else {
+        return super::out::line(&format!(
+            "T_n({}, {}{given_text}) is undefined: '{}' is a function of the conditioning set on \
+             these data (denominator 0, n = {})",
+            report.response,
+            report.on.join(", "),
+            report.response,
+            report.rows_used
+        ));
+    };
+    super::out::line(&format!(
+        "T_n({}, {}{given_text}) = {t:.6}   ({} / {}, n = {})",
+        report.response,
+        report.on.join(", "),
+        report.numerator,
+        report.denominator,
+        report.rows_used
+    ))?;
+    if let Some((p_value, exceedances, permutations, scheme)) = report.test() {
+        let how = match scheme {
+            NullScheme::Permutation => "over all rows".to_string(),
+            NullScheme::LocalPermutation => {
+                format!(
+                    "within blocks of nearby rows of {}",
+                    report.given.join(", ")
+                )
             }
-            None => super::out::line(&format!(
-                "T_n({}, {}{given_text}) is undefined: '{}' is a function of the conditioning set on \
-                 these data (denominator 0, n = {})",
-                args.response,
-                on.join(", "),
-                args.response,
-                report.rows_used
-            ))?,
-        }
+        };
+        super::out::line(&format!(
+            "p = {}   (permutation test: {} permuted {how}; {} of {} permutations at or above \
+             T_n; seed {})",
+            crate::report::markdown::p_value(p_value),
+            report.response,
+            exceedances,
+            permutations,
+            report.seed
+        ))?;
     }
     Ok(())
 }

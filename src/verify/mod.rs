@@ -14,7 +14,7 @@ pub use report::{render_text, Check, Report, SpotCheck, Status, REPORT_SCHEMA};
 pub use rerun::sample_replicates;
 
 use crate::analysis::Progress;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use checks::{check_data, check_seal, check_settings, check_tool, read_manifest, read_received};
 use files::check_files;
 use report::check;
@@ -40,6 +40,12 @@ pub struct Request {
 /// Runs every check. Errors are bad usage or unreadable input (exit code 2); a mismatch is a
 /// report whose verdict is `MISMATCH`.
 pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
+    if request.replicates_sample == Some(0) {
+        return Err(Error::input(
+            "--replicates-sample 0 re-runs no replicate; give at least 1, or leave the flag out to \
+             re-run them all",
+        ));
+    }
     let manifest = read_manifest(&request.dir)?;
     // The data file is read once (it may be a pipe): both fingerprints and the re-run come from
     // the same bytes.

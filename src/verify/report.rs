@@ -1,5 +1,6 @@
 //! The verification report: one check per step, the verdict, and its text for a reviewer.
 
+use crate::error::{Error, Result};
 use serde::Serialize;
 
 /// Version of the verification report layout (`verify --json`).
@@ -69,6 +70,23 @@ impl Report {
     /// Whether every check passed.
     pub fn verified(&self) -> bool {
         self.verdict == "VERIFIED"
+    }
+
+    /// `Ok` when every check passed, else a mismatch (exit code 1) naming the failed checks.
+    pub fn result(&self) -> Result<()> {
+        if self.verified() {
+            return Ok(());
+        }
+        let failed: Vec<&str> = self
+            .checks
+            .iter()
+            .filter(|c| c.status == Status::Fail)
+            .map(|c| c.name.as_str())
+            .collect();
+        Err(Error::Mismatch(format!(
+            "verification found differences ({})",
+            failed.join(", ")
+        )))
     }
 }
 
