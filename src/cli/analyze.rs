@@ -7,9 +7,8 @@ use crate::measure::Scaling;
 use crate::resample::PlanKind;
 use crate::search::StoppingRule;
 use crate::settings::{
-    Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA,
-    DEFAULT_PERMUTATIONS, DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA,
-    DEFAULT_STABILITY_THRESHOLD,
+    Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA, DEFAULT_PERMUTATIONS,
+    DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA, DEFAULT_STABILITY_THRESHOLD,
 };
 use clap::Args;
 use std::path::{Path, PathBuf};
