@@ -3,48 +3,57 @@
 //! Language, 2.2 Quoting).
 
 use crate::finding::Finding;
+use crate::settings::key::Key;
 
 /// The shell command that re-runs this analysis (into a new folder).
 pub fn reproduce_command(finding: &Finding) -> String {
     let s = &finding.settings;
+    let flag = |key: Key, value: String| format!("{} {value}", key.flag());
     let mut parts = vec![
         "forebear analyze".to_string(),
         shell_quote(&finding.run.data_path),
-        format!("--target {}", shell_quote(&s.target)),
-        format!("--seed {}", s.seed),
-        format!("--scaling {}", s.scaling.name()),
-        format!("--alpha {}", s.alpha),
-        format!("--replicates {}", s.resampling.count),
-        format!("--resample {}", s.resampling.kind.name()),
-        format!("--stability-threshold {}", s.stability_threshold),
-        format!("--stopping-rule {}", s.selection.stopping_rule.name()),
-        format!("--selection-alpha {}", s.selection.alpha),
-        format!("--permutations {}", s.selection.permutations),
+        flag(Key::Targets, shell_quote(&s.target)),
+        flag(Key::Seed, s.seed.to_string()),
+        flag(Key::Scaling, s.scaling.name().to_string()),
+        flag(Key::Alpha, s.alpha.to_string()),
+        flag(Key::Replicates, s.resampling.count.to_string()),
+        flag(Key::Resample, s.resampling.kind.name().to_string()),
+        flag(Key::StabilityThreshold, s.stability_threshold.to_string()),
+        flag(
+            Key::StoppingRule,
+            s.selection.stopping_rule.name().to_string(),
+        ),
+        flag(Key::SelectionAlpha, s.selection.alpha.to_string()),
+        flag(Key::Permutations, s.selection.permutations.to_string()),
     ];
     if s.resampling.kind == crate::resample::PlanKind::Subsample {
-        parts.push(format!("--fraction {}", s.resampling.fraction));
+        parts.push(flag(Key::Fraction, s.resampling.fraction.to_string()));
     }
     if !s.excluded.is_empty() {
-        parts.push(format!("--exclude {}", shell_quote(&s.excluded.join(","))));
+        parts.push(flag(Key::Exclude, shell_quote(&s.excluded.join(","))));
     }
     if let Some(named) = &s.candidates_named {
-        parts.push(format!("--candidates {}", shell_quote(&named.join(","))));
+        parts.push(flag(Key::Candidates, shell_quote(&named.join(","))));
     }
     let data = &finding.data;
     if data.delimiter != crate::data::Delimiter::Comma {
-        parts.push(format!("--delimiter {}", data.delimiter.flag_value()));
+        parts.push(flag(
+            Key::Delimiter,
+            data.delimiter.flag_value().to_string(),
+        ));
     }
     if data.decimal_comma {
-        parts.push("--decimal-comma".to_string());
+        parts.push(Key::DecimalComma.flag());
     }
     if data.missing_policy != crate::data::MissingPolicy::DropRows {
-        parts.push(format!("--missing {}", data.missing_policy.name()));
+        parts.push(flag(Key::Missing, data.missing_policy.name().to_string()));
     }
     let tokens = &finding.data.missing_tokens;
     if *tokens != crate::data::LoadOptions::default().missing_tokens {
         // `=` keeps a list that starts with an empty entry (",NA") attached to its flag.
         parts.push(format!(
-            "--missing-tokens={}",
+            "{}={}",
+            Key::MissingTokens.flag(),
             shell_quote(&tokens.join(","))
         ));
     }
