@@ -153,16 +153,26 @@ pub fn template_syntax(env: &mut Environment<'_>) {
             .build()
             .expect("static syntax settings"),
     );
+    // A name the result does not hold (a field renamed or removed) is an error, never a blank: a
+    // stale template must not print a dash where a value belongs. `if` may still test a field
+    // that is optional.
+    env.set_undefined_behavior(minijinja::UndefinedBehavior::SemiStrict);
 }
 
 /// The template settings every Markdown output shares: [`template_syntax`], and every printed
-/// value Markdown-escaped unless marked safe (none and undefined print as a dash).
+/// value Markdown-escaped unless marked safe (none prints as a dash, undefined is an error).
 pub fn markdown_environment(env: &mut Environment<'_>) {
     template_syntax(env);
     env.set_formatter(|out, _state, value| {
+        if value.is_undefined() {
+            return Err(minijinja::Error::new(
+                minijinja::ErrorKind::UndefinedError,
+                "the template prints a value the result does not hold",
+            ));
+        }
         let text = if value.is_safe() {
             value.to_string()
-        } else if value.is_none() || value.is_undefined() {
+        } else if value.is_none() {
             "—".to_string()
         } else {
             escape_markdown(&value.to_string())
@@ -257,6 +267,24 @@ fn fence_for(text: &str) -> String {
 
 #[cfg(test)]
 mod tests {
+
+    #[test]
+    fn a_template_that_prints_a_field_the_result_lacks_fails_instead_of_printing_a_dash() {
+        let mut env = Environment::new();
+        markdown_environment(&mut env);
+        env.add_template("t", "{{ r.seed }}|{{ r.gone }}").unwrap();
+        let context = minijinja::context! { r => minijinja::context! { seed => 1 } };
+        let error = env.get_template("t").unwrap().render(&context).unwrap_err();
+        assert_eq!(error.kind(), minijinja::ErrorKind::UndefinedError);
+        env.add_template("u", "{% if r.gone %}x{% endif %}{{ r.none }}")
+            .unwrap();
+        let context = minijinja::context! { r => minijinja::context! { none => () } };
+        assert_eq!(
+            env.get_template("u").unwrap().render(&context).unwrap(),
+            "—"
+        );
+    }
+
     use super::*;
 
     #[test]
