@@ -8,9 +8,8 @@
 //! files it stages, and the hold hook (`common::Hold`) stops it at a named point until the test
 //! lets it go.
 
-mod common;
-
-use common::{assert_input_error, beside, send_signal, spawn_in, stderr_of, Hold, Scratch};
+use crate::common;
+use crate::common::{assert_input_error, beside, send_signal, spawn_in, stderr_of, Hold, Scratch};
 use std::path::{Path, PathBuf};
 use std::process::{Child, Command, Output, Stdio};
 use std::time::{Duration, Instant};
@@ -35,7 +34,7 @@ fn analyze(scratch: &Scratch, data: &Path, out: &Path, extra: &[&str]) -> Output
 }
 
 fn start_slow_writer(data: &Path, out: &Path) -> Child {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
+    common::bin()
         .arg("--quiet")
         .args(analyze_args(data, out, &[]))
         .env("FOREBEAR_WRITE_PAUSE_MS", "400")

@@ -2,9 +2,7 @@
 //! exit with the expected code (2), print one error line holding every expected fragment, print no
 //! panic, and create no output folder.
 
-mod common;
-
-use common::*;
+use crate::common::*;
 use std::path::{Path, PathBuf};
 
 /// One corpus case: the data file's name and what its `.expect` file says.

@@ -2,13 +2,14 @@
 //! generator with different seeds, the index and its links, drift against a previous run, a
 //! failing study, shards collected, and plans rejected before anything runs.
 
-mod common;
-
-use common::{assert_refused, beside, spawn_in, Hold};
+use crate::common;
+use crate::common::{
+    assert_refused, beside, exit_code, fresh_dir, lossy_stderr as stderr, spawn_in, Hold,
+};
 use forebear::demo::generate_demo_csv_seeded;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Output};
+use std::process::{Child, Output};
 
 const PLAN: &str = r#"# three lines of the invented filter-disc scenario
 [defaults]
@@ -49,9 +50,7 @@ struct Scratch(PathBuf);
 impl Scratch {
     /// A folder with the three data files (demo seeds 101, 102, 103) and the plan.
     fn with_plan(test: &str) -> Scratch {
-        let dir =
-            std::env::temp_dir().join(format!("forebear-batch-{test}-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
+        let dir = fresh_dir(&format!("batch-{test}"));
         std::fs::create_dir_all(dir.join("data")).unwrap();
         for (name, seed) in [("line_a", 101), ("line_b", 102), ("line_c", 103)] {
             std::fs::write(
@@ -83,7 +82,7 @@ impl Scratch {
     }
     /// Runs `forebear --quiet batch plan.toml ARGS` in the scratch folder.
     fn batch(&self, args: &[&str]) -> Output {
-        Command::new(env!("CARGO_BIN_EXE_forebear"))
+        common::bin()
             .current_dir(&self.0)
             .args(["--quiet", "batch", "plan.toml"])
             .args(args)
@@ -96,14 +95,6 @@ impl Drop for Scratch {
     fn drop(&mut self) {
         let _ = std::fs::remove_dir_all(&self.0);
     }
-}
-
-fn stderr(output: &Output) -> String {
-    String::from_utf8_lossy(&output.stderr).into_owned()
-}
-
-fn exit_code(output: &Output) -> i32 {
-    output.status.code().expect("not killed by a signal")
 }
 
 fn summary(dir: &Path) -> Value {
@@ -178,7 +169,7 @@ fn a_batch_dossier_verifies_against_its_data() {
     let s = Scratch::with_plan("verify");
     let run = s.batch(&["--out", "out"]);
     assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
-    let verify = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let verify = common::bin()
         .args(["--quiet", "verify"])
         .arg(s.path("out/line-c/crush_strength"))
         .arg("--data")
@@ -500,7 +491,7 @@ fn a_folder_given_as_a_plans_data_file_is_called_a_folder() {
     std::fs::remove_file(s.path("data/line_a.csv")).unwrap();
     std::fs::create_dir(s.path("data/line_a.csv")).unwrap();
     let batch = |args: &[&str]| {
-        Command::new(env!("CARGO_BIN_EXE_forebear"))
+        common::bin()
             .current_dir(&s.0)
             .args(["batch", "small.toml"])
             .args(args)
@@ -694,7 +685,7 @@ fn reader_and_candidate_keys_of_a_plan_reach_the_analysis_and_bad_ones_are_rejec
         result["settings"]["candidates"],
         serde_json::json!(["kiln_peak_temp", "binder_fraction", "pore_density"])
     );
-    let verify = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let verify = common::bin()
         .args(["--quiet", "verify"])
         .arg(s.path("out/line-c/crush_strength"))
         .arg("--data")

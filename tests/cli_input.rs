@@ -4,25 +4,18 @@
 //!
 //! The CSV texts here are tiny invented tables, written for error handling only.
 
-mod common;
-
-use common::{
-    analyze, assert_input_error, assert_success, result_json, run, sha256_hex, stderr_of, table,
-    Scratch,
+use crate::common;
+use crate::common::{
+    analyze, assert_input_error, assert_success, delimited, result_json, run, sha256_hex,
+    stderr_of, table, Scratch,
 };
 use std::ffi::OsStr;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 
+/// `rows` as a comma-separated file with its header, four decimals a value.
 fn csv_text(rows: &[[f64; 4]]) -> String {
-    let mut text = String::from("x1,x2,y,z\n");
-    for r in rows {
-        text.push_str(&format!(
-            "{:.4},{:.4},{:.4},{:.4}\n",
-            r[0], r[1], r[2], r[3]
-        ));
-    }
-    text
+    delimited(rows, ",", ".")
 }
 
 /// A valid 60-row file as lines (header first), for tests that spoil one line.
@@ -926,7 +919,7 @@ fn closed_stdout_is_not_an_internal_error() {
     use std::io::Read;
     use std::process::Stdio;
     // The demo CSV (about 80 kB) is larger than a pipe's buffer, so the write meets a closed pipe.
-    let mut child = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let mut child = common::bin()
         .args(["demo", "--regenerate"])
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
@@ -951,7 +944,7 @@ fn full_stdout_is_an_input_error_naming_standard_output() {
         vec!["demo", "--regenerate"],
         vec!["fingerprint", "tests/data/asia_discrete_n5000_seed1.csv"],
     ] {
-        let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+        let output = common::bin()
             .args(&args)
             .stdout(Stdio::from(full.try_clone().unwrap()))
             .stderr(Stdio::piped())

@@ -2,9 +2,8 @@
 //! (issue 11) beside T_n: every draw is made, so a dependence no draw reaches has p = 1/(N + 1); the
 //! draws are keyed by the seed, so the same seed gives the same p-value.
 
-mod common;
-
-use common::{assert_success, run, Scratch};
+use crate::common;
+use crate::common::{assert_success, run, Scratch};
 use std::path::Path;
 
 /// An invented table of `rows` rows: x and w independent uniforms, m = x + noise, y = m² + noise

@@ -1,25 +1,11 @@
 //! Same data + same settings + same seed → the same digest, on any thread count (DESIGN.md,
 //! "Determinism"). Runs the real binary.
 
+use crate::common::{bin, fresh_dir, result_json as result, write_demo_csv as demo_csv};
 use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
-}
 
 fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!(
-        "forebear-determinism-{}-{name}",
-        std::process::id()
-    ));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-fn result(dir: &Path) -> serde_json::Value {
-    serde_json::from_str(&std::fs::read_to_string(dir.join("result.json")).unwrap()).unwrap()
+    fresh_dir(&format!("determinism-{name}"))
 }
 
 fn analyze(data: &Path, target: &str, out: &Path, extra: &[&str]) -> serde_json::Value {
@@ -35,12 +21,6 @@ fn analyze(data: &Path, target: &str, out: &Path, extra: &[&str]) -> serde_json:
         .unwrap();
     assert!(status.success());
     result(out)
-}
-
-fn demo_csv(dir: &Path) -> PathBuf {
-    let path = dir.join("filter_discs.csv");
-    std::fs::write(&path, forebear::demo::DEMO_CSV).unwrap();
-    path
 }
 
 /// The demo data rounded to a few levels per column: discrete data with heavy ties and duplicates.

@@ -2,6 +2,7 @@
 //! hostile column and file names, all fourteen sections for every outcome kind with and without
 //! stability, and the CSV tables.
 
+use crate::common::{bin, lossy_stderr, write_demo_csv, Scratch};
 use forebear::finding::Finding;
 use forebear::report::html::html_document;
 use forebear::report::markdown::render_markdown;
@@ -26,29 +27,8 @@ const SECTIONS: [&str; 14] = [
     "14. Sign-off",
 ];
 
-struct Scratch(PathBuf);
-
-impl Scratch {
-    fn new(test: &str) -> Scratch {
-        let dir =
-            std::env::temp_dir().join(format!("forebear-dossier-{test}-{}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        std::fs::create_dir_all(&dir).unwrap();
-        Scratch(dir)
-    }
-    fn path(&self, name: &str) -> PathBuf {
-        self.0.join(name)
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.0);
-    }
-}
-
 fn analyze(data: &Path, target: &str, out: &Path, extra: &[&str]) {
-    let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let output = bin()
         .arg("--quiet")
         .arg("analyze")
         .arg(data)
@@ -57,11 +37,7 @@ fn analyze(data: &Path, target: &str, out: &Path, extra: &[&str]) {
         .args(extra)
         .output()
         .unwrap();
-    assert!(
-        output.status.success(),
-        "{}",
-        String::from_utf8_lossy(&output.stderr)
-    );
+    assert!(output.status.success(), "{}", lossy_stderr(&output));
 }
 
 fn read(dir: &Path, name: &str) -> String {
@@ -73,9 +49,7 @@ fn finding(dir: &Path) -> Finding {
 }
 
 fn demo_csv(s: &Scratch) -> PathBuf {
-    let path = s.path("filter_discs.csv");
-    std::fs::write(&path, forebear::demo::DEMO_CSV).unwrap();
-    path
+    write_demo_csv(&s.dir)
 }
 
 /// Checks that `html` is well-formed XML-compatible markup: every tag closed in order.
@@ -229,7 +203,7 @@ fn assert_matches_snapshot(dir: &Path, data: &Path, target: &str) {
 
 #[test]
 fn demo_markdown_and_html_are_byte_identical_run_to_run() {
-    let s = Scratch::new("golden");
+    let s = Scratch::new("dossier-golden");
     let data = demo_csv(&s);
     for target in forebear::demo::DEMO_TARGETS {
         // The dossier prints the analysis date (UTC day) and nothing else about the run; should the
@@ -258,7 +232,7 @@ fn demo_markdown_and_html_are_byte_identical_run_to_run() {
 
 #[test]
 fn demo_html_is_well_formed_self_contained_and_has_figures() {
-    let s = Scratch::new("html");
+    let s = Scratch::new("dossier-html");
     let data = demo_csv(&s);
     for target in forebear::demo::DEMO_TARGETS {
         let out = s.path(target);
@@ -293,7 +267,7 @@ fn hostile_data(s: &Scratch) -> PathBuf {
 
 #[test]
 fn hostile_column_and_file_names_produce_no_markup_and_break_no_table() {
-    let s = Scratch::new("hostile");
+    let s = Scratch::new("dossier-hostile");
     let data = hostile_data(&s);
     let out = s.path("out");
     analyze(&data, "y", &out, &["--replicates", "10"]);
@@ -350,7 +324,7 @@ fn check_rendered(finding: &Finding, what: &str) -> (String, String) {
 
 #[test]
 fn every_outcome_kind_has_all_sections_with_and_without_stability() {
-    let s = Scratch::new("outcomes");
+    let s = Scratch::new("dossier-outcomes");
     let data = demo_csv(&s);
     let identified = s.path("identified");
     let unidentified = s.path("unidentified");
@@ -424,7 +398,7 @@ fn every_outcome_kind_has_all_sections_with_and_without_stability() {
 
 #[test]
 fn numbers_have_the_stated_precision_in_the_dossier() {
-    let s = Scratch::new("numbers");
+    let s = Scratch::new("dossier-numbers");
     let data = demo_csv(&s);
     let out = s.path("out");
     analyze(&data, "pore_density", &out, &["--replicates", "0"]);
@@ -440,12 +414,12 @@ fn numbers_have_the_stated_precision_in_the_dossier() {
 
 #[test]
 fn force_replaces_a_previous_dossier_but_never_foreign_files() {
-    let s = Scratch::new("force");
+    let s = Scratch::new("dossier-force");
     let data = demo_csv(&s);
     let out = s.path("out");
     analyze(&data, "pore_density", &out, &["--replicates", "0"]);
     std::fs::write(out.join("notes.txt"), "mine").unwrap();
-    let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let output = bin()
         .args(["--quiet", "analyze"])
         .arg(&data)
         .args([
@@ -475,7 +449,7 @@ use std::sync::OnceLock;
 /// this file that changes one part of the finding.
 fn shared_finding(cell: &'static OnceLock<Finding>, target: &str, extra: &[&str]) -> Finding {
     cell.get_or_init(|| {
-        let s = Scratch::new(&format!("shared-{target}"));
+        let s = Scratch::new(&format!("dossier-shared-{target}"));
         let data = demo_csv(&s);
         let out = s.path("out");
         analyze(&data, target, &out, extra);
@@ -554,7 +528,7 @@ fn a_headline_that_the_resamples_contradict_gives_both_results_with_frequencies_
 {
     // The case of issue 11: the demo scenario drawn with seed 7 under the published (natural)
     // rule, where the full data say not identifiable and most replicates identify two parents.
-    let s = Scratch::new("contradicted");
+    let s = Scratch::new("dossier-contradicted");
     let data = s.path("seed7.csv");
     std::fs::write(&data, forebear::demo::generate_demo_csv_seeded(7)).unwrap();
     let out = s.path("out");
@@ -705,7 +679,7 @@ fn noise_csv(rows: usize) -> String {
 
 #[test]
 fn empty_boundary_and_not_identifiable_dossiers_state_the_smallest_detectable_t_n() {
-    let s = Scratch::new("detectable");
+    let s = Scratch::new("dossier-detectable");
     let data = s.path("noise.csv");
     std::fs::write(&data, noise_csv(300)).unwrap();
     let out = s.path("out");
@@ -814,7 +788,7 @@ fn the_method_names_the_rule_used_and_a_natural_rule_dossier_shows_no_selection_
         assert!(calibrated.contains(text), "calibrated: {text}");
     }
 
-    let s = Scratch::new("natural");
+    let s = Scratch::new("dossier-natural");
     let data = demo_csv(&s);
     let out = s.path("out");
     analyze(
@@ -844,10 +818,10 @@ fn the_method_names_the_rule_used_and_a_natural_rule_dossier_shows_no_selection_
 
 #[test]
 fn the_reproduce_command_carries_non_default_selection_settings_to_the_same_digest() {
-    let s = Scratch::new("reproduce-selection");
+    let s = Scratch::new("dossier-reproduce-selection");
     let data = demo_csv(&s);
-    let output = Command::new(env!("CARGO_BIN_EXE_forebear"))
-        .current_dir(&s.0)
+    let output = bin()
+        .current_dir(&s.dir)
         .args([
             "--quiet",
             "analyze",
@@ -873,7 +847,7 @@ fn the_reproduce_command_carries_non_default_selection_settings_to_the_same_dige
         "{command}"
     );
     let status = Command::new("sh")
-        .current_dir(&s.0)
+        .current_dir(&s.dir)
         .arg("-c")
         .arg(format!(
             "\"$FOREBEAR\" --quiet {}",

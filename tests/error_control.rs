@@ -7,7 +7,7 @@
 //! files whose columns are all mutually independent the boundary is non-empty with probability at
 //! most α. Data are generated here from fixed seeds (invented, of several sizes and column kinds).
 
-mod common;
+use crate::common;
 
 use forebear::data::Table;
 use forebear::measure::Scaling;

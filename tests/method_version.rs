@@ -8,7 +8,7 @@
 //! behind them are checked against outside references in the other test files.
 
 use std::path::Path;
-use std::process::{Command, Stdio};
+use std::process::Stdio;
 
 /// (method version, analysis, digest of its result).
 const PINNED: [(&str, &str, &str); 10] = [
@@ -76,7 +76,7 @@ const PINNED: [(&str, &str, &str); 10] = [
 ];
 
 fn digest(data: &Path, out: &Path, args: &[&str]) -> String {
-    let status = Command::new(env!("CARGO_BIN_EXE_forebear"))
+    let status = crate::common::bin()
         .args(["--quiet", "analyze"])
         .arg(data)
         .arg("--out")
@@ -93,9 +93,7 @@ fn digest(data: &Path, out: &Path, args: &[&str]) -> String {
 
 #[test]
 fn method_version_names_exactly_these_results() {
-    let dir = std::env::temp_dir().join(format!("forebear-method-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = crate::common::fresh_dir("method-version");
     let data = dir.join("filter_discs.csv");
     std::fs::write(&data, forebear::demo::DEMO_CSV).unwrap();
     let computed = [

@@ -4,9 +4,7 @@
 //! portable; the batch index quotes no refused file; the reproduce command names exactly the file.
 //! The refused column names themselves are in the bad-input corpus (`tests/bad-input/name-*`).
 
-mod common;
-
-use common::*;
+use crate::common::*;
 use std::ffi::OsStr;
 use std::path::Path;
 

@@ -4,9 +4,7 @@
 //! was computed from. Every wait is bounded, so that a regression (a second open of a FIFO hangs)
 //! fails instead of hanging.
 
-mod common;
-
-use common::*;
+use crate::common::*;
 use std::fs::{File, OpenOptions};
 use std::io::Write;
 use std::os::unix::fs::OpenOptionsExt;
@@ -18,7 +16,7 @@ use std::time::{Duration, Instant};
 const LIMIT: Duration = Duration::from_secs(120);
 
 fn forebear(args: &[&str]) -> Command {
-    let mut command = Command::new(env!("CARGO_BIN_EXE_forebear"));
+    let mut command = bin();
     command
         .args(args)
         .stdout(Stdio::piped())
@@ -26,21 +24,9 @@ fn forebear(args: &[&str]) -> Command {
     command
 }
 
-/// Waits for `child` at most [`LIMIT`] (polling), killing it and failing after that.
-fn finish(mut child: Child) -> Output {
-    let deadline = Instant::now() + LIMIT;
-    while child.try_wait().unwrap().is_none() {
-        if Instant::now() > deadline {
-            let _ = child.kill();
-            let output = child.wait_with_output().unwrap();
-            panic!(
-                "forebear did not finish within {LIMIT:?}: {}",
-                String::from_utf8_lossy(&output.stderr)
-            );
-        }
-        std::thread::sleep(Duration::from_millis(20));
-    }
-    child.wait_with_output().unwrap()
+/// Waits for `child` at most [`LIMIT`], killing it and failing after that.
+fn finish(child: Child) -> Output {
+    finish_within(child, LIMIT)
 }
 
 fn make_fifo(path: &Path) {

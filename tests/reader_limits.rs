@@ -4,18 +4,16 @@
 //! limit. The inputs too large to commit to `tests/bad-input/` are generated here. Every run is
 //! bounded in time, so that a regression fails instead of hanging.
 
-mod common;
-
-use common::*;
+use crate::common::*;
 use std::io::Write;
-use std::process::{Child, Command, Output, Stdio};
-use std::time::{Duration, Instant};
+use std::process::{Child, Output, Stdio};
+use std::time::Duration;
 
 /// How long one refusal may take: reading 16 MiB takes well under a second.
 const LIMIT: Duration = Duration::from_secs(60);
 
 fn spawn(args: &[&str], stdin: Stdio) -> Child {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
+    bin()
         .args(args)
         .stdin(stdin)
         .stdout(Stdio::piped())
@@ -24,18 +22,9 @@ fn spawn(args: &[&str], stdin: Stdio) -> Child {
         .unwrap()
 }
 
-/// Waits for `child` at most [`LIMIT`] (polling), killing it and failing after that.
-fn finish(mut child: Child) -> Output {
-    let deadline = Instant::now() + LIMIT;
-    while child.try_wait().unwrap().is_none() {
-        if Instant::now() > deadline {
-            let _ = child.kill();
-            let _ = child.wait();
-            panic!("forebear did not stop within {LIMIT:?}");
-        }
-        std::thread::sleep(Duration::from_millis(20));
-    }
-    child.wait_with_output().unwrap()
+/// Waits for `child` at most [`LIMIT`], killing it and failing after that.
+fn finish(child: Child) -> Output {
+    finish_within(child, LIMIT)
 }
 
 fn analyze_file(scratch: &Scratch, data: &str) -> Output {

@@ -3,9 +3,7 @@
 //! `result.json` and in the dossier, and `dependence` says so when it refuses the column (issue 12,
 //! item 8). The other reader messages of item 8 are files in `tests/bad-input/`.
 
-mod common;
-
-use common::*;
+use crate::common::*;
 
 /// The invented table with a fifth column `k` that alternates between two texts of one float.
 fn with_rounded_column(rows: usize, texts: [&str; 2]) -> String {

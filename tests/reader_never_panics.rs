@@ -34,9 +34,8 @@ proptest! {
         picks in proptest::collection::vec(0..ALPHABET.len(), 0..400),
     ) {
         let bytes: Vec<u8> = picks.iter().map(|&i| ALPHABET[i]).collect();
-        let dir = std::env::temp_dir().join(format!("forebear-never-panics-{}", std::process::id()));
-        std::fs::create_dir_all(&dir).unwrap();
-        let path = dir.join("any.csv");
+        let scratch = crate::common::Scratch::new("never-panics");
+        let path = scratch.path("any.csv");
         std::fs::write(&path, &bytes).unwrap();
         let options = settings(flags, "").check_reader().unwrap();
         match read_csv(&path, &options) {

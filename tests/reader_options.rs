@@ -2,9 +2,7 @@
 //! files: delimiters, decimal commas, quoting, encodings, missing-value policies, column roles,
 //! and the sanity checks on what remains.
 
-mod common;
-
-use common::*;
+use crate::common::*;
 
 /// The parts of result.json that depend on the numbers read, not on how they were written.
 fn numbers_part(out: &std::path::Path) -> serde_json::Value {

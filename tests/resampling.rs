@@ -1,16 +1,17 @@
 //! Seeded resampling and stability (Shah and Samworth 2013 complementary pairs; Meinshausen and
 //! Bühlmann 2010 bound), sharding and merging, through the real binary and the library.
 
+use crate::common::{bin, fresh_dir, result_json as result, write_demo_csv};
 use forebear::data::Table;
 use forebear::measure::Scaling;
 use forebear::resample::{PlanKind, ResamplePlan};
 use forebear::rng::{standard_normal, Key};
 use forebear::search::SearchData;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+use std::process::{Output, Stdio};
 
 fn forebear(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
+    bin()
         .arg("--quiet")
         .args(args)
         .stdin(Stdio::null())
@@ -19,21 +20,11 @@ fn forebear(args: &[&str]) -> Output {
 }
 
 fn scratch(name: &str) -> PathBuf {
-    let dir =
-        std::env::temp_dir().join(format!("forebear-resampling-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
+    fresh_dir(&format!("resampling-{name}"))
 }
 
 fn demo_csv(dir: &Path) -> String {
-    let path = dir.join("filter_discs.csv");
-    std::fs::write(&path, forebear::demo::DEMO_CSV).unwrap();
-    path.display().to_string()
-}
-
-fn result(dir: &Path) -> serde_json::Value {
-    serde_json::from_str(&std::fs::read_to_string(dir.join("result.json")).unwrap()).unwrap()
+    path(&write_demo_csv(dir))
 }
 
 fn path(p: &Path) -> String {

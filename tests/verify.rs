@@ -4,22 +4,16 @@
 //! made with other settings, and `fingerprint`. Runs the real binary on files written by
 //! `forebear analyze`.
 
-mod common;
-
-use common::{forge_text, forge_texts, reseal, sha256_hex as hex_sha256};
+use crate::common;
+use crate::common::{
+    bin, forge_text, forge_texts, fresh_dir, lossy_stdout as text, reseal, sha256_hex as hex_sha256,
+};
 use forebear::manifest::Manifest;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
-}
-
 fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("forebear-verify-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
+    fresh_dir(&format!("verify-{name}"))
 }
 
 /// The demo data and its dossier (10 replicates) in a fresh folder.
@@ -49,10 +43,6 @@ fn verify(out: &Path, data: &Path, extra: &[&str]) -> Output {
         .args(extra)
         .output()
         .unwrap()
-}
-
-fn text(output: &Output) -> String {
-    String::from_utf8_lossy(&output.stdout).into_owned()
 }
 
 /// Asserts the exit code, the verdict on the last line and that no panic text appeared.

@@ -1,5 +1,5 @@
-//! Helpers shared by the integration tests that run the real binary on files (each test file uses
-//! a part of them).
+//! Helpers shared by the integration test modules (each uses a part of them): scratch folders
+//! unique within the one test process, running the real binary, and the assertions on its output.
 #![allow(dead_code)]
 
 use std::ffi::OsStr;
@@ -9,19 +9,33 @@ use std::process::{Child, Command, Output, Stdio};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
 
-/// A fresh folder under the system temp dir, removed when dropped.
+/// The forebear binary as a command, not started yet.
+pub fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_forebear"))
+}
+
+/// A fresh, empty folder `forebear-NAME-PID-N` under the system temp dir. Every integration test
+/// runs in one process, so N counts the folders made in it: two tests (of any module) that pass the
+/// same name still get different folders. Left in place; [`Scratch`] is one removed when dropped.
+pub fn fresh_dir(name: &str) -> PathBuf {
+    static COUNTER: AtomicUsize = AtomicUsize::new(0);
+    let n = COUNTER.fetch_add(1, Ordering::Relaxed);
+    let dir = std::env::temp_dir().join(format!("forebear-{name}-{}-{n}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// A fresh folder under the system temp dir ([`fresh_dir`]), removed when dropped.
 pub struct Scratch {
     pub dir: PathBuf,
 }
 
 impl Scratch {
     pub fn new(test: &str) -> Scratch {
-        static COUNTER: AtomicUsize = AtomicUsize::new(0);
-        let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-        let dir = std::env::temp_dir().join(format!("forebear-{test}-{}-{n}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        std::fs::create_dir_all(&dir).unwrap();
-        Scratch { dir }
+        Scratch {
+            dir: fresh_dir(test),
+        }
     }
 
     pub fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
@@ -57,10 +71,7 @@ where
     I: IntoIterator<Item = S>,
     S: AsRef<OsStr>,
 {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
-        .args(args)
-        .output()
-        .expect("the binary runs")
+    bin().args(args).output().expect("the binary runs")
 }
 
 /// Runs the forebear binary with `args` in the folder `dir`.
@@ -69,7 +80,7 @@ where
     I: IntoIterator<Item = S>,
     S: AsRef<OsStr>,
 {
-    Command::new(env!("CARGO_BIN_EXE_forebear"))
+    bin()
         .current_dir(dir)
         .args(args)
         .output()
@@ -96,6 +107,28 @@ pub fn analyze(scratch: &Scratch, data: &Path, target: &str, extra: &[&str]) -> 
 
 pub fn stderr_of(output: &Output) -> String {
     String::from_utf8(output.stderr.clone()).expect("stderr is UTF-8")
+}
+
+/// Stderr as text, any byte that is not UTF-8 replaced.
+pub fn lossy_stderr(output: &Output) -> String {
+    String::from_utf8_lossy(&output.stderr).into_owned()
+}
+
+/// Stdout as text, any byte that is not UTF-8 replaced.
+pub fn lossy_stdout(output: &Output) -> String {
+    String::from_utf8_lossy(&output.stdout).into_owned()
+}
+
+/// The exit code of a process that ended by itself (not killed by a signal).
+pub fn exit_code(output: &Output) -> i32 {
+    output.status.code().expect("not killed by a signal")
+}
+
+/// The demo data (`forebear::demo::DEMO_CSV`) written to `dir/filter_discs.csv`; returns its path.
+pub fn write_demo_csv(dir: &Path) -> PathBuf {
+    let path = dir.join("filter_discs.csv");
+    std::fs::write(&path, forebear::demo::DEMO_CSV).unwrap();
+    path
 }
 
 /// Asserts the contract for bad input: exit 2, one line starting with "forebear: error:", every
@@ -321,7 +354,7 @@ where
     I: IntoIterator<Item = S>,
     S: AsRef<OsStr>,
 {
-    let mut command = Command::new(env!("CARGO_BIN_EXE_forebear"));
+    let mut command = bin();
     command
         .current_dir(dir)
         .args(args)
@@ -331,6 +364,23 @@ where
         hold.apply(&mut command, point);
     }
     command.spawn().expect("the binary starts")
+}
+
+/// Waits for `child` at most `limit` (polling), killing it and failing with its stderr after that.
+pub fn finish_within(mut child: Child, limit: Duration) -> Output {
+    let deadline = Instant::now() + limit;
+    while child.try_wait().unwrap().is_none() {
+        if Instant::now() > deadline {
+            let _ = child.kill();
+            let output = child.wait_with_output().unwrap();
+            panic!(
+                "forebear did not finish within {limit:?}: {}",
+                String::from_utf8_lossy(&output.stderr)
+            );
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    child.wait_with_output().unwrap()
 }
 
 /// Sends `signal` (a name such as `HUP`) to `child` with kill(1).
