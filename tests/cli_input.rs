@@ -1001,6 +1001,19 @@ fn shard_and_replicate_range_values_are_checked_when_parsed() {
 
 // ---- study files: `analyze --config` (issue 13) ------------------------------------------------
 
+/// `forebear analyze DATA --config CONFIG EXTRA... --out OUT`.
+fn analyze_with_config(data: &Path, config: &Path, extra: &[&str], out: &Path) -> Output {
+    let mut args: Vec<&OsStr> = vec![
+        OsStr::new("analyze"),
+        data.as_os_str(),
+        OsStr::new("--config"),
+        config.as_os_str(),
+    ];
+    args.extend(extra.iter().map(OsStr::new));
+    args.extend([OsStr::new("--out"), out.as_os_str()]);
+    run(args)
+}
+
 /// The example study file of the repository.
 fn example_study() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/study.toml")
@@ -1021,16 +1034,7 @@ fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_ov
     let s = Scratch::new("config-example");
     let data = s.write("discs.csv", forebear::demo::DEMO_CSV);
     let out = s.path("out");
-    let ran = run([
-        OsStr::new("analyze"),
-        data.as_os_str(),
-        OsStr::new("--config"),
-        example_study().as_os_str(),
-        OsStr::new("--replicates"),
-        OsStr::new("0"),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ]);
+    let ran = analyze_with_config(&data, &example_study(), &["--replicates", "0"], &out);
     assert_success(&ran);
     let result = result_json(&out);
     let settings = &result["settings"];
@@ -1071,16 +1075,7 @@ fn every_problem_of_a_study_file_and_the_flags_is_reported_at_once_where_it_was_
          replicates = 7\nexclude = [\"crush_strength\"]\n",
     );
     let out = s.path("out");
-    let ran = run([
-        OsStr::new("analyze"),
-        data.as_os_str(),
-        OsStr::new("--config"),
-        config.as_os_str(),
-        OsStr::new("--stability-threshold"),
-        OsStr::new("0.4"),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ]);
+    let ran = analyze_with_config(&data, &config, &["--stability-threshold", "0.4"], &out);
     let err = common::assert_refused(&ran, &[]);
     let file = config.display().to_string();
     let lines: Vec<&str> = err.lines().collect();
@@ -1108,16 +1103,12 @@ fn a_column_named_in_a_study_file_but_absent_from_the_header_is_placed_at_its_ke
         "# roles\ntargets = [\"crush_strength\"]\nexclude = [\"kiln_peak_tmp\"]\n",
     );
     let out = s.path("out");
-    let ran = run([
-        OsStr::new("analyze"),
-        data.as_os_str(),
-        OsStr::new("--config"),
-        config.as_os_str(),
-        OsStr::new("--candidates"),
-        OsStr::new("zz,binder_fraction"),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ]);
+    let ran = analyze_with_config(
+        &data,
+        &config,
+        &["--candidates", "zz,binder_fraction"],
+        &out,
+    );
     let err = common::assert_refused(
         &ran,
         &[

@@ -6,18 +6,19 @@
 
 use crate::common;
 use crate::common::{
-    bin, forge_text, forge_texts, fresh_dir, lossy_stdout as text, reseal, sha256_hex as hex_sha256,
+    bin, forge_text, forge_texts, lossy_stdout as text, reseal, sha256_hex as hex_sha256, Scratch,
 };
 use forebear::manifest::Manifest;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-fn scratch(name: &str) -> PathBuf {
-    fresh_dir(&format!("verify-{name}"))
+/// A fresh folder for one test, removed when the test ends.
+fn scratch(name: &str) -> Scratch {
+    Scratch::new(&format!("verify-{name}"))
 }
 
 /// The demo data and its dossier (10 replicates) in a fresh folder.
-fn analysed(name: &str) -> (PathBuf, PathBuf, PathBuf) {
+fn analysed(name: &str) -> (Scratch, PathBuf, PathBuf) {
     let dir = scratch(name);
     let data = dir.join("filter_discs.csv");
     std::fs::write(&data, forebear::demo::DEMO_CSV).unwrap();

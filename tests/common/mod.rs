@@ -59,6 +59,20 @@ impl Scratch {
     }
 }
 
+/// A scratch folder reads as its path (`dir.join(..)`, `&dir` where a `&Path` is wanted).
+impl std::ops::Deref for Scratch {
+    type Target = Path;
+    fn deref(&self) -> &Path {
+        &self.dir
+    }
+}
+
+impl AsRef<Path> for Scratch {
+    fn as_ref(&self) -> &Path {
+        &self.dir
+    }
+}
+
 impl Drop for Scratch {
     fn drop(&mut self) {
         let _ = std::fs::remove_dir_all(&self.dir);
