@@ -36,11 +36,6 @@ impl Delimiter {
         }
     }
 
-    /// The delimiter whose byte is `byte`, if the reader accepts it.
-    pub fn from_byte(byte: u8) -> Option<Delimiter> {
-        Delimiter::ALL.into_iter().find(|d| d.byte() == byte)
-    }
-
     /// The character itself, as recorded in `result.json`.
     pub fn text(self) -> String {
         (self.byte() as char).to_string()
@@ -120,7 +115,6 @@ mod tests {
     fn every_delimiter_reads_back_from_its_character_and_its_name() {
         for d in Delimiter::ALL {
             assert_eq!(d.text().parse::<Delimiter>(), Ok(d));
-            assert_eq!(Delimiter::from_byte(d.byte()), Some(d));
             let json = serde_json::to_string(&d).unwrap();
             assert_eq!(serde_json::from_str::<Delimiter>(&json).unwrap(), d);
         }
@@ -129,6 +123,5 @@ mod tests {
         assert_eq!("\\t".parse::<Delimiter>(), Ok(Delimiter::Tab));
         let error = ":".parse::<Delimiter>().unwrap_err();
         assert!(error.contains("':'") && error.contains("tab"), "{error}");
-        assert_eq!(Delimiter::from_byte(b':'), None);
     }
 }

@@ -61,18 +61,20 @@ pub(super) fn taken_from_record(result_pointers: &[&str]) -> Vec<String> {
 
 /// `value` with the fields at `pointers` copied from `record`: a field of the record is set (added
 /// when `value` lacks it, as an optional field a re-run does not fill), a field absent from the
-/// record stays as it is.
-pub(super) fn with_recorded<T: Serialize + DeserializeOwned>(
+/// record stays as it is. Returns the value and the pointers the record held (those copied).
+pub(super) fn with_recorded<'p, T: Serialize + DeserializeOwned>(
     value: &T,
     record: &T,
-    pointers: &[&str],
-) -> Result<T, String> {
+    pointers: &[&'p str],
+) -> Result<(T, Vec<&'p str>), String> {
     let mut tree = serde_json::to_value(value).map_err(|e| e.to_string())?;
     let source = serde_json::to_value(record).map_err(|e| e.to_string())?;
-    for pointer in pointers {
+    let mut copied = Vec::new();
+    for &pointer in pointers {
         let Some(recorded) = source.pointer(pointer) else {
             continue;
         };
+        copied.push(pointer);
         if let Some(slot) = tree.pointer_mut(pointer) {
             *slot = recorded.clone();
         } else if let Some((parent, key)) = pointer.rsplit_once('/') {
@@ -81,7 +83,8 @@ pub(super) fn with_recorded<T: Serialize + DeserializeOwned>(
             }
         }
     }
-    serde_json::from_value(tree).map_err(|e| e.to_string())
+    let value = serde_json::from_value(tree).map_err(|e| e.to_string())?;
+    Ok((value, copied))
 }
 
 /// Every file of the dossier of `analysed`, in writing order, the manifest last with the
@@ -92,7 +95,7 @@ fn render_dossier(
 ) -> Result<Vec<(&'static str, String)>, String> {
     let mut files = crate::report::render_all(&analysed.finding).map_err(|e| e.to_string())?;
     let manifest = Manifest::new(analysed, &files);
-    let mut manifest = with_recorded(&manifest, recorded_manifest, &RECORDED_MANIFEST_FACTS)?;
+    let (mut manifest, _) = with_recorded(&manifest, recorded_manifest, &RECORDED_MANIFEST_FACTS)?;
     manifest.seal = manifest.computed_seal();
     files.push((MANIFEST_FILE, manifest.to_text()));
     Ok(files)
@@ -288,7 +291,7 @@ mod tests {
     fn recorded_fields_are_copied_and_nothing_else() {
         let value = serde_json::json!({"run": {"threads": 2, "x": 1}, "a": 1});
         let record = serde_json::json!({"run": {"threads": 8, "x": 5}, "a": 9});
-        let copied = with_recorded(&value, &record, &["/run/threads", "/absent"]).unwrap();
+        let (copied, _) = with_recorded(&value, &record, &["/run/threads", "/absent"]).unwrap();
         assert_eq!(
             copied,
             serde_json::json!({"run": {"threads": 8, "x": 1}, "a": 1})

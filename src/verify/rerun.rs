@@ -146,17 +146,9 @@ pub(super) fn rerun(
     let (complete, taken) = match recorded {
         None => (complete, Vec::new()),
         Some(r) => match with_recorded(&complete, r, &pointers) {
-            Ok(c) => {
-                // Only the facts the record holds (an optional one, such as the study file, may
-                // be absent).
-                let tree = serde_json::to_value(r).unwrap_or_default();
-                let present: Vec<&str> = pointers
-                    .iter()
-                    .copied()
-                    .filter(|p| tree.pointer(p).is_some())
-                    .collect();
-                (c, taken_from_record(&present))
-            }
+            // Only the facts the record holds are listed (an optional one, such as the study
+            // file, may be absent).
+            Ok((c, copied)) => (c, taken_from_record(&copied)),
             Err(e) => {
                 return Rerun::failed(vec![format!(
                     "the recorded run facts cannot be copied into the re-run's result ({e})"
