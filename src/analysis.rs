@@ -260,8 +260,11 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
             finding.settings.stability_threshold,
             &finding.settings.candidates,
             &finding.trace,
-            finding.outcome,
-            &finding.parent_sets,
+            (finding.outcome, &finding.parent_sets),
+            finding
+                .with_knowledge
+                .as_ref()
+                .map(|k| (k.outcome, k.parent_sets.as_slice())),
             records,
         )
     });

@@ -3,6 +3,7 @@
 use crate::data::DataReport;
 use crate::resample::Stability;
 use crate::search::collider::ColliderTest;
+use crate::search::knowledge::WithKnowledge;
 use crate::search::parents::Diagnostics;
 use crate::search::shrink::ShrinkTest;
 use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
@@ -179,6 +180,9 @@ pub struct Finding {
     pub explanation: String,
     /// What the data show against the assumptions.
     pub diagnostics: Diagnostics,
+    /// The search read with the stated knowledge (absent without knowledge).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_knowledge: Option<WithKnowledge>,
     /// Resampling stability; `null` without resampling.
     pub stability: Option<Stability>,
     /// Run metadata (excluded from the digest).
@@ -190,6 +194,9 @@ pub struct Finding {
 impl Finding {
     /// Assembles a finding and computes its digest.
     pub fn new(data: DataReport, settings: Study, search: ParentSearch, run: RunInfo) -> Finding {
+        let with_knowledge = settings
+            .used_knowledge()
+            .map(|k| crate::search::knowledge::apply(&search, &k));
         let mut finding = Finding {
             schema: SCHEMA.into(),
             tool: ToolInfo::current(),
@@ -210,6 +217,7 @@ impl Finding {
             parent_sets: search.parent_sets,
             explanation: search.explanation,
             diagnostics: search.diagnostics,
+            with_knowledge,
             stability: None,
             run,
             digest: String::new(),

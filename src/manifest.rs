@@ -62,6 +62,10 @@ pub struct ManifestSettings {
     /// bytes; flags typed beside it are in the command line.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub study_file: Option<crate::settings::StudyFileRecord>,
+    /// SHA-256 of the canonical JSON of the stated knowledge (also inside `canonical`), absent
+    /// when none was stated.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub knowledge_sha256: Option<String>,
 }
 
 /// The result digests.
@@ -82,6 +86,11 @@ pub struct ManifestCommand {
     pub reproduce: String,
 }
 
+/// SHA-256 of the canonical JSON of stated knowledge.
+pub fn knowledge_sha256(knowledge: &crate::search::knowledge::Knowledge) -> String {
+    sha256_text(&crate::digest::canonical_json(knowledge))
+}
+
 impl Manifest {
     /// The manifest of a dossier whose other files are `files` (name, contents).
     pub fn new(analysed: &Analysed, files: &[(&str, String)]) -> Manifest {
@@ -99,6 +108,7 @@ impl Manifest {
                 canonical: settings_value(finding),
                 sha256: settings_sha256(finding),
                 study_file: finding.run.study_file.clone(),
+                knowledge_sha256: finding.settings.knowledge.as_ref().map(knowledge_sha256),
             },
             results: ManifestResults {
                 digest: finding.digest.clone(),

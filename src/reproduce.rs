@@ -57,6 +57,15 @@ pub fn reproduce_command(finding: &Finding) -> String {
             shell_quote(&tokens.join(","))
         ));
     }
+    if s.knowledge.is_some() {
+        // Knowledge has no flags: it comes from a study file (the flags above win over the rest
+        // of the file). A plan's knowledge is written into a study file of its own first.
+        let file = finding.run.study_file.as_ref().map_or_else(
+            || "STUDY_FILE_WITH_THE_KNOWLEDGE".to_string(),
+            |f| shell_quote(&f.path),
+        );
+        parts.push(format!("--config {file}"));
+    }
     parts.push("--out rerun".to_string());
     one_line(&parts.join(" "))
 }

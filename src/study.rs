@@ -8,6 +8,7 @@ use crate::data::LoadOptions;
 use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
+use crate::search::knowledge::Knowledge;
 use crate::search::SelectionRule;
 use crate::settings::{Key, SettingProblem, Settings, SettingsInput};
 use serde::{Deserialize, Serialize};
@@ -38,6 +39,10 @@ pub struct Study {
     /// the natural stopping rule, which is what they read as.
     #[serde(default = "SelectionRule::natural")]
     pub selection: SelectionRule,
+    /// What the analyst stated (`[knowledge]` of a study file), as given; absent when nothing is
+    /// stated, so results without knowledge keep their digests.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub knowledge: Option<Knowledge>,
 }
 
 impl Study {
@@ -69,6 +74,13 @@ impl Study {
                 .filter_map(|name| column(name, Key::Candidates, "candidate"))
                 .collect()
         });
+        // Every column the knowledge names must be in the file (an excluded column may be named:
+        // knowledge describes the process, not this analysis; it acts only on used columns).
+        for name in settings.knowledge().iter().flat_map(|k| k.columns()) {
+            if let Err(e) = raw.require_column(name, "knowledge") {
+                problems.push(SettingProblem::about(Key::Knowledge).text(e.to_string()));
+            }
+        }
         let Some(target_position) = target_position.filter(|_| problems.is_empty()) else {
             return Err(Error::Settings(problems));
         };
@@ -120,6 +132,7 @@ impl Study {
             resampling: settings.resampling().clone(),
             stability_threshold: settings.stability_threshold(),
             selection: settings.selection(),
+            knowledge: settings.knowledge().cloned(),
         };
         Ok((study, used, target_position))
     }
@@ -146,7 +159,16 @@ impl Study {
             decimal_comma: Some(reader.decimal_comma),
             missing_tokens: Some(reader.missing_tokens.clone()),
             missing: Some(reader.missing_policy),
+            knowledge: self.knowledge.clone(),
         }
+    }
+
+    /// The stated knowledge, restricted to the columns this study uses (target and candidates).
+    pub fn used_knowledge(&self) -> Option<Knowledge> {
+        let used: Vec<String> = std::iter::once(self.target.clone())
+            .chain(self.candidates.iter().cloned())
+            .collect();
+        self.knowledge.as_ref().map(|k| k.restricted_to(&used))
     }
 
     /// Drops the candidates that the data step left out (constant, or repeating another column)

@@ -1022,12 +1022,14 @@ fn example_study() -> std::path::PathBuf {
 #[test]
 fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_over_it() {
     let text = std::fs::read_to_string(example_study()).unwrap();
-    // Every key the settings take is shown (set or commented out) as `key =` at a line's start.
+    // Every key the settings take is shown (set or commented out) as `key =` at a line's start,
+    // or as a table `[key]`.
     for key in forebear::settings::Key::ALL {
         let shown = text.lines().any(|l| {
             l.trim_start_matches("# ")
                 .strip_prefix(key.name())
                 .is_some_and(|rest| rest.trim_start().starts_with('='))
+                || l == format!("[{}]", key.name())
         });
         assert!(shown, "examples/study.toml does not show '{}'", key.name());
     }
@@ -1049,8 +1051,21 @@ fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_ov
         settings["resampling"].get("seed").is_none(),
         "the seed is stored once"
     );
+    // The example's tiers agree with the data's v-structure: both parents rest on the data alone.
+    let with_knowledge = &result["with_knowledge"];
+    assert_eq!(with_knowledge["outcome"], "identified", "{with_knowledge}");
+    assert_eq!(
+        with_knowledge["claims"],
+        serde_json::json!({"kiln_peak_temp": "data", "pore_density": "data"})
+    );
     let manifest: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("manifest.json")).unwrap()).unwrap();
+    assert_eq!(
+        manifest["settings"]["knowledge_sha256"]
+            .as_str()
+            .map(str::len),
+        Some(64)
+    );
     assert_eq!(
         manifest["settings"]["study_file"]["sha256"],
         sha256_hex(text.as_bytes()),
@@ -1084,7 +1099,7 @@ fn every_problem_of_a_study_file_and_the_flags_is_reported_at_once_where_it_was_
         [
             format!("forebear: error: {file}:2:1: alpha 1.5 is not a level: it must lie strictly between 0 and 1"),
             format!("forebear: error: {file}:3:11: scaling: unknown variant `ranked`, expected one of `rank`, `standardize`, `none`"),
-            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, delimiter, decimal_comma, missing_tokens, missing"),
+            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, delimiter, decimal_comma, missing_tokens, missing, knowledge"),
             format!("forebear: error: {file}:5:1: replicates 7: complementary pairs come in twos (two halves per split), so the number of replicates must be even; use 6 or 8"),
             format!("forebear: error: {file}:6:1: the target 'crush_strength' cannot also be excluded; remove it from exclude"),
             "forebear: error: --stability-threshold 0.4 is outside (0.5, 1]: the error bound of Meinshausen and Bühlmann (2010) needs a threshold above one half".to_string(),

@@ -18,6 +18,7 @@ mod dependence_pvalue;
 mod determinism;
 mod dossier;
 mod error_control;
+mod knowledge;
 mod method_version;
 mod names;
 mod neighbors_exact;

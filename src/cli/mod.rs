@@ -89,6 +89,7 @@ where
     let explicit = match matches.subcommand() {
         Some(("analyze", sub)) => Key::ALL
             .into_iter()
+            .filter(|k| k.has_flag())
             .filter(|k| sub.value_source(k.arg_id()) == Some(ValueSource::CommandLine))
             .collect(),
         _ => Vec::new(),

@@ -42,6 +42,8 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
             reproduce => Value::from_safe_string(reproduce),
             verify => Value::from_safe_string(verify),
             settings_sha256 => settings_sha256(finding),
+            knowledge_claims => knowledge_claims(finding),
+            knowledge_sha256 => finding.settings.knowledge.as_ref().map(crate::manifest::knowledge_sha256),
             other_members => other_members(finding),
             candidate_names => finding.parent_sets.iter().flatten().cloned().collect::<Vec<_>>(),
             calibrated => finding.settings.selection.is_calibrated(),
@@ -53,6 +55,17 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
             column_rows => Value::from(minijinja::value::Serde(column_rows(finding))),
         })
         .map_err(|e| Error::internal(format!("cannot render the dossier: {e:#}")))
+}
+
+/// The parents claimed with the knowledge whose claim rests on it (not on the data alone).
+fn knowledge_claims(finding: &Finding) -> Vec<String> {
+    finding.with_knowledge.as_ref().map_or_else(Vec::new, |k| {
+        k.claims
+            .iter()
+            .filter(|(_, b)| **b == crate::search::knowledge::Basis::DataAndKnowledge)
+            .map(|(c, _)| c.clone())
+            .collect()
+    })
 }
 
 fn environment() -> Result<Environment<'static>> {

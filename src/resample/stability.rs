@@ -26,8 +26,31 @@ pub struct ReplicateRecord {
     /// T_n on this replicate of the variable chosen at each step of the full-data trace, given that
     /// step's conditioning set (`None` where undefined).
     pub trace_values: Vec<Option<f64>>,
+    /// The replicate's result read with the stated knowledge (absent without knowledge).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_knowledge: Option<KnowledgeRecord>,
     /// SHA-256 of the canonical JSON of the fields above.
     pub digest: String,
+}
+
+/// A replicate's result read with the stated knowledge.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct KnowledgeRecord {
+    /// The outcome with the knowledge.
+    pub outcome: Outcome,
+    /// Its parent sets (each sorted by name).
+    pub parent_sets: Vec<Vec<String>>,
+}
+
+/// Stability of the result read with the stated knowledge.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct KnowledgeStability {
+    /// Frequency of each candidate in a parent set identified with the knowledge.
+    pub parents: BTreeMap<String, f64>,
+    /// Outcome frequencies with the knowledge, most frequent first.
+    pub outcomes: Vec<OutcomeFrequency>,
+    /// The full-data result with the knowledge against the replicates'.
+    pub headline: Headline,
 }
 
 /// How often one outcome occurred, with its parent sets.
@@ -108,6 +131,9 @@ pub struct Stability {
     /// replicates reach something other than the full data.
     #[serde(default)]
     pub headline: Headline,
+    /// The result read with the stated knowledge, across replicates (absent without knowledge).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_knowledge: Option<KnowledgeStability>,
     /// Digest of every replicate record, by replicate index.
     pub replicate_digests: Vec<String>,
     /// Every replicate record, by replicate index, so that a re-run can name the first field of a
@@ -147,7 +173,14 @@ pub fn run_replicate(table: &Table, study: &Study, k: u32, full_trace: &[Step]) 
         .collect();
     let search = local_parents(&data, t, &cand, study.alpha, &study.selection);
     let trace_values = trace_values_on(&data, t, full_trace);
-    record(k, drawn.rows.len(), &search, trace_values)
+    let with_knowledge = study.used_knowledge().map(|knowledge| {
+        let read = crate::search::knowledge::apply(&search, &knowledge);
+        KnowledgeRecord {
+            outcome: read.outcome,
+            parent_sets: sorted_sets(&read.parent_sets),
+        }
+    });
+    record(k, drawn.rows.len(), &search, trace_values, with_knowledge)
 }
 
 fn trace_values_on(data: &SearchData, target: usize, full_trace: &[Step]) -> Vec<Option<f64>> {
@@ -176,28 +209,32 @@ fn trace_values_on(data: &SearchData, target: usize, full_trace: &[Step]) -> Vec
         .collect()
 }
 
-fn record(
-    k: u32,
-    rows: usize,
-    search: &ParentSearch,
-    trace_values: Vec<Option<f64>>,
-) -> ReplicateRecord {
-    let parent_sets: Vec<Vec<String>> = search
-        .parent_sets
-        .iter()
+/// Parent sets with each set sorted by name.
+fn sorted_sets(sets: &[Vec<String>]) -> Vec<Vec<String>> {
+    sets.iter()
         .map(|s| {
             let mut s = s.clone();
             s.sort();
             s
         })
-        .collect();
+        .collect()
+}
+
+fn record(
+    k: u32,
+    rows: usize,
+    search: &ParentSearch,
+    trace_values: Vec<Option<f64>>,
+    with_knowledge: Option<KnowledgeRecord>,
+) -> ReplicateRecord {
     let mut rec = ReplicateRecord {
         replicate: k,
         rows,
         markov_boundary: search.markov_boundary.selected.clone(),
         outcome: search.outcome,
-        parent_sets,
+        parent_sets: sorted_sets(&search.parent_sets),
         trace_values,
+        with_knowledge,
         digest: String::new(),
     };
     rec.digest = crate::digest::digest(&rec);
@@ -211,8 +248,8 @@ pub fn aggregate(
     threshold: f64,
     candidates: &[String],
     full_trace: &[Step],
-    full_outcome: Outcome,
-    full_parent_sets: &[Vec<String>],
+    (full_outcome, full_parent_sets): (Outcome, &[Vec<String>]),
+    full_with_knowledge: Option<(Outcome, &[Vec<String>])>,
     records: &[ReplicateRecord],
 ) -> Stability {
     let mut records: Vec<&ReplicateRecord> = records.iter().collect();
@@ -229,8 +266,6 @@ pub fn aggregate(
         candidates.iter().map(|c| (c.clone(), 0)).collect();
     let mut parent_count = boundary_count.clone();
     let mut step_sum: BTreeMap<String, (usize, u32)> = BTreeMap::new();
-    // Keyed by (outcome name, parent sets) so that the order is fixed.
-    type OutcomeKey = (String, Vec<Vec<String>>);
     let mut outcome_count: BTreeMap<OutcomeKey, (Outcome, u32)> = BTreeMap::new();
     for r in &records {
         for (step, c) in r.markov_boundary.iter().enumerate() {
@@ -297,8 +332,17 @@ pub fn aggregate(
             .find(|o| !(o.outcome == full_outcome && o.parent_sets == full_sets))
             .cloned(),
     };
+    let with_knowledge = full_with_knowledge.map(|(outcome, sets)| {
+        let results: Vec<(Outcome, &[Vec<String>])> = records
+            .iter()
+            .filter_map(|r| r.with_knowledge.as_ref())
+            .map(|k| (k.outcome, k.parent_sets.as_slice()))
+            .collect();
+        knowledge_stability(&results, n, threshold, outcome, sets)
+    });
     Stability {
         headline,
+        with_knowledge,
         plan: plan.clone(),
         replicates: n,
         threshold,
@@ -325,6 +369,62 @@ pub fn aggregate(
         full_data_outcome_stable: share(full_count) >= threshold,
         replicate_digests: records.iter().map(|r| r.digest.clone()).collect(),
         records: records.iter().map(|&r| r.clone()).collect(),
+    }
+}
+
+/// Outcome counts are keyed by (outcome name, parent sets) so that the order is fixed.
+type OutcomeKey = (String, Vec<Vec<String>>);
+
+/// Frequencies of the replicates' results read with the knowledge, against the full data's.
+fn knowledge_stability(
+    results: &[(Outcome, &[Vec<String>])],
+    n: u32,
+    threshold: f64,
+    full_outcome: Outcome,
+    full_sets: &[Vec<String>],
+) -> KnowledgeStability {
+    let share = |count: u32| match n {
+        0 => 0.0,
+        _ => f64::from(count) / f64::from(n),
+    };
+    let full_sets = sorted_sets(full_sets);
+    let mut parents: BTreeMap<String, u32> = BTreeMap::new();
+    let mut counts: BTreeMap<OutcomeKey, (Outcome, u32)> = BTreeMap::new();
+    for &(outcome, sets) in results {
+        if outcome == Outcome::Identified {
+            for c in sets.iter().flatten() {
+                *parents.entry(c.clone()).or_default() += 1;
+            }
+        }
+        counts
+            .entry((outcome.name().to_string(), sets.to_vec()))
+            .or_insert((outcome, 0))
+            .1 += 1;
+    }
+    let mut outcomes: Vec<OutcomeFrequency> = counts
+        .into_iter()
+        .map(|((_, parent_sets), (outcome, count))| OutcomeFrequency {
+            outcome,
+            parent_sets,
+            frequency: share(count),
+            count,
+        })
+        .collect();
+    outcomes.sort_by_key(|o| std::cmp::Reverse(o.count));
+    let is_full = |o: Outcome, sets: &[Vec<String>]| o == full_outcome && sets == full_sets;
+    let full_count = results.iter().filter(|(o, s)| is_full(*o, s)).count() as u32;
+    KnowledgeStability {
+        parents: parents.into_iter().map(|(c, k)| (c, share(k))).collect(),
+        headline: Headline {
+            frequency: share(full_count),
+            stable: share(full_count) >= threshold,
+            contradicted: n > 0 && 2 * full_count < n,
+            most_frequent_other: outcomes
+                .iter()
+                .find(|o| !is_full(o.outcome, &o.parent_sets))
+                .cloned(),
+        },
+        outcomes,
     }
 }
 

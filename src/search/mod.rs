@@ -5,6 +5,7 @@
 pub mod collider;
 pub mod forward;
 mod independence;
+pub mod knowledge;
 pub mod parents;
 pub mod rule;
 pub mod screening;

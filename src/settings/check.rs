@@ -10,6 +10,7 @@ use crate::data::LoadOptions;
 use crate::measure::permutation::TestPlan;
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
+use crate::search::knowledge::Knowledge;
 use crate::search::{SelectionRule, StoppingRule};
 use crate::text::quoted;
 
@@ -27,6 +28,7 @@ pub struct Settings {
     stability_threshold: f64,
     selection: SelectionRule,
     reader: LoadOptions,
+    knowledge: Option<Knowledge>,
 }
 
 impl Settings {
@@ -78,6 +80,11 @@ impl Settings {
     /// How the data file is read.
     pub fn reader(&self) -> &LoadOptions {
         &self.reader
+    }
+
+    /// What the analyst stated (absent when nothing is stated).
+    pub fn knowledge(&self) -> Option<&Knowledge> {
+        self.knowledge.as_ref()
     }
 
     /// The one target of a single-target command.
@@ -132,6 +139,10 @@ impl SettingsInput {
         let count = self.replicates.unwrap_or(DEFAULT_REPLICATES);
         resampling_rules(kind, count, self.fraction, &mut problems);
         let reader = self.reader_options(&mut problems);
+        let knowledge = self.knowledge.clone().filter(|k| !k.is_empty());
+        for problem in knowledge.iter().flat_map(Knowledge::problems) {
+            problems.push(SettingProblem::of(Key::Knowledge).text(format!(": {problem}")));
+        }
         if !problems.is_empty() {
             return Err(problems);
         }
@@ -146,6 +157,7 @@ impl SettingsInput {
             stability_threshold,
             selection,
             reader,
+            knowledge,
         })
     }
 

@@ -6,6 +6,7 @@ use super::key::Key;
 use crate::data::{Delimiter, MissingPolicy};
 use crate::measure::Scaling;
 use crate::resample::PlanKind;
+use crate::search::knowledge::Knowledge;
 use crate::search::StoppingRule;
 use serde::Deserialize;
 
@@ -48,6 +49,8 @@ pub struct SettingsInput {
     pub missing_tokens: Option<Vec<String>>,
     /// What to do with rows that miss a used value.
     pub missing: Option<MissingPolicy>,
+    /// What the analyst knows: tiers, forbidden and required edges (table `[knowledge]`).
+    pub knowledge: Option<Knowledge>,
 }
 
 impl SettingsInput {
@@ -80,6 +83,7 @@ impl SettingsInput {
             decimal_comma: self.decimal_comma.or(b.decimal_comma),
             missing_tokens: self.missing_tokens.or(b.missing_tokens),
             missing: self.missing.or(b.missing),
+            knowledge: self.knowledge.or(b.knowledge),
         }
     }
 
@@ -103,6 +107,7 @@ impl SettingsInput {
             Key::DecimalComma => self.decimal_comma = None,
             Key::MissingTokens => self.missing_tokens = None,
             Key::Missing => self.missing = None,
+            Key::Knowledge => self.knowledge = None,
         }
         self
     }
@@ -127,6 +132,7 @@ impl SettingsInput {
             Key::DecimalComma => self.decimal_comma.is_some(),
             Key::MissingTokens => self.missing_tokens.is_some(),
             Key::Missing => self.missing.is_some(),
+            Key::Knowledge => self.knowledge.is_some(),
         }
     }
 }

@@ -37,11 +37,13 @@ pub enum Key {
     MissingTokens,
     /// What to do with rows that miss a value.
     Missing,
+    /// Background knowledge: tiers, forbidden and required edges (a table; no flag).
+    Knowledge,
 }
 
 impl Key {
     /// Every key, in the order a study file documents them.
-    pub const ALL: [Key; 17] = [
+    pub const ALL: [Key; 18] = [
         Key::Targets,
         Key::Exclude,
         Key::Candidates,
@@ -59,6 +61,7 @@ impl Key {
         Key::DecimalComma,
         Key::MissingTokens,
         Key::Missing,
+        Key::Knowledge,
     ];
 
     /// The key in a study file or plan table.
@@ -81,6 +84,7 @@ impl Key {
             Key::DecimalComma => "decimal_comma",
             Key::MissingTokens => "missing_tokens",
             Key::Missing => "missing",
+            Key::Knowledge => "knowledge",
         }
     }
 
@@ -97,9 +101,19 @@ impl Key {
         }
     }
 
-    /// The command-line flag: `--stability-threshold`.
+    /// Whether the command line has a flag for this setting (knowledge comes from a study file
+    /// only).
+    pub fn has_flag(self) -> bool {
+        self != Key::Knowledge
+    }
+
+    /// The command-line flag: `--stability-threshold`; for knowledge, which has none, the study
+    /// file's table.
     pub fn flag(self) -> String {
-        format!("--{}", self.arg_id().replace('_', "-"))
+        match self.has_flag() {
+            true => format!("--{}", self.arg_id().replace('_', "-")),
+            false => format!("[{}]", self.name()),
+        }
     }
 }
 
