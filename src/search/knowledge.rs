@@ -480,14 +480,19 @@ pub fn apply(search: &ParentSearch, knowledge: &Knowledge) -> WithKnowledge {
             .collect(),
         _ => BTreeMap::new(),
     };
+    // Undecided members the knowledge does not rule out as causes.
+    let open: Vec<String> = edges
+        .iter()
+        .filter(|e| e.direction == Direction::Undecided)
+        .filter(|e| knowledge.forbids(&e.member, y).is_none())
+        .map(|e| e.member.clone())
+        .collect();
     let explanation = explain(
         y,
         search,
-        outcome,
-        &parent_sets,
-        &claims,
+        (outcome, &parent_sets, &claims),
         &conflicts,
-        &edges,
+        (&edges, &open),
     );
     WithKnowledge {
         outcome,
@@ -510,11 +515,9 @@ fn quoted(names: &[String]) -> String {
 fn explain(
     y: &str,
     search: &ParentSearch,
-    outcome: Outcome,
-    parent_sets: &[Vec<String>],
-    claims: &BTreeMap<String, Basis>,
+    (outcome, parent_sets, claims): (Outcome, &[Vec<String>], &BTreeMap<String, Basis>),
     conflicts: &[KnowledgeConflict],
-    edges: &[TargetEdge],
+    (edges, open): (&[TargetEdge], &[String]),
 ) -> String {
     match outcome {
         Outcome::Conflict if !conflicts.is_empty() => format!(
@@ -565,15 +568,13 @@ fn explain(
                     if known.len() == 1 { "it" } else { "each" }
                 ));
             }
-            let open = edges
-                .iter()
-                .filter(|e| e.direction == Direction::Undecided)
-                .count();
-            if open > 0 {
+            if !open.is_empty() {
                 text.push_str(&format!(
-                    " {open} further member{} of the Markov boundary could not be placed; if any is \
+                    " Whether {} {} directly linked with '{y}' is left open by the data; if {} \
                      a direct cause too, this set is incomplete.",
-                    if open == 1 { "" } else { "s" }
+                    quoted(open),
+                    if open.len() == 1 { "is" } else { "are" },
+                    if open.len() == 1 { "it is" } else { "any is" }
                 ));
             }
             text
