@@ -7,6 +7,7 @@ use super::drift::{sets, Change};
 use super::{Entry, Status, Summary};
 use crate::error::{Error, Result};
 use crate::report::html::CONTENT_SECURITY_POLICY;
+use crate::targets::TargetsSummary;
 use minijinja::value::Serde;
 use minijinja::{context, Environment, Value};
 use serde::Serialize;
@@ -42,6 +43,10 @@ struct Row {
     unstable: Vec<Change>,
     /// Percent-encoded folder path relative to the index (`study/target`).
     href: Option<String>,
+    /// MB(target) in selection order, as "{a, b}".
+    markov_boundary: String,
+    /// The first 12 hex digits of the result digest.
+    digest: Option<String>,
 }
 
 fn rows(summary: &Summary) -> Vec<Row> {
@@ -51,11 +56,19 @@ fn rows(summary: &Summary) -> Vec<Row> {
     };
     summary
         .entries()
-        .map(|(study, target, entry)| row(study, target, entry, [changes, unstable], summary))
+        .map(|(study, target, entry)| {
+            row(
+                study,
+                target,
+                entry,
+                [changes, unstable],
+                summary.drift.is_some(),
+            )
+        })
         .collect()
 }
 
-fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], summary: &Summary) -> Row {
+fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], compared: bool) -> Row {
     let failed = e.status == Status::Failed;
     let of_pair = |list: &[Change]| -> Vec<Change> {
         list.iter()
@@ -102,13 +115,15 @@ fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], summary: &Su
             .as_ref()
             .map(|d| d.content_sha256.chars().take(12).collect()),
         rows_used: e.data.as_ref().map(|d| d.rows_used),
-        compared: summary.drift.is_some(),
+        compared,
         changes: of_pair(lists[0]),
         unstable: of_pair(lists[1]),
         href: e
             .dossier
             .as_ref()
             .map(|d| d.split('/').map(url_segment).collect::<Vec<_>>().join("/")),
+        markov_boundary: format!("{{{}}}", e.markov_boundary.join(", ")),
+        digest: e.digest.as_ref().map(|d| d.chars().take(12).collect()),
     }
 }
 
@@ -169,16 +184,70 @@ pub fn render_html(summary: &Summary) -> Result<String> {
 }
 
 fn render(
-    mut env: Environment<'static>,
+    env: Environment<'static>,
     name: &'static str,
     template: &'static str,
     summary: &Summary,
 ) -> Result<String> {
+    render_page(env, name, template, page_context(summary))
+}
+
+fn render_page(
+    mut env: Environment<'static>,
+    name: &'static str,
+    template: &'static str,
+    context: Value,
+) -> Result<String> {
     env.add_template(name, template)
         .map_err(|e| Error::internal(format!("{name} template: {e}")))?;
     env.get_template(name)
-        .and_then(|t| t.render(page_context(summary)))
+        .and_then(|t| t.render(context))
         .map_err(|e| Error::internal(format!("cannot render {name}: {e:#}")))
+}
+
+const TARGETS_MARKDOWN_TEMPLATE: &str = include_str!("../../templates/targets-summary.md");
+const TARGETS_HTML_TEMPLATE: &str = include_str!("../../templates/targets-summary.html");
+
+/// The page of a study summary of several targets: the batch index's rows, one per target.
+fn targets_context(summary: &TargetsSummary) -> Value {
+    let rows: Vec<Row> = summary
+        .targets
+        .iter()
+        .map(|(target, entry)| row("", target, entry, [&[], &[]], false))
+        .collect();
+    context! {
+        data => summary.data.clone(),
+        tool => summary.tool.describe(),
+        totals => Value::from(Serde(&summary.totals)),
+        rows => Value::from(Serde(rows)),
+    }
+}
+
+/// `summary.md` of several targets analysed in one run.
+pub fn render_targets_markdown(summary: &TargetsSummary) -> Result<String> {
+    let mut env = Environment::new();
+    crate::report::markdown::markdown_environment(&mut env);
+    let text = render_page(
+        env,
+        "targets-summary.md",
+        TARGETS_MARKDOWN_TEMPLATE,
+        targets_context(summary),
+    )?;
+    Ok(format!("{}\n", text.trim_end()))
+}
+
+/// `summary.html` of several targets analysed in one run.
+pub fn render_targets_html(summary: &TargetsSummary) -> Result<String> {
+    let mut env = Environment::new();
+    crate::report::markdown::template_syntax(&mut env);
+    env.add_global("css", Value::from_safe_string(CSS.to_string()));
+    env.add_global("csp", CONTENT_SECURITY_POLICY);
+    render_page(
+        env,
+        "targets-summary.html",
+        TARGETS_HTML_TEMPLATE,
+        targets_context(summary),
+    )
 }
 
 #[cfg(test)]
