@@ -96,8 +96,7 @@ fn all_targets_writes_a_folder_per_column_and_a_summary_naming_each_digest() {
     let header = std::fs::read_to_string(&data).unwrap();
     let columns: Vec<&str> = header.lines().next().unwrap().split(',').collect();
     let summary: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap())
-            .unwrap();
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
     assert_eq!(summary["schema"], "forebear.targets/1");
     assert_eq!(summary["targets"].as_object().unwrap().len(), columns.len());
     let markdown = std::fs::read_to_string(out.join("summary.md")).unwrap();
@@ -106,7 +105,12 @@ fn all_targets_writes_a_folder_per_column_and_a_summary_naming_each_digest() {
         let result = result_json(&out.join(column));
         assert_eq!(summary["targets"][column]["digest"], result["digest"]);
         assert_eq!(summary["targets"][column]["dossier"], *column);
-        let short: String = result["digest"].as_str().unwrap().chars().take(12).collect();
+        let short: String = result["digest"]
+            .as_str()
+            .unwrap()
+            .chars()
+            .take(12)
+            .collect();
         assert!(markdown.contains(&short), "summary.md lists '{column}'");
         assert!(html.contains(&format!("{column}/dossier.html")));
     }
@@ -166,7 +170,10 @@ fn an_unknown_target_among_several_is_named_with_a_suggestion_and_nothing_is_wri
     assert_eq!(exit_code(&output), 2, "{}", lossy_stderr(&output));
     let message = lossy_stderr(&output);
     assert!(message.contains("'crush_strenght'"), "{message}");
-    assert!(message.contains("did you mean 'crush_strength'"), "{message}");
+    assert!(
+        message.contains("did you mean 'crush_strength'"),
+        "{message}"
+    );
     assert!(!out.exists());
     assert_eq!(scratch.entries(), vec!["filter_discs.csv"]);
 }
@@ -207,5 +214,39 @@ fn verify_passes_on_a_dossier_of_a_shared_run() {
             data.to_str().unwrap(),
         ]);
         assert_success(&output);
+    }
+}
+
+#[test]
+fn a_batch_study_of_several_targets_gives_each_the_digest_of_its_own_run() {
+    let scratch = Scratch::new("targets-batch");
+    let data = demo(&scratch);
+    let plan = scratch.write(
+        "plan.toml",
+        "[defaults]\nreplicates = 4\n\n[[study]]\nname = \"discs\"\ndata = \"filter_discs.csv\"\n\
+         targets = [\"pore_density\", \"crush_strength\", \"kiln_peak_temp\"]\n",
+    );
+    let out = scratch.path("nightly");
+    let output = run([
+        "batch",
+        plan.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_success(&output);
+    assert!(lossy_stderr(&output).contains("3 targets analysed together"));
+    for target in ["pore_density", "crush_strength", "kiln_peak_temp"] {
+        let alone = scratch.path(&format!("alone-{target}"));
+        assert_success(&analyze_into(
+            &data,
+            &alone,
+            &[target],
+            &["--replicates", "4"],
+        ));
+        assert_eq!(
+            without_run(&out.join("discs").join(target)),
+            without_run(&alone),
+            "'{target}'"
+        );
     }
 }
