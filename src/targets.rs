@@ -251,7 +251,7 @@ pub fn analyze_targets(
             .map(|s| s.markov_boundary.steps.as_slice())
             .collect();
         let group_records = replicates(&members, &traces, progress);
-        for ((&i, search), recs) in group.iter().zip(searches.clone()).zip(group_records) {
+        for ((&i, search), recs) in group.iter().zip(searches).zip(group_records) {
             fulls[i] = Some(search);
             records[i] = recs;
         }
