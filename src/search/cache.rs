@@ -192,7 +192,7 @@ mod tests {
         // x0 → x1 → x2, x3 noise: every selection has something to find.
         let key = Key::new("boundary-cache", 3).finish();
         let n = 300;
-        let mut noise = |c: u64| -> Vec<f64> {
+        let noise = |c: u64| -> Vec<f64> {
             let mut rng = key.stream(c);
             (0..n).map(|_| standard_normal(&mut rng)).collect()
         };
