@@ -7,21 +7,20 @@ use super::drift::{sets, Change};
 use super::{Entry, Status, Summary};
 use crate::error::{Error, Result};
 use crate::report::html::CONTENT_SECURITY_POLICY;
-use crate::targets::TargetsSummary;
 use minijinja::value::Serde;
 use minijinja::{context, Environment, Value};
 use serde::Serialize;
 
 const MARKDOWN_TEMPLATE: &str = include_str!("../../templates/batch-index.md");
 const HTML_TEMPLATE: &str = include_str!("../../templates/batch-index.html");
-const CSS: &str = concat!(
+pub(crate) const CSS: &str = concat!(
     include_str!("../../templates/palette.css"),
     include_str!("../../templates/batch-index.css")
 );
 
 /// One row of the index: a (study, target) pair.
 #[derive(Serialize)]
-struct Row {
+pub(crate) struct Row {
     study: String,
     target: String,
     failed: bool,
@@ -68,7 +67,13 @@ fn rows(summary: &Summary) -> Vec<Row> {
         .collect()
 }
 
-fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], compared: bool) -> Row {
+pub(crate) fn row(
+    study: &str,
+    target: &str,
+    e: &Entry,
+    lists: [&[Change]; 2],
+    compared: bool,
+) -> Row {
     let failed = e.status == Status::Failed;
     let of_pair = |list: &[Change]| -> Vec<Change> {
         list.iter()
@@ -192,7 +197,7 @@ fn render(
     render_page(env, name, template, page_context(summary))
 }
 
-fn render_page(
+pub(crate) fn render_page(
     mut env: Environment<'static>,
     name: &'static str,
     template: &'static str,
@@ -203,51 +208,6 @@ fn render_page(
     env.get_template(name)
         .and_then(|t| t.render(context))
         .map_err(|e| Error::internal(format!("cannot render {name}: {e:#}")))
-}
-
-const TARGETS_MARKDOWN_TEMPLATE: &str = include_str!("../../templates/targets-summary.md");
-const TARGETS_HTML_TEMPLATE: &str = include_str!("../../templates/targets-summary.html");
-
-/// The page of a study summary of several targets: the batch index's rows, one per target.
-fn targets_context(summary: &TargetsSummary) -> Value {
-    let rows: Vec<Row> = summary
-        .targets
-        .iter()
-        .map(|(target, entry)| row("", target, entry, [&[], &[]], false))
-        .collect();
-    context! {
-        data => summary.data.clone(),
-        tool => summary.tool.describe(),
-        totals => Value::from(Serde(&summary.totals)),
-        rows => Value::from(Serde(rows)),
-    }
-}
-
-/// `summary.md` of several targets analysed in one run.
-pub fn render_targets_markdown(summary: &TargetsSummary) -> Result<String> {
-    let mut env = Environment::new();
-    crate::report::markdown::markdown_environment(&mut env);
-    let text = render_page(
-        env,
-        "targets-summary.md",
-        TARGETS_MARKDOWN_TEMPLATE,
-        targets_context(summary),
-    )?;
-    Ok(format!("{}\n", text.trim_end()))
-}
-
-/// `summary.html` of several targets analysed in one run.
-pub fn render_targets_html(summary: &TargetsSummary) -> Result<String> {
-    let mut env = Environment::new();
-    crate::report::markdown::template_syntax(&mut env);
-    env.add_global("css", Value::from_safe_string(CSS.to_string()));
-    env.add_global("csp", CONTENT_SECURITY_POLICY);
-    render_page(
-        env,
-        "targets-summary.html",
-        TARGETS_HTML_TEMPLATE,
-        targets_context(summary),
-    )
 }
 
 #[cfg(test)]

@@ -16,7 +16,7 @@ use super::{
 use crate::analysis::{analyze_file, Progress, Silent};
 use crate::finding::{Analysed, Finding, ToolInfo};
 use crate::output::{Claim, Kind};
-use crate::targets::{analyze_targets, TargetChoice};
+use crate::targets::{analyze_targets, any_names, TargetChoice};
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
@@ -92,6 +92,7 @@ fn analyse_together(
             &study.data_path,
             &study.settings,
             &TargetChoice::Named(targets),
+            &any_names,
             command_line.to_vec(),
             &Silent,
         )

@@ -10,7 +10,8 @@ use crate::settings::{
     Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA, DEFAULT_PERMUTATIONS,
     DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA, DEFAULT_STABILITY_THRESHOLD,
 };
-use crate::targets::{write_targets, TargetChoice, TargetsRequest};
+use crate::targets::output::{write_targets, TargetsRequest};
+use crate::targets::TargetChoice;
 use clap::Args;
 use std::path::{Path, PathBuf};
 

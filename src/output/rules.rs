@@ -203,7 +203,7 @@ const TARGETS_SUMMARY: [&str; 2] = ["summary.md", "summary.html"];
 /// `forebear.targets/…`); every other entry must be a summary page or the dossier folder of a
 /// target it lists.
 fn examine_targets(dir: &Path, entries: Vec<String>) -> io::Result<Found> {
-    let Some((summary, identity)) = crate::targets::read_summary(dir) else {
+    let Some((summary, identity)) = crate::targets::output::read_summary(dir) else {
         return Ok(Found::Foreign(
             "holds files but no summary.json of several targets written by forebear".into(),
         ));

@@ -4,33 +4,34 @@
 //! computed once and shared (`search::cache`), on the full data and on every replicate. Each
 //! target's finding, digest included, is the one its single-target run gives.
 //!
-//! The output folder holds `DIR/<target>/`, each a complete dossier, and a study summary
-//! (`summary.json`, `summary.md`, `summary.html`), all written at once after every target has
-//! succeeded (`output::Staging`).
+//! Writing `DIR/<target>/` and the study summary is `output.rs`.
 
-use crate::analysis::{attach_stability, Prepared, Progress, Silent};
-use crate::batch::run::entry_of;
-use crate::batch::{Entry, Totals, SUMMARY_FILE};
+use crate::analysis::{attach_stability, Prepared, Progress};
 use crate::data::fingerprint::content_index;
 use crate::data::DataReader;
 use crate::error::{Error, Result};
-use crate::finding::{Analysed, Finding, ToolInfo};
-use crate::output::{fs_error, write_synced, Claim, Kind, Staging};
+use crate::finding::Analysed;
 use crate::resample::stability::run_replicate_shared;
 use crate::resample::ReplicateRecord;
 use crate::search::{local_parents_shared, Boundaries, ParentSearch, SearchData, TargetRequest};
-use crate::settings::{Key, SettingProblem, Settings, StudyFileRecord};
+use crate::settings::{Key, SettingProblem, Settings};
 use crate::study::Study;
 use crate::text::quoted;
 use rayon::prelude::*;
-use serde::{Deserialize, Serialize};
-use std::collections::BTreeMap;
 use std::path::Path;
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::sync::{Arc, Mutex};
 
-/// Layout version of the study summary of several targets.
-pub const TARGETS_SCHEMA: &str = "forebear.targets/1";
+pub mod output;
+
+/// A check of the target names, run before any search (the output's folder rules: an analysis
+/// into `DIR/<target>/` refuses a name that cannot be a folder; a batch has checked its plan).
+pub type NamesCheck = dyn Fn(&[String]) -> Result<()> + Sync;
+
+/// No check of the target names.
+pub fn any_names(_: &[String]) -> Result<()> {
+    Ok(())
+}
 
 /// Which targets a run analyses.
 #[derive(Clone, Debug)]
@@ -41,33 +42,6 @@ pub enum TargetChoice {
     All,
 }
 
-/// The study summary: one entry per target (the batch index's entries), a function of the
-/// findings only (no times, paths or command lines), like a batch's `summary.json`.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
-pub struct TargetsSummary {
-    /// Layout version, [`TARGETS_SCHEMA`].
-    pub schema: String,
-    /// The build that ran.
-    pub tool: ToolInfo,
-    /// The data file's name.
-    pub data: String,
-    /// Every target by name; `pair` is its position in the run, `dossier` its folder.
-    pub targets: BTreeMap<String, Entry>,
-    /// Counts (`pairs`: targets).
-    pub totals: Totals,
-}
-
-/// Why a target's name cannot be its dossier's folder name, if it cannot.
-pub fn folder_problem(target: &str) -> Option<String> {
-    if let Some(why) = crate::batch::rules::unsafe_name(target, false) {
-        return Some(why);
-    }
-    ["summary.json", "summary.md", "summary.html"]
-        .iter()
-        .any(|f| f.eq_ignore_ascii_case(target))
-        .then(|| "is the name of a file of the study summary".to_string())
-}
-
 /// Reads the file once and prepares every target as its own run would (the same table, report and
 /// study); targets whose tables are equal share one table. Every unknown target (and every other
 /// problem of the settings) is reported at once, before any row is read.
@@ -75,6 +49,7 @@ pub fn prepare_targets(
     path: &Path,
     settings: &Settings,
     choice: &TargetChoice,
+    names: &NamesCheck,
     progress: &dyn Progress,
 ) -> Result<Vec<Prepared>> {
     crate::data::names::check_data_path(path)?;
@@ -82,6 +57,7 @@ pub fn prepare_targets(
     let reader = DataReader::open(path, options)?;
     if let TargetChoice::Named(targets) = choice {
         check_named(settings, targets, reader.header())?;
+        names(targets)?;
     }
     let (raw, facts) = reader.read_rows()?;
     let targets = match choice {
@@ -89,7 +65,7 @@ pub fn prepare_targets(
         TargetChoice::All => every_target(settings, &raw, progress)?,
     };
     if let TargetChoice::All = choice {
-        check_folders(&targets)?;
+        names(&targets)?;
     }
     let content = content_index(&raw);
     let mut prepared: Vec<Prepared> = Vec::with_capacity(targets.len());
@@ -136,7 +112,7 @@ impl Said {
 }
 
 /// Every problem of the named targets against the header: unknown columns (with suggestions),
-/// targets named twice, names that cannot be folder names.
+/// targets named twice.
 fn check_named(
     settings: &Settings,
     targets: &[String],
@@ -163,23 +139,10 @@ fn check_named(
             Err(other) => return Err(other),
         }
     }
-    if !problems.is_empty() {
-        return Err(Error::Settings(problems));
+    match problems.is_empty() {
+        true => Ok(()),
+        false => Err(Error::Settings(problems)),
     }
-    check_folders(targets)
-}
-
-fn check_folders(targets: &[String]) -> Result<()> {
-    for target in targets {
-        if let Some(why) = folder_problem(target) {
-            return Err(Error::input(format!(
-                "the target {} cannot name its dossier's folder inside --out: it {why}; analyse \
-                 it alone (one --target writes its dossier into --out itself)",
-                quoted(target)
-            )));
-        }
-    }
-    Ok(())
 }
 
 /// `--all-targets`: every column not excluded that varies on the rows every target would use
@@ -237,10 +200,11 @@ pub fn analyze_targets(
     path: &Path,
     settings: &Settings,
     choice: &TargetChoice,
+    names: &NamesCheck,
     command_line: Vec<String>,
     progress: &dyn Progress,
 ) -> Result<Vec<Analysed>> {
-    let prepared = prepare_targets(path, settings, choice, progress)?;
+    let prepared = prepare_targets(path, settings, choice, names, progress)?;
     let mut fulls: Vec<Option<ParentSearch>> = vec![None; prepared.len()];
     let mut records: Vec<Vec<ReplicateRecord>> = vec![Vec::new(); prepared.len()];
     for group in groups(&prepared) {
@@ -365,109 +329,4 @@ fn replicates(
         }
     }
     by_target
-}
-
-/// Several targets to analyse into one output folder.
-pub struct TargetsRequest<'a> {
-    /// The data file.
-    pub data: &'a Path,
-    /// Checked settings (their targets are ignored: `choice` says which).
-    pub settings: &'a Settings,
-    /// The targets.
-    pub choice: TargetChoice,
-    /// The study file the settings came from, if any (recorded in each manifest).
-    pub study_file: Option<StudyFileRecord>,
-    /// The output folder.
-    pub out: &'a Path,
-    /// Replace a former output there.
-    pub force: bool,
-}
-
-/// Analyses every target into `DIR/<target>/` and writes the study summary; nothing appears in
-/// the output folder unless every target succeeded. Returns the findings in target order.
-pub fn write_targets(
-    request: &TargetsRequest<'_>,
-    command_line: Vec<String>,
-    progress: &dyn Progress,
-) -> Result<(Vec<Finding>, TargetsSummary)> {
-    if let TargetChoice::Named(targets) = &request.choice {
-        check_folders(targets)?;
-    }
-    let claim = Claim::take(request.out, Kind::Targets, request.force, progress)?;
-    let analysed = analyze_targets(
-        request.data,
-        request.settings,
-        &request.choice,
-        command_line,
-        progress,
-    )?;
-    let staging = Staging::new(claim)?;
-    let mut entries = BTreeMap::new();
-    let mut findings = Vec::with_capacity(analysed.len());
-    for (i, mut one) in analysed.into_iter().enumerate() {
-        one.finding.run.study_file = request.study_file.clone();
-        let target = one.finding.target.clone();
-        let folder = staging.path().join(&target);
-        let claim = Claim::take(&folder, Kind::Dossier, false, &Silent)?;
-        crate::report::write_dossier(&one, claim)?;
-        entries.insert(target.clone(), entry_of(&one.finding, i, target));
-        findings.push(one.finding);
-    }
-    let summary = summarise(request.data, entries);
-    write_summary(staging.path(), &summary)?;
-    staging.finish()?;
-    progress.say(&format!(
-        "wrote {}/ ({} dossiers, one folder per target, and summary.md, summary.html, summary.json)",
-        request.out.display(),
-        findings.len()
-    ));
-    Ok((findings, summary))
-}
-
-fn summarise(data: &Path, targets: BTreeMap<String, Entry>) -> TargetsSummary {
-    let totals = Totals {
-        pairs: targets.len(),
-        done: targets.len(),
-        ..Totals::default()
-    };
-    TargetsSummary {
-        schema: TARGETS_SCHEMA.into(),
-        tool: ToolInfo::current(),
-        data: data.file_name().map_or_else(
-            || data.display().to_string(),
-            |f| f.to_string_lossy().into_owned(),
-        ),
-        targets,
-        totals,
-    }
-}
-
-/// Writes `summary.json`, `summary.md` and `summary.html` into `dir`.
-pub fn write_summary(dir: &Path, summary: &TargetsSummary) -> Result<()> {
-    let json = serde_json::to_string_pretty(summary)
-        .map_err(|e| Error::internal(format!("study summary: {e}")))?;
-    let files = [
-        (SUMMARY_FILE, json + "\n"),
-        (
-            "summary.md",
-            crate::batch::index::render_targets_markdown(summary)?,
-        ),
-        (
-            "summary.html",
-            crate::batch::index::render_targets_html(summary)?,
-        ),
-    ];
-    for (name, text) in files {
-        let path = dir.join(name);
-        write_synced(&path, text.as_bytes()).map_err(|e| fs_error("write", &path, &e))?;
-    }
-    Ok(())
-}
-
-/// The study summary in `dir`, if forebear wrote one there, with the SHA-256 of its text.
-pub fn read_summary(dir: &Path) -> Option<(TargetsSummary, String)> {
-    let text = std::fs::read_to_string(dir.join(SUMMARY_FILE)).ok()?;
-    let summary: TargetsSummary = serde_json::from_str(&text).ok()?;
-    (summary.schema == TARGETS_SCHEMA)
-        .then(|| (summary, crate::data::fingerprint::sha256_text(&text)))
 }
