@@ -250,3 +250,44 @@ fn a_batch_study_of_several_targets_gives_each_the_digest_of_its_own_run() {
         );
     }
 }
+
+#[test]
+fn targets_with_candidates_each_keep_their_own_table_and_equal_their_own_runs() {
+    // With --candidates each target's table holds the target itself, so no two targets share a
+    // table; the run must still give each the finding of its own run.
+    let scratch = Scratch::new("targets-candidates");
+    let data = demo(&scratch);
+    assert_same_as_separate_runs(
+        &data,
+        &["pore_density", "crush_strength"],
+        &[
+            "--replicates",
+            "2",
+            "--candidates",
+            "kiln_peak_temp,binder_fraction,slurry_moisture,probe_gap",
+        ],
+        &scratch,
+    );
+}
+
+#[test]
+fn a_target_that_cannot_name_a_folder_is_refused_before_anything_is_written() {
+    let scratch = Scratch::new("targets-folder-name");
+    let text = std::fs::read_to_string(demo(&scratch)).unwrap();
+    let renamed = text.replacen("probe_gap", "summary.md", 1);
+    let data = scratch.write("renamed.csv", renamed);
+    let out = scratch.path("out");
+    let output = analyze_into(&data, &out, &["pore_density", "summary.md"], &[]);
+    assert_refused(&output, &["'summary.md'", "study summary"]);
+    assert!(!out.exists());
+    // --all-targets finds the same name in the file and refuses it the same way.
+    let all = run([
+        "analyze",
+        data.to_str().unwrap(),
+        "--all-targets",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_refused(&all, &["'summary.md'"]);
+    assert!(!out.exists());
+}
