@@ -16,6 +16,7 @@ use serde::{Deserialize, Serialize};
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU32, Ordering};
+use std::sync::Arc;
 use std::time::Instant;
 
 /// Where progress messages go.
@@ -33,8 +34,8 @@ impl Progress for Silent {
 
 /// A validated study on its validated table, ready to search.
 pub struct Prepared {
-    /// The table of used columns and rows.
-    pub table: Table,
+    /// The table of used columns and rows (shared by the targets of one run whose tables are equal).
+    pub table: Arc<Table>,
     /// What happened between the file and the table.
     pub report: DataReport,
     /// Validated settings.
@@ -88,6 +89,23 @@ pub fn prepare_read(
     assemble(path, raw, facts, checked, options, progress, started)
 }
 
+/// As [`prepare_read`], for one of several targets of one read file whose content index is
+/// already computed (`targets`); `checked` is what [`Study::new`] returned for the target.
+pub fn prepare_indexed(
+    path: &Path,
+    raw: RawTable,
+    facts: FileFacts,
+    content: ContentIndex,
+    checked: (Study, Vec<usize>, usize),
+    options: &crate::data::LoadOptions,
+    progress: &dyn Progress,
+) -> Result<Prepared> {
+    let started = (Instant::now(), crate::timefmt::now_rfc3339());
+    assemble_indexed(
+        path, raw, facts, content, checked, options, progress, started,
+    )
+}
+
 /// The validated table and settings of a read file.
 fn assemble(
     path: &Path,
@@ -99,6 +117,30 @@ fn assemble(
     (started, started_utc): (Instant, String),
 ) -> Result<Prepared> {
     let content = content_index(&raw);
+    assemble_indexed(
+        path,
+        raw,
+        facts,
+        content,
+        (study, used, target),
+        options,
+        progress,
+        (started, started_utc),
+    )
+}
+
+/// As [`assemble`], with the content index of `raw` already computed.
+#[allow(clippy::too_many_arguments)] // the parts of one read file; a struct would only rename them
+fn assemble_indexed(
+    path: &Path,
+    raw: RawTable,
+    facts: FileFacts,
+    content: ContentIndex,
+    (study, used, target): (Study, Vec<usize>, usize),
+    options: &crate::data::LoadOptions,
+    progress: &dyn Progress,
+    (started, started_utc): (Instant, String),
+) -> Result<Prepared> {
     let left_out = (0..raw.names.len())
         .filter(|j| !used.contains(j))
         .map(|j| raw.names[j].clone())
@@ -134,7 +176,7 @@ fn assemble(
         ..report
     };
     Ok(Prepared {
-        table,
+        table: Arc::new(table),
         report,
         study,
         data_path: path.display().to_string(),
@@ -170,16 +212,7 @@ impl Prepared {
             self.study.alpha,
             &self.study.selection,
         );
-        progress.say(&format!(
-            "'{}' on the full data: {} (Markov boundary: {})",
-            search.target,
-            search.outcome.name(),
-            if search.markov_boundary.selected.is_empty() {
-                "empty".to_string()
-            } else {
-                search.markov_boundary.selected.join(", ")
-            }
-        ));
+        progress.say(&full_data_line(&search));
         search
     }
 
@@ -249,6 +282,20 @@ impl Prepared {
             study_file: None,
         }
     }
+}
+
+/// The progress line of a full-data search: the target, its outcome and its Markov boundary.
+pub fn full_data_line(search: &ParentSearch) -> String {
+    format!(
+        "'{}' on the full data: {} (Markov boundary: {})",
+        search.target,
+        search.outcome.name(),
+        if search.markov_boundary.selected.is_empty() {
+            "empty".to_string()
+        } else {
+            search.markov_boundary.selected.join(", ")
+        }
+    )
 }
 
 /// Aggregates replicate records for a full-data finding and attaches them (recomputing the digest).

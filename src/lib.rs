@@ -25,6 +25,7 @@ pub mod rng;
 pub mod search;
 pub mod settings;
 pub mod study;
+pub mod targets;
 pub mod text;
 pub mod timefmt;
 pub mod verify;

@@ -31,5 +31,6 @@ mod reference_structures;
 mod resampling;
 mod search_simulated;
 mod structure;
+mod targets;
 mod verify;
 mod xi_scipy;

@@ -13,14 +13,14 @@ use serde::Serialize;
 
 const MARKDOWN_TEMPLATE: &str = include_str!("../../templates/batch-index.md");
 const HTML_TEMPLATE: &str = include_str!("../../templates/batch-index.html");
-const CSS: &str = concat!(
+pub(crate) const CSS: &str = concat!(
     include_str!("../../templates/palette.css"),
     include_str!("../../templates/batch-index.css")
 );
 
 /// One row of the index: a (study, target) pair.
 #[derive(Serialize)]
-struct Row {
+pub(crate) struct Row {
     study: String,
     target: String,
     failed: bool,
@@ -42,6 +42,10 @@ struct Row {
     unstable: Vec<Change>,
     /// Percent-encoded folder path relative to the index (`study/target`).
     href: Option<String>,
+    /// MB(target) in selection order, as "{a, b}".
+    markov_boundary: String,
+    /// The first 12 hex digits of the result digest.
+    digest: Option<String>,
 }
 
 fn rows(summary: &Summary) -> Vec<Row> {
@@ -51,11 +55,25 @@ fn rows(summary: &Summary) -> Vec<Row> {
     };
     summary
         .entries()
-        .map(|(study, target, entry)| row(study, target, entry, [changes, unstable], summary))
+        .map(|(study, target, entry)| {
+            row(
+                study,
+                target,
+                entry,
+                [changes, unstable],
+                summary.drift.is_some(),
+            )
+        })
         .collect()
 }
 
-fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], summary: &Summary) -> Row {
+pub(crate) fn row(
+    study: &str,
+    target: &str,
+    e: &Entry,
+    lists: [&[Change]; 2],
+    compared: bool,
+) -> Row {
     let failed = e.status == Status::Failed;
     let of_pair = |list: &[Change]| -> Vec<Change> {
         list.iter()
@@ -102,13 +120,15 @@ fn row(study: &str, target: &str, e: &Entry, lists: [&[Change]; 2], summary: &Su
             .as_ref()
             .map(|d| d.content_sha256.chars().take(12).collect()),
         rows_used: e.data.as_ref().map(|d| d.rows_used),
-        compared: summary.drift.is_some(),
+        compared,
         changes: of_pair(lists[0]),
         unstable: of_pair(lists[1]),
         href: e
             .dossier
             .as_ref()
             .map(|d| d.split('/').map(url_segment).collect::<Vec<_>>().join("/")),
+        markov_boundary: format!("{{{}}}", e.markov_boundary.join(", ")),
+        digest: e.digest.as_ref().map(|d| d.chars().take(12).collect()),
     }
 }
 
@@ -169,15 +189,24 @@ pub fn render_html(summary: &Summary) -> Result<String> {
 }
 
 fn render(
-    mut env: Environment<'static>,
+    env: Environment<'static>,
     name: &'static str,
     template: &'static str,
     summary: &Summary,
 ) -> Result<String> {
+    render_page(env, name, template, page_context(summary))
+}
+
+pub(crate) fn render_page(
+    mut env: Environment<'static>,
+    name: &'static str,
+    template: &'static str,
+    context: Value,
+) -> Result<String> {
     env.add_template(name, template)
         .map_err(|e| Error::internal(format!("{name} template: {e}")))?;
     env.get_template(name)
-        .and_then(|t| t.render(page_context(summary)))
+        .and_then(|t| t.render(context))
         .map_err(|e| Error::internal(format!("cannot render {name}: {e:#}")))
 }
 

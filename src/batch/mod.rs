@@ -21,7 +21,7 @@ pub mod index;
 pub mod outcome;
 pub mod output;
 pub mod plan;
-mod rules;
+pub mod rules;
 pub mod run;
 
 use crate::finding::ToolInfo;

@@ -3,16 +3,20 @@
 //!
 //! Pairs run one after another, each with all cores (the replicates and the neighbour searches
 //! inside one analysis are parallel already); see DEVELOPERS.md for the measurement behind this.
+//! The targets of one study are analysed together first (one reading of the data, boundaries
+//! shared: `targets`), which gives each the finding of its own run; their dossiers are then
+//! written pair by pair as before.
 
 use super::drift::{sets, Drift};
-use super::plan::{unusable_data, Pair, Plan, Shard};
+use super::plan::{unusable_data, Pair, Plan, PlannedStudy, Shard};
 use super::{
     Entry, EntryData, EntryStability, Failure, PlanRef, Status, StudySummary, Summary, Totals,
     BATCH_SCHEMA,
 };
 use crate::analysis::{analyze_file, Progress, Silent};
-use crate::finding::{Finding, ToolInfo};
+use crate::finding::{Analysed, Finding, ToolInfo};
 use crate::output::{Claim, Kind};
+use crate::targets::{analyze_targets, any_names, TargetChoice};
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
@@ -32,9 +36,13 @@ pub fn run_pairs(
         .filter(|p| shard.is_none_or(|s| s.holds(p.index)))
         .collect();
     let mut studies: BTreeMap<String, StudySummary> = BTreeMap::new();
+    let mut ready: BTreeMap<usize, Analysed> = BTreeMap::new();
     for (n, pair) in pairs.iter().enumerate() {
+        if n == 0 || pairs[n - 1].study.name != pair.study.name {
+            ready = analyse_together(&pairs, pair.study, command_line, progress);
+        }
         let started = Instant::now();
-        let (entry, full_error) = run_pair(pair, dir, command_line);
+        let (entry, full_error) = run_pair(pair, dir, command_line, ready.remove(&pair.index));
         let said = match &full_error {
             // The log gets the whole message; the index only its place (see `public_error`).
             Some(message) => format!("FAILED: {message}"),
@@ -58,6 +66,49 @@ pub fn run_pairs(
             .insert(pair.target.to_string(), entry);
     }
     studies
+}
+
+/// The targets of one study (those of this shard) analysed in one run that reads the data once and
+/// shares boundaries between them (`targets`), each finding equal to its own run's; by pair index.
+/// Nothing when the study has one target here, or when the shared run fails: then each pair runs
+/// alone and reports its own error, as before.
+fn analyse_together(
+    pairs: &[Pair],
+    study: &PlannedStudy,
+    command_line: &[String],
+    progress: &dyn Progress,
+) -> BTreeMap<usize, Analysed> {
+    let own: Vec<&Pair> = pairs
+        .iter()
+        .filter(|p| p.study.name == study.name)
+        .collect();
+    if own.len() < 2 {
+        return BTreeMap::new();
+    }
+    let started = Instant::now();
+    let targets = own.iter().map(|p| p.target.to_string()).collect();
+    let work = || {
+        analyze_targets(
+            &study.data_path,
+            &study.settings,
+            &TargetChoice::Named(targets),
+            &any_names,
+            command_line.to_vec(),
+            &Silent,
+        )
+    };
+    match std::panic::catch_unwind(std::panic::AssertUnwindSafe(work)) {
+        Ok(Ok(analysed)) => {
+            progress.say(&format!(
+                "{}: {} targets analysed together, boundaries shared ({:.1} s)",
+                study.name,
+                own.len(),
+                started.elapsed().as_secs_f64()
+            ));
+            own.iter().map(|p| p.index).zip(analysed).collect()
+        }
+        _ => BTreeMap::new(),
+    }
 }
 
 /// One line about an entry, for progress.
@@ -92,18 +143,26 @@ fn describe(entry: &Entry) -> String {
 /// Analyses one pair into `dir/<study>/<target>/`. A panic inside is a bug; it fails this pair
 /// only (the panic hook has printed it) and is recorded as an internal error. A failed analysis
 /// also returns its whole message, for stderr only.
-fn run_pair(pair: &Pair, dir: &Path, command_line: &[String]) -> (Entry, Option<String>) {
+fn run_pair(
+    pair: &Pair,
+    dir: &Path,
+    command_line: &[String],
+    ready: Option<Analysed>,
+) -> (Entry, Option<String>) {
     let relative = format!("{}/{}", pair.study.name, pair.target);
     let folder = dir.join(&pair.study.name).join(pair.target);
     let work = || -> std::result::Result<Finding, (crate::error::Error, bool)> {
-        let analysed = analyze_file(
-            &pair.study.data_path,
-            &pair.study.settings,
-            pair.target,
-            command_line.to_vec(),
-            &Silent,
-        )
-        .map_err(|e| (plan_named(e), true))?;
+        let analysed = match ready {
+            Some(analysed) => analysed,
+            None => analyze_file(
+                &pair.study.data_path,
+                &pair.study.settings,
+                pair.target,
+                command_line.to_vec(),
+                &Silent,
+            )
+            .map_err(|e| (plan_named(e), true))?,
+        };
         let claim = Claim::take(&folder, Kind::Dossier, false, &Silent).map_err(|e| (e, false))?;
         crate::report::write_dossier(&analysed, claim).map_err(|e| (e, false))?;
         Ok(analysed.finding)

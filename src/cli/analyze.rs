@@ -10,6 +10,8 @@ use crate::settings::{
     Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA, DEFAULT_PERMUTATIONS,
     DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA, DEFAULT_STABILITY_THRESHOLD,
 };
+use crate::targets::output::{write_targets, TargetsRequest};
+use crate::targets::TargetChoice;
 use clap::Args;
 use std::path::{Path, PathBuf};
 
@@ -20,8 +22,17 @@ pub struct AnalyzeArgs {
     /// The CSV file (header row, numeric columns).
     pub data: PathBuf,
     /// The outcome column whose direct causes are sought (or `targets` in the study file).
-    #[arg(long)]
-    pub target: Option<String>,
+    /// Repeat it to analyse several targets in one run: each gets a complete dossier in
+    /// DIR/<target>/ (the same as its own run with the same settings, digest included) and DIR
+    /// gets a study summary (summary.md, summary.html, summary.json); boundaries that several
+    /// targets need are computed once and shared.
+    #[arg(long, value_name = "COL")]
+    pub target: Vec<String>,
+    /// Analyse every column left after --exclude that varies on the rows used, as with one
+    /// --target per column (DIR/<target>/ each, and a study summary). Not with --target or
+    /// --candidates (every column is a target, so none can be limited to candidates).
+    #[arg(long, conflicts_with_all = ["target", "candidates"])]
+    pub all_targets: bool,
     /// A study file of settings (TOML; the keys are the flags' names with '_' for '-', as in
     /// examples/study.toml). Flags typed on the command line win over it.
     #[arg(long, value_name = "FILE")]
@@ -61,7 +72,8 @@ pub struct AnalyzeArgs {
     /// Most permutations per selection test (fewer when the decision is certain earlier).
     #[arg(long, default_value_t = DEFAULT_PERMUTATIONS)]
     pub permutations: u32,
-    /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`.
+    /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`. One
+    /// target only: run each target's range on its own.
     #[arg(long, value_name = "A..B", value_parser = parse_range)]
     pub replicate_range: Option<std::ops::Range<u32>>,
     /// Columns to leave out entirely (comma-separated).
@@ -85,7 +97,7 @@ impl AnalyzeArgs {
     pub fn given(&self, explicit: &[Key]) -> SettingsInput {
         let given = |key: Key| explicit.contains(&key);
         let mut input = SettingsInput {
-            targets: self.target.clone().map(|t| vec![t]),
+            targets: (!self.target.is_empty()).then(|| self.target.clone()),
             exclude: given(Key::Exclude).then(|| super::split_names(&self.exclude)),
             candidates: self.candidates.as_deref().map(super::split_names),
             seed: given(Key::Seed).then_some(self.seed),
@@ -124,7 +136,13 @@ pub fn run(
 ) -> Result<()> {
     let file = args.config.as_deref().map(StudyFile::read).transpose()?;
     let sources = Sources::new(args.given(explicit), file);
-    let settings = sources.check()?;
+    let settings = match args.all_targets {
+        true => sources.check_for_all_targets()?,
+        false => sources.check()?,
+    };
+    if args.all_targets || settings.targets().len() > 1 {
+        return run_several(&args, &settings, &sources, argv, progress);
+    }
     let target = settings.single_target().map_err(|e| sources.explain(e))?;
     let request = DossierRequest {
         data: &args.data,
@@ -141,6 +159,41 @@ pub fn run(
     }
     let finding = write_dossier(&request, argv, progress).map_err(|e| sources.explain(e))?;
     print_written(&finding, &args.out)
+}
+
+/// Several targets (`--target` repeated, `targets` in the study file, or `--all-targets`).
+fn run_several(
+    args: &AnalyzeArgs,
+    settings: &crate::settings::Settings,
+    sources: &Sources,
+    argv: Vec<String>,
+    progress: &dyn Progress,
+) -> Result<()> {
+    if args.replicate_range.is_some() {
+        return Err(crate::error::Error::input(
+            "--replicate-range computes part of one target's replicates; with several targets, \
+             run each target's range on its own (--target COL --replicate-range A..B)",
+        ));
+    }
+    let request = TargetsRequest {
+        data: &args.data,
+        settings,
+        choice: match args.all_targets {
+            true => TargetChoice::All,
+            false => TargetChoice::Named(settings.targets().to_vec()),
+        },
+        study_file: sources.study_file(),
+        out: &args.out,
+        force: args.force,
+    };
+    let (findings, _) = write_targets(&request, argv, progress).map_err(|e| sources.explain(e))?;
+    for finding in &findings {
+        print_written(finding, &args.out.join(&finding.target))?;
+    }
+    super::out::line(&format!(
+        "study summary: {}",
+        args.out.join("summary.md").display()
+    ))
 }
 
 /// The line `analyze` and `demo` print for a written dossier: target, outcome, where.

@@ -5,7 +5,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// Named numeric columns, each one contiguous vector (moved, not copied, from the reader).
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Table {
     names: Vec<String>,
     columns: Vec<Vec<f64>>,

@@ -105,6 +105,20 @@ pub fn max_statistic_test(
     key: &Key,
     plan: &TestPlan,
 ) -> PermutationTest {
+    max_statistic_tests(observed, blocks, key, plan).0
+}
+
+/// As [`max_statistic_test`], and with an exhaustive plan also the test that the same plan without
+/// `exhaustive` reports. Draw b is the same draw either way (keyed by b), so the test that stops
+/// early is the prefix of the exhaustive draws up to the ⌊α·B⌋ + 1-th exceedance; when there is no
+/// such draw, both make every draw and are equal. The decision is the same too (module docs: a
+/// stopped test has h/L > α, and its exhaustive twin has G ≥ h, so (G + 1)/(B + 1) > α).
+pub fn max_statistic_tests(
+    observed: &Observed,
+    blocks: Option<&Blocks>,
+    key: &Key,
+    plan: &TestPlan,
+) -> (PermutationTest, Option<PermutationTest>) {
     assert!(observed.denominator > 0, "a defined statistic");
     assert!(plan.max_permutations >= 1);
     let stop_after = plan.stop_after();
@@ -112,6 +126,8 @@ pub fn max_statistic_test(
     let mut draws: Vec<(i128, i128)> = Vec::new();
     let mut made = 0u32;
     let mut stopped = false;
+    // With an exhaustive plan: the draw count at which a plan that stops early would have stopped.
+    let mut would_stop_at: Option<u32> = None;
     while made < plan.max_permutations && !stopped {
         let batch: Vec<(i128, i128)> = (made..(made + BATCH).min(plan.max_permutations))
             .into_par_iter()
@@ -123,12 +139,19 @@ pub fn max_statistic_test(
                 exceedances += 1;
             }
             draws.push(draw);
-            if exceedances == stop_after && !plan.exhaustive {
-                stopped = true;
-                break;
+            if exceedances == stop_after {
+                if !plan.exhaustive {
+                    stopped = true;
+                    break;
+                }
+                would_stop_at.get_or_insert(made);
             }
         }
     }
+    let scheme = match blocks {
+        None => NullScheme::Permutation,
+        Some(_) => NullScheme::LocalPermutation,
+    };
     let p_value = if stopped {
         f64::from(exceedances) / f64::from(made)
     } else {
@@ -137,16 +160,24 @@ pub fn max_statistic_test(
     let critical_t_n = (!stopped && made == plan.max_permutations)
         .then(|| critical_value(observed, &mut draws, plan))
         .flatten();
-    PermutationTest {
+    let test = PermutationTest {
         p_value,
         permutations: made,
         exceedances,
-        scheme: match blocks {
-            None => NullScheme::Permutation,
-            Some(_) => NullScheme::LocalPermutation,
-        },
+        scheme,
         critical_t_n,
-    }
+    };
+    let early = plan.exhaustive.then(|| match would_stop_at {
+        Some(at) => PermutationTest {
+            p_value: f64::from(stop_after) / f64::from(at),
+            permutations: at,
+            exceedances: stop_after,
+            scheme,
+            critical_t_n: None,
+        },
+        None => test.clone(),
+    });
+    (test, early)
 }
 
 /// The largest numerator over the candidates in draw b, and the draw's denominator.

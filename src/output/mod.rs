@@ -91,6 +91,7 @@ fn resolve(dir: &Path, kind: Kind) -> Result<PathBuf> {
     let example = match kind {
         Kind::Dossier => "results",
         Kind::Batch => "nightly",
+        Kind::Targets => "study",
     };
     let no_name = |path: &Path| {
         Error::input(format!(

@@ -15,6 +15,8 @@ pub enum Kind {
     Dossier,
     /// A batch output: `summary.json`, the index, and a folder per study.
     Batch,
+    /// Several targets of one `analyze`: the study summary and a dossier folder per target.
+    Targets,
 }
 
 impl Kind {
@@ -23,6 +25,7 @@ impl Kind {
         match self {
             Kind::Dossier => "dossier",
             Kind::Batch => "batch",
+            Kind::Targets => "targets",
         }
     }
 }
@@ -92,6 +95,7 @@ pub fn examine(dir: &Path, kind: Kind) -> io::Result<Found> {
     Ok(match kind {
         Kind::Dossier => examine_dossier(dir, entries),
         Kind::Batch => examine_batch(dir, entries)?,
+        Kind::Targets => examine_targets(dir, entries)?,
     })
 }
 
@@ -101,7 +105,10 @@ pub fn examine_any(dir: &Path) -> io::Result<Found> {
     match examine(dir, Kind::Dossier)? {
         Found::Foreign(why) => match examine(dir, Kind::Batch)? {
             Found::Former(former) => Ok(Found::Former(former)),
-            _ => Ok(Found::Foreign(why)),
+            _ => match examine(dir, Kind::Targets)? {
+                Found::Former(former) => Ok(Found::Former(former)),
+                _ => Ok(Found::Foreign(why)),
+            },
         },
         found => Ok(found),
     }
@@ -189,6 +196,44 @@ fn examine_batch(dir: &Path, entries: Vec<String>) -> io::Result<Found> {
     }))
 }
 
+/// The files of a study summary of several targets besides `summary.json`.
+const TARGETS_SUMMARY: [&str; 2] = ["summary.md", "summary.html"];
+
+/// An output of several targets is recognised by its `summary.json` (schema
+/// `forebear.targets/…`); every other entry must be a summary page or the dossier folder of a
+/// target it lists.
+fn examine_targets(dir: &Path, entries: Vec<String>) -> io::Result<Found> {
+    let Some((summary, identity)) = crate::targets::output::read_summary(dir) else {
+        return Ok(Found::Foreign(
+            "holds files but no summary.json of several targets written by forebear".into(),
+        ));
+    };
+    for name in entries.iter().filter(|n| n.as_str() != SUMMARY_FILE) {
+        if TARGETS_SUMMARY.contains(&name.as_str()) {
+            continue;
+        }
+        let listed = summary
+            .targets
+            .values()
+            .any(|e| e.dossier.as_deref() == Some(name.as_str()));
+        let foreign = !listed
+            || matches!(
+                examine(&dir.join(name), Kind::Dossier)?,
+                Found::Foreign(_) | Found::NotFolder
+            );
+        if foreign {
+            return Ok(Found::Foreign(format!(
+                "holds '{name}', which is not a dossier the former summary lists"
+            )));
+        }
+    }
+    Ok(Found::Former(Former {
+        identity,
+        entries: entries.into_iter().filter(|n| n != SUMMARY_FILE).collect(),
+        proofs: vec![SUMMARY_FILE.to_string()],
+    }))
+}
+
 /// The text of `path` if it is a JSON file that forebear wrote (its `schema` names a forebear
 /// layout).
 fn forebear_json(path: &Path) -> Option<String> {
@@ -217,6 +262,7 @@ impl Found {
                 let what = match kind {
                     Kind::Dossier => "a forebear result",
                     Kind::Batch => "a forebear batch output",
+                    Kind::Targets => "a forebear output of several targets",
                 };
                 Err(Error::input(format!(
                     "the output folder '{dir}' already holds {what}; pass --force to replace it, \

@@ -5,7 +5,9 @@
 use super::plan::ResamplePlan;
 use crate::data::Table;
 use crate::measure::{Ratio, TargetRanks};
-use crate::search::{local_parents, Outcome, ParentSearch, SearchData, Step};
+use crate::search::{
+    local_parents_shared, Boundaries, Outcome, ParentSearch, SearchData, Step, TargetRequest,
+};
 use crate::study::Study;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -158,29 +160,60 @@ pub struct Headline {
 
 /// Runs replicate `k` of `plan` on `table` and condenses it into a record.
 pub fn run_replicate(table: &Table, study: &Study, k: u32, full_trace: &[Step]) -> ReplicateRecord {
-    let plan = &study.resampling;
-    let drawn = plan.rows(study.seed, k, table.n_rows());
+    run_replicate_shared(table, &[(study, full_trace)], k)
+        .pop()
+        .expect("one record per study")
+}
+
+/// Runs replicate `k` for several studies of one table (the same rows, settings and seed; each
+/// its own target and full-data trace), sharing every boundary between them: one record per
+/// study, each equal to [`run_replicate`] of that study alone. The replicate's rows depend on the
+/// seed, the replicate and the table's row count only, so they are drawn once.
+pub fn run_replicate_shared(
+    table: &Table,
+    studies: &[(&Study, &[Step])],
+    k: u32,
+) -> Vec<ReplicateRecord> {
+    let Some((first, _)) = studies.first() else {
+        return Vec::new();
+    };
+    let plan = &first.resampling;
+    let drawn = plan.rows(first.seed, k, table.n_rows());
     let sub = table.select_rows(&drawn.rows);
-    let mut data = SearchData::new(&sub, study.scaling, study.seed, u64::from(k) + 1);
+    let mut data = SearchData::new(&sub, first.scaling, first.seed, u64::from(k) + 1);
     if drawn.with_replacement {
         data = data.with_origins(drawn.rows.iter().map(|&r| r as u32).collect());
     }
-    let t = sub.index_of(&study.target).expect("target is a column");
-    let cand: Vec<usize> = study
-        .candidates
+    let requests: Vec<TargetRequest> = studies
         .iter()
-        .filter_map(|c| sub.index_of(c))
+        .map(|(study, _)| TargetRequest {
+            target: sub.index_of(&study.target).expect("target is a column"),
+            candidates: study
+                .candidates
+                .iter()
+                .filter_map(|c| sub.index_of(c))
+                .collect(),
+        })
         .collect();
-    let search = local_parents(&data, t, &cand, study.alpha, &study.selection);
-    let trace_values = trace_values_on(&data, t, full_trace);
-    let with_knowledge = study.used_knowledge().map(|knowledge| {
-        let read = crate::search::knowledge::apply(&search, &knowledge);
-        KnowledgeRecord {
-            outcome: read.outcome,
-            parent_sets: sorted_sets(&read.parent_sets),
-        }
-    });
-    record(k, drawn.rows.len(), &search, trace_values, with_knowledge)
+    let boundaries = Boundaries::new(&data, &first.selection);
+    let searches =
+        local_parents_shared(&data, &requests, first.alpha, &first.selection, &boundaries);
+    studies
+        .iter()
+        .zip(&requests)
+        .zip(&searches)
+        .map(|(((study, full_trace), request), search)| {
+            let trace_values = trace_values_on(&data, request.target, full_trace);
+            let with_knowledge = study.used_knowledge().map(|knowledge| {
+                let read = crate::search::knowledge::apply(search, &knowledge);
+                KnowledgeRecord {
+                    outcome: read.outcome,
+                    parent_sets: sorted_sets(&read.parent_sets),
+                }
+            });
+            record(k, drawn.rows.len(), search, trace_values, with_knowledge)
+        })
+        .collect()
 }
 
 fn trace_values_on(data: &SearchData, target: usize, full_trace: &[Step]) -> Vec<Option<f64>> {

@@ -9,7 +9,7 @@ use super::rule::SelectionRule;
 use super::shrink::{shrink, ShrinkTest};
 use super::SearchData;
 use crate::measure::neighbors::ConditioningSpace;
-use crate::measure::permutation::{max_statistic_test, Observed, PermutationTest};
+use crate::measure::permutation::{max_statistic_tests, Observed, PermutationTest};
 use crate::measure::TargetRanks;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -103,6 +103,9 @@ pub struct StepEvaluation {
     /// The test of the largest T_n: under the calibrated rule when it is positive, or always with
     /// `exhaustive`.
     pub test: Option<PermutationTest>,
+    /// With `exhaustive`: the test as the same step without `exhaustive` reports it (absent where
+    /// that step makes no test). Without `exhaustive`: `test` again.
+    pub early_test: Option<PermutationTest>,
 }
 
 /// Evaluates the candidates `remaining` given `selected` for `response`; `None` when the
@@ -154,7 +157,7 @@ pub fn evaluate_step(
     // Best first; equal numerators keep candidate order (stable sort).
     scored.sort_by_key(|&(_, numerator, _)| std::cmp::Reverse(numerator));
     let best_num = scored[0].1;
-    let test = (rule.is_calibrated() && (best_num > 0 || exhaustive)).then(|| {
+    let tests = (rule.is_calibrated() && (best_num > 0 || exhaustive)).then(|| {
         let observed = Observed {
             ranks,
             conditioning: conditioning.as_deref(),
@@ -166,17 +169,23 @@ pub fn evaluate_step(
             denominator,
         };
         let blocks = (!selected.is_empty()).then(|| data.permutation_blocks(selected));
-        max_statistic_test(
+        max_statistic_tests(
             &observed,
             blocks.as_ref(),
             &data.permutation_key(purpose, response, selected, None),
             &rule.test_plan(exhaustive),
         )
     });
+    let (test, early_test) = match tests {
+        None => (None, None),
+        Some((test, None)) => (Some(test.clone()), Some(test)),
+        Some((test, Some(early))) => (Some(test), (best_num > 0).then_some(early)),
+    };
     Some(StepEvaluation {
         denominator,
         scored: scored.into_iter().map(|(j, num, _)| (j, num)).collect(),
         test,
+        early_test,
     })
 }
 
@@ -190,6 +199,21 @@ pub fn forward_select(
     rule: &SelectionRule,
     exhaustive: bool,
 ) -> Selection {
+    forward_select_both(data, response, candidates, rule, exhaustive).0
+}
+
+/// As [`forward_select`], and with `exhaustive` also the selection that the same call without
+/// `exhaustive` returns, from the same work: the flag changes only how many draws the recorded
+/// tests make, never a decision (`measure::permutation::max_statistic_tests`), so the two
+/// selections take the same steps and differ only in the recorded tests of the forward phase.
+/// Without `exhaustive` the second is a copy of the first.
+pub fn forward_select_both(
+    data: &SearchData,
+    response: usize,
+    candidates: &[usize],
+    rule: &SelectionRule,
+    exhaustive: bool,
+) -> (Selection, Selection) {
     let ranks = TargetRanks::new(data.raw(response));
     let mut selected: Vec<usize> = Vec::new();
     let mut remaining: Vec<usize> = candidates
@@ -198,14 +222,16 @@ pub fn forward_select(
         .filter(|&j| j != response)
         .collect();
     let mut steps = Vec::new();
+    let mut early_steps = Vec::new();
     let name = |j: usize| data.name(j).to_string();
-    let stop = loop {
+    let (stop, early_stop) = loop {
         if remaining.is_empty() {
-            break if selected.is_empty() {
+            let stop = if selected.is_empty() {
                 StopReason::NoCandidates
             } else {
                 StopReason::CandidatesExhausted
             };
+            break (stop.clone(), stop);
         }
         let Some(evaluation) = evaluate_step(
             data,
@@ -217,12 +243,14 @@ pub fn forward_select(
             rule,
             exhaustive,
         ) else {
-            break StopReason::ResponseIsFunctionOfSelected;
+            let stop = StopReason::ResponseIsFunctionOfSelected;
+            break (stop.clone(), stop);
         };
         let StepEvaluation {
             denominator,
             scored,
             test,
+            early_test,
         } = evaluation;
         let value = |num: i128| num as f64 / denominator as f64;
         let (best, best_num) = scored[0];
@@ -232,7 +260,7 @@ pub fn forward_select(
         let positive = best_num > 0;
         let significant = test.as_ref().is_none_or(|t| t.p_value <= rule.alpha);
         let admitted = positive && significant;
-        steps.push(Step {
+        let step = Step {
             step: steps.len() + 1,
             conditioning: selected.iter().map(|&j| name(j)).collect(),
             denominator,
@@ -247,17 +275,24 @@ pub fn forward_select(
             chosen: admitted.then(|| name(best)),
             margin,
             test: test.clone(),
+        };
+        early_steps.push(Step {
+            test: early_test.clone(),
+            ..step.clone()
         });
+        steps.push(step);
         if !positive {
-            break StopReason::NoPositiveGain {
+            let stop = StopReason::NoPositiveGain {
                 best_t_n: value(best_num),
             };
+            break (stop.clone(), stop);
         }
         if !significant {
-            break StopReason::NotSignificant {
+            let stop = |test: Option<PermutationTest>| StopReason::NotSignificant {
                 best_t_n: value(best_num),
                 p_value: test.map_or(1.0, |t| t.p_value),
             };
+            break (stop(test), stop(early_test));
         }
         selected.push(best);
         remaining.retain(|&j| j != best);
@@ -266,14 +301,20 @@ pub fn forward_select(
         true => shrink(data, response, &ranks, &mut selected, rule),
         false => (Vec::new(), Vec::new()),
     };
-    Selection {
+    let selection = Selection {
         response: name(response),
         selected: selected.iter().map(|&j| name(j)).collect(),
         steps,
         stop,
         shrink,
         removed,
-    }
+    };
+    let early = Selection {
+        steps: early_steps,
+        stop: early_stop,
+        ..selection.clone()
+    };
+    (selection, early)
 }
 
 #[cfg(test)]

@@ -2,6 +2,7 @@
 //! Chatterjee 2021) and parent recovery from mutual Markov-boundary membership (Azadkia, Taeb and
 //! Bühlmann, arXiv:2111.14969).
 
+pub mod cache;
 pub mod collider;
 pub mod forward;
 mod independence;
@@ -11,8 +12,9 @@ pub mod rule;
 pub mod screening;
 pub mod shrink;
 
+pub use cache::{local_parents_shared, Boundaries, TargetRequest};
 pub use forward::{forward_select, Selection, Step, StopReason};
-pub use parents::{local_parents, Component, Outcome, PairTest, ParentSearch};
+pub use parents::{local_parents, local_parents_with, Component, Outcome, PairTest, ParentSearch};
 pub use rule::{SelectionRule, StoppingRule};
 
 use crate::data::Table;

@@ -5,8 +5,9 @@
 //! v-structure at Y). None passing: the parents are not identifiable. More than one: the assumptions
 //! fail and nothing is claimed.
 
+use super::cache::Boundaries;
 use super::collider::{collider_test, ColliderTest};
-use super::forward::{forward_select, Selection, StopReason};
+use super::forward::{Selection, StopReason};
 use super::independence::test_component;
 use super::rule::SelectionRule;
 use super::screening::{screening_check, ScreeningTest};
@@ -182,12 +183,33 @@ pub fn local_parents(
     alpha: f64,
     rule: &SelectionRule,
 ) -> ParentSearch {
-    let mb = forward_select(data, target, candidates, rule, true);
+    local_parents_with(
+        data,
+        target,
+        candidates,
+        alpha,
+        rule,
+        &Boundaries::new(data, rule),
+    )
+}
+
+/// As [`local_parents`], taking every forward selection from `boundaries` (computed there on first
+/// request): several targets searched on the same data share their boundaries, with the same
+/// result as searching each alone.
+pub fn local_parents_with(
+    data: &SearchData,
+    target: usize,
+    candidates: &[usize],
+    alpha: f64,
+    rule: &SelectionRule,
+    boundaries: &Boundaries,
+) -> ParentSearch {
+    let mb = Selection::clone(&boundaries.selection(data, target, candidates, rule, true));
     let members: Vec<usize> = mb.selected.iter().map(|n| position(data, n)).collect();
     let everything: Vec<usize> = (0..data.names().len()).collect();
     let member_selections: Vec<Selection> = members
         .par_iter()
-        .map(|&m| forward_select(data, m, &everything, rule, false))
+        .map(|&m| Selection::clone(&boundaries.selection(data, m, &everything, rule, false)))
         .collect();
     let boundary_sets: Vec<BTreeSet<&str>> = member_selections
         .iter()

@@ -107,9 +107,22 @@ impl Settings {
 impl SettingsInput {
     /// Applies every rule, fills defaults, and returns the checked settings or every problem.
     pub fn check(&self) -> Result<Settings, Vec<SettingProblem>> {
+        self.check_with(true)
+    }
+
+    /// As [`SettingsInput::check`]; without `targets_required` no target need be named (the
+    /// targets of `--all-targets` come from the data).
+    pub fn check_with(&self, targets_required: bool) -> Result<Settings, Vec<SettingProblem>> {
         let mut problems = Vec::new();
         let targets = self.targets.clone().unwrap_or_default();
         let exclude = self.exclude.clone().unwrap_or_default();
+        if targets.is_empty() && targets_required {
+            problems.push(
+                SettingProblem::about(Key::Targets)
+                    .text("no target column is named; name the outcome with ")
+                    .name(Key::Targets),
+            );
+        }
         roles(
             &targets,
             &exclude,
@@ -223,13 +236,6 @@ fn roles(
     candidates: Option<&[String]>,
     problems: &mut Vec<SettingProblem>,
 ) {
-    if targets.is_empty() {
-        problems.push(
-            SettingProblem::about(Key::Targets)
-                .text("no target column is named; name the outcome with ")
-                .name(Key::Targets),
-        );
-    }
     for target in targets {
         if exclude.contains(target) {
             problems.push(

@@ -88,12 +88,26 @@ impl Sources {
 
     /// The checked settings, or every problem, each named where its value came from.
     pub fn check(&self) -> Result<Settings> {
-        let input = match &self.file {
+        self.check_targets(true)
+    }
+
+    /// As [`Sources::check`] for `--all-targets`: the targets come from the data, so any named in
+    /// the study file are set aside and none is required.
+    pub fn check_for_all_targets(&self) -> Result<Settings> {
+        self.check_targets(false)
+    }
+
+    fn check_targets(&self, named: bool) -> Result<Settings> {
+        let mut input = match &self.file {
             Some(file) => self.flags.clone().over(&file.table.input),
             None => self.flags.clone(),
         };
+        if !named {
+            input.targets = None;
+        }
+        let checked = input.check_with(named);
         let unread = self.file.as_ref().map_or(&[][..], |f| &f.unread[..]);
-        match (input.check(), unread.is_empty()) {
+        match (checked, unread.is_empty()) {
             (Ok(settings), true) => Ok(settings),
             (Ok(_), false) => Err(self.explain_with(Vec::new())),
             (Err(problems), _) => Err(self.explain_with(problems)),
