@@ -13,18 +13,15 @@ use std::path::PathBuf;
 /// at y cannot give; the search for m identifies {p1, p2}, and y, linked with m but with neither
 /// of them, is then an effect of m: m → y, and y → c by the same rule.
 fn collider_above_csv(s: &Scratch) -> PathBuf {
-    let mut u = uniform_stream(0x2545_f491_4f6c_dd1d);
+    let mut u = uniform_stream(0x9e37_79b9_7f4a_7c15);
     let mut text = String::from("p1,p2,m,y,c,u\n");
     for _ in 0..1500 {
         let p1 = 4.0 * u() - 2.0;
         let p2 = 4.0 * u() - 2.0;
-        let m = (1.5 * p1).sin() + 0.5 * p2 * p2 + 0.3 * (u() - 0.5);
-        let y = m + 0.5 * m.tanh() + 0.3 * (u() - 0.5);
-        let c = (0.8 * y).cos() + 0.5 * y + 0.3 * (u() - 0.5);
-        text.push_str(&format!(
-            "{p1:.5},{p2:.5},{m:.5},{y:.5},{c:.5},{:.5}\n",
-            u()
-        ));
+        let m = p1 + p2.sin() * 2.0 + 0.8 * (u() - 0.5);
+        let y = m.tanh() + 0.8 * (u() - 0.5);
+        let c = y + 0.8 * (u() - 0.5);
+        text.push_str(&format!("{p1:.5},{p2:.5},{m:.5},{y:.5},{c:.5},{:.5}\n", u()));
     }
     s.write("collider-above.csv", text)
 }
