@@ -6,7 +6,7 @@ use crate::data::fingerprint::{content_index, ContentIndex};
 use crate::data::{DataReader, DataReport, RawTable, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Analysed, Finding, RunInfo};
-use crate::resample::stability::{aggregate, run_replicate};
+use crate::resample::stability::{aggregate, run_replicate, FullResults};
 use crate::resample::{ReplicateRecord, Stability};
 use crate::search::orient::through_neighbourhood;
 use crate::search::{local_parents, ParentSearch, SearchData};
@@ -266,15 +266,17 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
             finding.settings.stability_threshold,
             &finding.settings.candidates,
             &finding.trace,
-            (finding.outcome, &finding.parent_sets),
-            finding
-                .with_knowledge
-                .as_ref()
-                .map(|k| (k.outcome, k.parent_sets.as_slice())),
-            finding
-                .with_neighbourhood
-                .as_ref()
-                .map(|k| (k.outcome, k.parent_sets.as_slice())),
+            FullResults {
+                search: (finding.outcome, &finding.parent_sets),
+                with_knowledge: finding
+                    .with_knowledge
+                    .as_ref()
+                    .map(|k| (k.outcome, k.parent_sets.as_slice())),
+                with_neighbourhood: finding
+                    .with_neighbourhood
+                    .as_ref()
+                    .map(|k| (k.outcome, k.parent_sets.as_slice())),
+            },
             records,
         )
     });

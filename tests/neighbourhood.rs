@@ -21,7 +21,10 @@ fn collider_above_csv(s: &Scratch) -> PathBuf {
         let m = p1 + p2.sin() * 2.0 + 0.8 * (u() - 0.5);
         let y = m.tanh() + 0.8 * (u() - 0.5);
         let c = y + 0.8 * (u() - 0.5);
-        text.push_str(&format!("{p1:.5},{p2:.5},{m:.5},{y:.5},{c:.5},{:.5}\n", u()));
+        text.push_str(&format!(
+            "{p1:.5},{p2:.5},{m:.5},{y:.5},{c:.5},{:.5}\n",
+            u()
+        ));
     }
     s.write("collider-above.csv", text)
 }

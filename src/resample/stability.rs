@@ -268,6 +268,20 @@ fn record(
     rec
 }
 
+/// An outcome with its parent sets, as the full data gave it.
+pub type FullResult<'a> = (Outcome, &'a [Vec<String>]);
+
+/// The full-data results that replicates are compared with: the search's own, and its readings
+/// with the stated knowledge and through the neighbours' searches (each absent when not made).
+pub struct FullResults<'a> {
+    /// The search's own outcome and parent sets.
+    pub search: FullResult<'a>,
+    /// With the stated knowledge.
+    pub with_knowledge: Option<FullResult<'a>>,
+    /// Through the neighbours' searches.
+    pub with_neighbourhood: Option<FullResult<'a>>,
+}
+
 /// Aggregates replicate records (any order; sorted here by index) into stability statistics for
 /// the full-data trace, outcome and parent sets.
 pub fn aggregate(
@@ -275,11 +289,12 @@ pub fn aggregate(
     threshold: f64,
     candidates: &[String],
     full_trace: &[Step],
-    (full_outcome, full_parent_sets): (Outcome, &[Vec<String>]),
-    full_with_knowledge: Option<(Outcome, &[Vec<String>])>,
-    full_with_neighbourhood: Option<(Outcome, &[Vec<String>])>,
+    full: FullResults,
     records: &[ReplicateRecord],
 ) -> Stability {
+    let (full_outcome, full_parent_sets) = full.search;
+    let full_with_knowledge = full.with_knowledge;
+    let full_with_neighbourhood = full.with_neighbourhood;
     let mut records: Vec<&ReplicateRecord> = records.iter().collect();
     records.sort_by_key(|r| r.replicate);
     let n = records.len() as u32;
