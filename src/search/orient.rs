@@ -580,6 +580,53 @@ mod tests {
     }
 
     #[test]
+    fn one_level_further_out_orients_along_a_path() {
+        // q1 → q ← q2, q → m → y. The search for y sees m alone, and the search for m sees q and y
+        // alone (no v-structure at m); the search for q identifies {q1, q2}, which makes q → m
+        // (m's reading through its neighbours), and then q → m — y with q, y not linked gives
+        // m → y (Meek's first rule along the path).
+        let names = ["q1", "q2", "q", "m", "y"];
+        let table = simulate(&names, 2000, |rng| {
+            let q1 = unit_interval(rng) * 4.0 - 2.0;
+            let q2 = unit_interval(rng) * 4.0 - 2.0;
+            let q = q1 + q2.sin() * 2.0 + 0.8 * (unit_interval(rng) - 0.5);
+            let m = q + 1.6 * (unit_interval(rng) - 0.5);
+            let y = m.tanh() + 0.8 * (unit_interval(rng) - 0.5);
+            vec![q1, q2, q, m, y]
+        });
+        let data = SearchData::new(&table, Scaling::Rank, 1, 0);
+        let rule = SelectionRule::calibrated();
+        let searches: BTreeMap<String, ParentSearch> = (0..names.len())
+            .map(|t| {
+                let candidates: Vec<usize> = (0..names.len()).filter(|&j| j != t).collect();
+                (
+                    names[t].to_string(),
+                    local_parents(&data, t, &candidates, 0.05, &rule),
+                )
+            })
+            .collect();
+        let y = &searches["y"];
+        assert_eq!(y.outcome, Outcome::NotIdentifiable, "{}", y.explanation);
+        let first = orient(y, &searches);
+        assert_eq!(first.outcome, Outcome::NotIdentifiable, "{first:#?}");
+        let readings: BTreeMap<String, NeighbourhoodOrientation> = searches
+            .iter()
+            .map(|(name, s)| (name.clone(), orient(s, &searches)))
+            .collect();
+        assert_eq!(
+            readings["m"].parent_sets,
+            vec![vec!["q".to_string()]],
+            "{:#?}",
+            readings["m"]
+        );
+        let further = orient_further(y, &searches, &readings);
+        assert_eq!(further.outcome, Outcome::Identified, "{further:#?}");
+        assert_eq!(further.parent_sets, vec![vec!["m".to_string()]]);
+        assert!(further.member_searches["m"].through_neighbours);
+        assert!(edge(&further, "m").reason.contains("its own neighbours"));
+    }
+
+    #[test]
     fn two_causes_through_the_neighbourhood_are_a_conflict() {
         // Take the searches of the first graph and hand the search for m in as the search of c
         // too (renamed): both would then be causes of y without a v-structure at y.
