@@ -9,7 +9,11 @@
 //! cargo run --release --example recovery -- [--seed N] [--alpha A] [--nodes] [FILE.csv ...]
 //! ```
 //! Without files, every data set of `../shared/reference-data/sem/` is used. `--nodes` prints one
-//! line per target.
+//! line per target. `--orient` adds, per data set, the outcome with orientation through the
+//! neighbourhood (`forebear::search::orient`, reading the searches of the other columns, which this
+//! run makes anyway); `--tiers` the outcome with tiers taken from the published structure's
+//! topological order (`forebear::search::knowledge`, tier of a node = length of the longest
+//! directed path from a root to it). Either adds a table of the variants after the usual output.
 //!
 //! "Tree-shaped neighbourhood" is the condition of Azadkia, Taeb and Bühlmann (arXiv:2111.14969):
 //! no undirected cycle of the true graph's skeleton passes through the target. It is computed here
@@ -20,6 +24,8 @@
 
 use forebear::data::{read_data, LoadOptions, Table};
 use forebear::measure::Scaling;
+use forebear::search::knowledge::{self, Direction, Knowledge};
+use forebear::search::orient;
 use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
 use rayon::prelude::*;
 use std::collections::{BTreeMap, BTreeSet};
@@ -33,6 +39,8 @@ struct Settings {
     alpha: f64,
     rule: SelectionRule,
     per_node: bool,
+    orient: bool,
+    tiers: bool,
     files: Vec<PathBuf>,
 }
 
@@ -62,6 +70,8 @@ fn parse_arguments() -> Settings {
         alpha: 0.05,
         rule: SelectionRule::calibrated(),
         per_node: false,
+        orient: false,
+        tiers: false,
         files: Vec::new(),
     };
     let mut args = std::env::args().skip(1);
@@ -89,6 +99,8 @@ fn parse_arguments() -> Settings {
                 }
             }
             "--nodes" => settings.per_node = true,
+            "--orient" => settings.orient = true,
+            "--tiers" => settings.tiers = true,
             "--help" | "-h" => usage(""),
             _ if arg.starts_with("--") => usage(&format!("unknown flag {arg}")),
             _ => settings.files.push(PathBuf::from(arg)),
@@ -111,7 +123,7 @@ fn usage(problem: &str) -> ! {
     if !problem.is_empty() {
         eprintln!("{problem}");
     }
-    eprintln!("usage: cargo run --release --example recovery -- [--seed N] [--alpha A] [--rule calibrated|natural] [--nodes] [FILE.csv ...]");
+    eprintln!("usage: cargo run --release --example recovery -- [--seed N] [--alpha A] [--rule calibrated|natural] [--nodes] [--orient] [--tiers] [FILE.csv ...]");
     std::process::exit(2);
 }
 
@@ -385,6 +397,8 @@ fn run_data_set(path: &Path, settings: &Settings) -> Result<(), String> {
         })
         .collect();
     let seconds = started.elapsed().as_secs_f64();
+    let variants = (settings.orient || settings.tiers)
+        .then(|| variant_results(&searches, &truth.parents, settings));
     let results: Vec<NodeResult> = searches
         .into_iter()
         .map(|search| {
@@ -424,7 +438,223 @@ fn run_data_set(path: &Path, settings: &Settings) -> Result<(), String> {
     print_summary(&results);
     print_notable(&results);
     println!("  time: {seconds:.1} s for {} targets", results.len());
+    if let Some(variants) = variants {
+        print_variants(&results, &variants);
+    }
     Ok(())
+}
+
+/// One target's conclusion under a variant: outcome, claimed parents (identified only), and the
+/// directions it gave to members whose edge the data alone left open: (member, into target).
+struct VariantResult {
+    outcome: Outcome,
+    claimed: BTreeSet<String>,
+    oriented: Vec<(String, bool)>,
+}
+
+/// Tiers from the published structure: a node's tier is the length of the longest directed path
+/// from a root to it.
+fn topological_tiers(parents: &Graph) -> Knowledge {
+    fn depth(v: &str, parents: &Graph, memo: &mut BTreeMap<String, usize>) -> usize {
+        if let Some(&d) = memo.get(v) {
+            return d;
+        }
+        let d = parents[v]
+            .iter()
+            .map(|p| depth(p, parents, memo) + 1)
+            .max()
+            .unwrap_or(0);
+        memo.insert(v.to_string(), d);
+        d
+    }
+    let mut memo = BTreeMap::new();
+    let mut tiers: Vec<Vec<String>> = Vec::new();
+    for v in parents.keys() {
+        let d = depth(v, parents, &mut memo);
+        if tiers.len() <= d {
+            tiers.resize(d + 1, Vec::new());
+        }
+        tiers[d].push(v.clone());
+    }
+    Knowledge {
+        tiers,
+        ..Knowledge::default()
+    }
+}
+
+/// Per variant label, per target (column order): the conclusion with neighbourhood orientation
+/// and/or with tiers.
+fn variant_results(
+    searches: &[ParentSearch],
+    parents: &Graph,
+    settings: &Settings,
+) -> Vec<(&'static str, Vec<VariantResult>)> {
+    let undecided_singletons = |s: &ParentSearch| -> BTreeSet<String> {
+        match s.outcome {
+            Outcome::NotIdentifiable => orient::open_members(s).into_iter().collect(),
+            _ => BTreeSet::new(),
+        }
+    };
+    let read = |outcome: Outcome,
+                parent_sets: &[Vec<String>],
+                edges: &[knowledge::TargetEdge],
+                open: &BTreeSet<String>| VariantResult {
+        outcome,
+        claimed: match outcome {
+            Outcome::Identified => parent_sets.iter().flatten().cloned().collect(),
+            _ => BTreeSet::new(),
+        },
+        oriented: edges
+            .iter()
+            .filter(|e| open.contains(&e.member) && e.direction != Direction::Undecided)
+            .map(|e| (e.member.clone(), e.direction == Direction::IntoTarget))
+            .collect(),
+    };
+    let mut out = Vec::new();
+    if settings.orient {
+        let by_name: BTreeMap<String, ParentSearch> = searches
+            .iter()
+            .map(|s| (s.target.clone(), s.clone()))
+            .collect();
+        let first: Vec<orient::NeighbourhoodOrientation> = searches
+            .par_iter()
+            .map(|s| orient::orient(s, &by_name))
+            .collect();
+        let results = searches
+            .iter()
+            .zip(&first)
+            .map(|(s, o)| {
+                read(
+                    o.outcome,
+                    &o.parent_sets,
+                    &o.edges,
+                    &undecided_singletons(s),
+                )
+            })
+            .collect();
+        out.push(("+ neighbourhood orientation", results));
+        // One level further out: each member's own reading through its neighbours.
+        let readings: BTreeMap<String, orient::NeighbourhoodOrientation> = searches
+            .iter()
+            .map(|s| s.target.clone())
+            .zip(first)
+            .collect();
+        let results = searches
+            .par_iter()
+            .map(|s| {
+                let o = orient::orient_further(s, &by_name, &readings);
+                read(
+                    o.outcome,
+                    &o.parent_sets,
+                    &o.edges,
+                    &undecided_singletons(s),
+                )
+            })
+            .collect();
+        out.push(("+ neighbourhood orientation, two levels", results));
+    }
+    if settings.tiers {
+        let tiers = topological_tiers(parents);
+        let results = searches
+            .iter()
+            .map(|s| {
+                let k = knowledge::apply(s, &tiers);
+                read(
+                    k.outcome,
+                    &k.parent_sets,
+                    &k.edges,
+                    &undecided_singletons(s),
+                )
+            })
+            .collect();
+        out.push(("+ tiers (published order)", results));
+    }
+    out
+}
+
+/// The variants beside the data alone: identified, exact, wrong claims, conflicts, and how many
+/// open edges each variant directed and how many of those directions are wrong.
+fn print_variants(results: &[NodeResult], variants: &[(&'static str, Vec<VariantResult>)]) {
+    println!(
+        "\n| variant | targets | identified | exact | wrong claims (targets) | conflict | open edges directed | wrong directions |"
+    );
+    println!("|---|---|---|---|---|---|---|---|");
+    let data_alone: Vec<VariantResult> = results
+        .iter()
+        .map(|r| VariantResult {
+            outcome: r.outcome,
+            claimed: match r.outcome {
+                Outcome::Identified => r.claimed.clone(),
+                _ => BTreeSet::new(),
+            },
+            oriented: Vec::new(),
+        })
+        .collect();
+    let mut notes = Vec::new();
+    for (label, variant) in std::iter::once(&("data alone", data_alone)).chain(variants) {
+        let (mut identified, mut exact, mut wrong, mut wrong_nodes, mut conflict) = (0, 0, 0, 0, 0);
+        let (mut directed, mut wrong_directions) = (0, 0);
+        for (r, v) in results.iter().zip(variant) {
+            let wrong_here = v.claimed.difference(&r.parents).count();
+            identified += usize::from(v.outcome == Outcome::Identified);
+            exact += usize::from(v.outcome == Outcome::Identified && v.claimed == r.parents);
+            wrong += wrong_here;
+            wrong_nodes += usize::from(wrong_here > 0);
+            conflict += usize::from(v.outcome == Outcome::Conflict);
+            for (member, into) in &v.oriented {
+                directed += 1;
+                // A direction is wrong when the true graph has the edge the other way; an edge
+                // the true graph lacks is counted wrong too (the data's link is then wrong).
+                let right = match into {
+                    true => r.parents.contains(member),
+                    false => r.adjacent.contains(member) && !r.parents.contains(member),
+                };
+                if !right {
+                    wrong_directions += 1;
+                    notes.push(format!(
+                        "  {label}: {} {} '{}' wrongly (true parents {})",
+                        r.name,
+                        if *into {
+                            "takes as cause"
+                        } else {
+                            "takes as effect"
+                        },
+                        member,
+                        names(&r.parents)
+                    ));
+                }
+            }
+            if label != &"data alone"
+                && v.outcome == Outcome::Identified
+                && r.outcome != Outcome::Identified
+            {
+                notes.push(format!(
+                    "  {label}: {} newly identified: claimed {} vs true {}{}",
+                    r.name,
+                    names(&v.claimed),
+                    names(&r.parents),
+                    if wrong_here > 0 { " — WRONG" } else { "" }
+                ));
+            }
+            if label != &"data alone"
+                && v.outcome == Outcome::Conflict
+                && r.outcome != Outcome::Conflict
+            {
+                notes.push(format!(
+                    "  {label}: {} conflict (true parents {})",
+                    r.name,
+                    names(&r.parents)
+                ));
+            }
+        }
+        println!(
+            "| {label} | {} | {identified} | {exact} | {wrong} ({wrong_nodes} nodes) | {conflict} | {directed} | {wrong_directions} |",
+            results.len()
+        );
+    }
+    for n in notes {
+        println!("{n}");
+    }
 }
 
 fn names(set: &BTreeSet<String>) -> String {

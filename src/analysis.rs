@@ -6,8 +6,9 @@ use crate::data::fingerprint::{content_index, ContentIndex};
 use crate::data::{DataReader, DataReport, RawTable, Table};
 use crate::error::{Error, Result};
 use crate::finding::{Analysed, Finding, RunInfo};
-use crate::resample::stability::{aggregate, run_replicate};
+use crate::resample::stability::{aggregate, run_replicate, FullResults};
 use crate::resample::{ReplicateRecord, Stability};
+use crate::search::orient::through_neighbourhood;
 use crate::search::{local_parents, ParentSearch, SearchData};
 use crate::settings::Settings;
 use crate::study::Study;
@@ -262,12 +263,17 @@ impl Prepared {
 
     /// The full-data finding (no stability yet) with this invocation's run metadata.
     pub fn finding(&self, full: ParentSearch, command_line: Vec<String>) -> Finding {
+        let neighbourhood = self.study.neighbourhood_orientation.then(|| {
+            let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
+            through_neighbourhood(&data, &full, self.study.alpha, &self.study.selection)
+        });
         Finding::new(
             self.report.clone(),
             self.study.clone(),
             full,
             self.run_info(command_line),
         )
+        .with_neighbourhood(neighbourhood)
         .with_columns(&self.table)
     }
 
@@ -307,11 +313,17 @@ pub fn attach_stability(mut finding: Finding, records: &[ReplicateRecord]) -> Fi
             finding.settings.stability_threshold,
             &finding.settings.candidates,
             &finding.trace,
-            (finding.outcome, &finding.parent_sets),
-            finding
-                .with_knowledge
-                .as_ref()
-                .map(|k| (k.outcome, k.parent_sets.as_slice())),
+            FullResults {
+                search: (finding.outcome, &finding.parent_sets),
+                with_knowledge: finding
+                    .with_knowledge
+                    .as_ref()
+                    .map(|k| (k.outcome, k.parent_sets.as_slice())),
+                with_neighbourhood: finding
+                    .with_neighbourhood
+                    .as_ref()
+                    .map(|k| (k.outcome, k.parent_sets.as_slice())),
+            },
             records,
         )
     });

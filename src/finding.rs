@@ -4,6 +4,7 @@ use crate::data::DataReport;
 use crate::resample::Stability;
 use crate::search::collider::ColliderTest;
 use crate::search::knowledge::WithKnowledge;
+use crate::search::orient::NeighbourhoodOrientation;
 use crate::search::parents::Diagnostics;
 use crate::search::shrink::ShrinkTest;
 use crate::search::{Component, Outcome, ParentSearch, Selection, Step, StopReason};
@@ -183,6 +184,10 @@ pub struct Finding {
     /// The search read with the stated knowledge (absent without knowledge).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub with_knowledge: Option<WithKnowledge>,
+    /// The search read with the parent searches of its neighbours (setting
+    /// `neighbourhood_orientation`; absent when off).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_neighbourhood: Option<NeighbourhoodOrientation>,
     /// Resampling stability; `null` without resampling.
     pub stability: Option<Stability>,
     /// Run metadata (excluded from the digest).
@@ -218,12 +223,21 @@ impl Finding {
             explanation: search.explanation,
             diagnostics: search.diagnostics,
             with_knowledge,
+            with_neighbourhood: None,
             stability: None,
             run,
             digest: String::new(),
         };
         finding.digest = crate::digest::digest(&finding);
         finding
+    }
+
+    /// The finding with the search read through the neighbours' searches, if computed
+    /// (recomputing the digest).
+    pub fn with_neighbourhood(mut self, read: Option<NeighbourhoodOrientation>) -> Finding {
+        self.with_neighbourhood = read;
+        self.digest = crate::digest::digest(&self);
+        self
     }
 
     /// The finding with the profiles of the used columns (recomputing the digest).

@@ -42,6 +42,9 @@ pub fn reproduce_command(finding: &Finding) -> String {
             data.delimiter.flag_value().to_string(),
         ));
     }
+    if s.neighbourhood_orientation {
+        parts.push(Key::NeighbourhoodOrientation.flag());
+    }
     if data.decimal_comma {
         parts.push(Key::DecimalComma.flag());
     }

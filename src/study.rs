@@ -43,6 +43,10 @@ pub struct Study {
     /// stated, so results without knowledge keep their digests.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub knowledge: Option<Knowledge>,
+    /// Edges at the target oriented through the parent searches of its neighbours
+    /// (`search::orient`); off by default, and then absent, so results keep their digests.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub neighbourhood_orientation: bool,
 }
 
 impl Study {
@@ -133,6 +137,7 @@ impl Study {
             stability_threshold: settings.stability_threshold(),
             selection: settings.selection(),
             knowledge: settings.knowledge().cloned(),
+            neighbourhood_orientation: settings.neighbourhood_orientation(),
         };
         Ok((study, used, target_position))
     }
@@ -155,6 +160,7 @@ impl Study {
             stopping_rule: Some(self.selection.stopping_rule),
             selection_alpha: Some(self.selection.alpha),
             permutations: Some(self.selection.permutations),
+            neighbourhood_orientation: Some(self.neighbourhood_orientation),
             delimiter: Some(reader.delimiter),
             decimal_comma: Some(reader.decimal_comma),
             missing_tokens: Some(reader.missing_tokens.clone()),

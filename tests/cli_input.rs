@@ -1099,7 +1099,7 @@ fn every_problem_of_a_study_file_and_the_flags_is_reported_at_once_where_it_was_
         [
             format!("forebear: error: {file}:2:1: alpha 1.5 is not a level: it must lie strictly between 0 and 1"),
             format!("forebear: error: {file}:3:11: scaling: unknown variant `ranked`, expected one of `rank`, `standardize`, `none`"),
-            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, delimiter, decimal_comma, missing_tokens, missing, knowledge"),
+            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, neighbourhood_orientation, delimiter, decimal_comma, missing_tokens, missing, knowledge"),
             format!("forebear: error: {file}:5:1: replicates 7: complementary pairs come in twos (two halves per split), so the number of replicates must be even; use 6 or 8"),
             format!("forebear: error: {file}:6:1: the target 'crush_strength' cannot also be excluded; remove it from exclude"),
             "forebear: error: --stability-threshold 0.4 is outside (0.5, 1]: the error bound of Meinshausen and Bühlmann (2010) needs a threshold above one half".to_string(),

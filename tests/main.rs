@@ -22,6 +22,7 @@ mod knowledge;
 mod method_version;
 mod names;
 mod neighbors_exact;
+mod neighbourhood;
 mod read_once;
 mod reader_limits;
 mod reader_messages;

@@ -72,6 +72,10 @@ pub struct AnalyzeArgs {
     /// Most permutations per selection test (fewer when the decision is certain earlier).
     #[arg(long, default_value_t = DEFAULT_PERMUTATIONS)]
     pub permutations: u32,
+    /// Orient edges at the target through the parent searches of its neighbours (Meek's first
+    /// rule on a v-structure found at a neighbour); off by default.
+    #[arg(long)]
+    pub neighbourhood_orientation: bool,
     /// Compute only replicates a..b (0-based, half-open) into DIR/partial.json, for `merge`. One
     /// target only: run each target's range on its own.
     #[arg(long, value_name = "A..B", value_parser = parse_range)]
@@ -110,6 +114,8 @@ impl AnalyzeArgs {
             stopping_rule: given(Key::StoppingRule).then_some(self.stopping_rule),
             selection_alpha: given(Key::SelectionAlpha).then_some(self.selection_alpha),
             permutations: given(Key::Permutations).then_some(self.permutations),
+            neighbourhood_orientation: given(Key::NeighbourhoodOrientation)
+                .then_some(self.neighbourhood_orientation),
             ..SettingsInput::default()
         };
         self.reader.give(&mut input, explicit);

@@ -31,6 +31,10 @@ pub struct ReplicateRecord {
     /// The replicate's result read with the stated knowledge (absent without knowledge).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub with_knowledge: Option<KnowledgeRecord>,
+    /// The replicate's result read through its neighbours' searches (setting
+    /// `neighbourhood_orientation`; absent when off).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_neighbourhood: Option<KnowledgeRecord>,
     /// SHA-256 of the canonical JSON of the fields above.
     pub digest: String,
 }
@@ -136,6 +140,10 @@ pub struct Stability {
     /// The result read with the stated knowledge, across replicates (absent without knowledge).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub with_knowledge: Option<KnowledgeStability>,
+    /// The result read through the neighbours' searches, across replicates (absent when the
+    /// setting is off).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_neighbourhood: Option<KnowledgeStability>,
     /// Digest of every replicate record, by replicate index.
     pub replicate_digests: Vec<String>,
     /// Every replicate record, by replicate index, so that a re-run can name the first field of a
@@ -211,7 +219,25 @@ pub fn run_replicate_shared(
                     parent_sets: sorted_sets(&read.parent_sets),
                 }
             });
-            record(k, drawn.rows.len(), search, trace_values, with_knowledge)
+            let with_neighbourhood = study.neighbourhood_orientation.then(|| {
+                let read = crate::search::orient::through_neighbourhood(
+                    &data,
+                    search,
+                    study.alpha,
+                    &study.selection,
+                );
+                KnowledgeRecord {
+                    outcome: read.outcome,
+                    parent_sets: sorted_sets(&read.parent_sets),
+                }
+            });
+            let mut rec = record(k, drawn.rows.len(), search, trace_values, with_knowledge);
+            if with_neighbourhood.is_some() {
+                rec.with_neighbourhood = with_neighbourhood;
+                rec.digest = String::new();
+                rec.digest = crate::digest::digest(&rec);
+            }
+            rec
         })
         .collect()
 }
@@ -268,10 +294,25 @@ fn record(
         parent_sets: sorted_sets(&search.parent_sets),
         trace_values,
         with_knowledge,
+        with_neighbourhood: None,
         digest: String::new(),
     };
     rec.digest = crate::digest::digest(&rec);
     rec
+}
+
+/// An outcome with its parent sets, as the full data gave it.
+pub type FullResult<'a> = (Outcome, &'a [Vec<String>]);
+
+/// The full-data results that replicates are compared with: the search's own, and its readings
+/// with the stated knowledge and through the neighbours' searches (each absent when not made).
+pub struct FullResults<'a> {
+    /// The search's own outcome and parent sets.
+    pub search: FullResult<'a>,
+    /// With the stated knowledge.
+    pub with_knowledge: Option<FullResult<'a>>,
+    /// Through the neighbours' searches.
+    pub with_neighbourhood: Option<FullResult<'a>>,
 }
 
 /// Aggregates replicate records (any order; sorted here by index) into stability statistics for
@@ -281,10 +322,12 @@ pub fn aggregate(
     threshold: f64,
     candidates: &[String],
     full_trace: &[Step],
-    (full_outcome, full_parent_sets): (Outcome, &[Vec<String>]),
-    full_with_knowledge: Option<(Outcome, &[Vec<String>])>,
+    full: FullResults,
     records: &[ReplicateRecord],
 ) -> Stability {
+    let (full_outcome, full_parent_sets) = full.search;
+    let full_with_knowledge = full.with_knowledge;
+    let full_with_neighbourhood = full.with_neighbourhood;
     let mut records: Vec<&ReplicateRecord> = records.iter().collect();
     records.sort_by_key(|r| r.replicate);
     let n = records.len() as u32;
@@ -373,9 +416,18 @@ pub fn aggregate(
             .collect();
         knowledge_stability(&results, n, threshold, outcome, sets)
     });
+    let with_neighbourhood = full_with_neighbourhood.map(|(outcome, sets)| {
+        let results: Vec<(Outcome, &[Vec<String>])> = records
+            .iter()
+            .filter_map(|r| r.with_neighbourhood.as_ref())
+            .map(|k| (k.outcome, k.parent_sets.as_slice()))
+            .collect();
+        knowledge_stability(&results, n, threshold, outcome, sets)
+    });
     Stability {
         headline,
         with_knowledge,
+        with_neighbourhood,
         plan: plan.clone(),
         replicates: n,
         threshold,

@@ -244,6 +244,9 @@ pub enum Basis {
     Data,
     /// The data (the link) plus stated knowledge (its direction).
     DataAndKnowledge,
+    /// The data alone, the direction through the parent searches of the target's neighbours
+    /// (`search::orient`).
+    DataNeighbourhood,
 }
 
 impl Basis {
@@ -252,6 +255,7 @@ impl Basis {
         match self {
             Basis::Data => "data alone",
             Basis::DataAndKnowledge => "data + stated knowledge",
+            Basis::DataNeighbourhood => "data alone, through the neighbours' searches",
         }
     }
 }

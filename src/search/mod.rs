@@ -7,6 +7,7 @@ pub mod collider;
 pub mod forward;
 mod independence;
 pub mod knowledge;
+pub mod orient;
 pub mod parents;
 pub mod rule;
 pub mod screening;

@@ -27,6 +27,7 @@ pub struct Settings {
     resampling: ResamplePlan,
     stability_threshold: f64,
     selection: SelectionRule,
+    neighbourhood_orientation: bool,
     reader: LoadOptions,
     knowledge: Option<Knowledge>,
 }
@@ -75,6 +76,11 @@ impl Settings {
     /// How forward selections decide.
     pub fn selection(&self) -> SelectionRule {
         self.selection
+    }
+
+    /// Whether edges at the target are oriented through the neighbours' parent searches.
+    pub fn neighbourhood_orientation(&self) -> bool {
+        self.neighbourhood_orientation
     }
 
     /// How the data file is read.
@@ -169,6 +175,7 @@ impl SettingsInput {
             resampling: ResamplePlan::new(kind, count, self.fraction),
             stability_threshold,
             selection,
+            neighbourhood_orientation: self.neighbourhood_orientation.unwrap_or(false),
             reader,
             knowledge,
         })

@@ -41,6 +41,9 @@ pub struct SettingsInput {
     pub selection_alpha: Option<f64>,
     /// Most null draws per selection test.
     pub permutations: Option<u32>,
+    /// Orient edges at the target through the parent searches of its neighbours
+    /// (`search::orient`; off by default).
+    pub neighbourhood_orientation: Option<bool>,
     /// The character between values.
     pub delimiter: Option<Delimiter>,
     /// Read decimal commas.
@@ -79,6 +82,9 @@ impl SettingsInput {
             stopping_rule: self.stopping_rule.or(b.stopping_rule),
             selection_alpha: self.selection_alpha.or(b.selection_alpha),
             permutations: self.permutations.or(b.permutations),
+            neighbourhood_orientation: self
+                .neighbourhood_orientation
+                .or(b.neighbourhood_orientation),
             delimiter: self.delimiter.or(b.delimiter),
             decimal_comma: self.decimal_comma.or(b.decimal_comma),
             missing_tokens: self.missing_tokens.or(b.missing_tokens),
@@ -103,6 +109,7 @@ impl SettingsInput {
             Key::StoppingRule => self.stopping_rule = None,
             Key::SelectionAlpha => self.selection_alpha = None,
             Key::Permutations => self.permutations = None,
+            Key::NeighbourhoodOrientation => self.neighbourhood_orientation = None,
             Key::Delimiter => self.delimiter = None,
             Key::DecimalComma => self.decimal_comma = None,
             Key::MissingTokens => self.missing_tokens = None,
@@ -128,6 +135,7 @@ impl SettingsInput {
             Key::StoppingRule => self.stopping_rule.is_some(),
             Key::SelectionAlpha => self.selection_alpha.is_some(),
             Key::Permutations => self.permutations.is_some(),
+            Key::NeighbourhoodOrientation => self.neighbourhood_orientation.is_some(),
             Key::Delimiter => self.delimiter.is_some(),
             Key::DecimalComma => self.decimal_comma.is_some(),
             Key::MissingTokens => self.missing_tokens.is_some(),

@@ -29,6 +29,8 @@ pub enum Key {
     SelectionAlpha,
     /// Most draws per selection test.
     Permutations,
+    /// Orient edges at the target through the parent searches of its neighbours.
+    NeighbourhoodOrientation,
     /// The character between values.
     Delimiter,
     /// Decimal commas.
@@ -43,7 +45,7 @@ pub enum Key {
 
 impl Key {
     /// Every key, in the order a study file documents them.
-    pub const ALL: [Key; 18] = [
+    pub const ALL: [Key; 19] = [
         Key::Targets,
         Key::Exclude,
         Key::Candidates,
@@ -57,6 +59,7 @@ impl Key {
         Key::StoppingRule,
         Key::SelectionAlpha,
         Key::Permutations,
+        Key::NeighbourhoodOrientation,
         Key::Delimiter,
         Key::DecimalComma,
         Key::MissingTokens,
@@ -80,6 +83,7 @@ impl Key {
             Key::StoppingRule => "stopping_rule",
             Key::SelectionAlpha => "selection_alpha",
             Key::Permutations => "permutations",
+            Key::NeighbourhoodOrientation => "neighbourhood_orientation",
             Key::Delimiter => "delimiter",
             Key::DecimalComma => "decimal_comma",
             Key::MissingTokens => "missing_tokens",
