@@ -263,10 +263,15 @@ impl Prepared {
 
     /// The full-data finding (no stability yet) with this invocation's run metadata.
     pub fn finding(&self, full: ParentSearch, command_line: Vec<String>) -> Finding {
-        let neighbourhood = self.study.neighbourhood_orientation.then(|| {
-            let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
-            through_neighbourhood(&data, &full, self.study.alpha, &self.study.selection)
-        });
+        let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
+        let neighbourhood = self
+            .study
+            .neighbourhood_orientation
+            .then(|| through_neighbourhood(&data, &full, self.study.alpha, &self.study.selection));
+        let knowledge = self
+            .study
+            .used_knowledge()
+            .map(|k| crate::search::knowledge::read(&data, &full, &k, &self.study.selection));
         Finding::new(
             self.report.clone(),
             self.study.clone(),
@@ -274,6 +279,7 @@ impl Prepared {
             self.run_info(command_line),
         )
         .with_neighbourhood(neighbourhood)
+        .with_knowledge(knowledge)
         .with_columns(&self.table)
     }
 

@@ -199,9 +199,6 @@ pub struct Finding {
 impl Finding {
     /// Assembles a finding and computes its digest.
     pub fn new(data: DataReport, settings: Study, search: ParentSearch, run: RunInfo) -> Finding {
-        let with_knowledge = settings
-            .used_knowledge()
-            .map(|k| crate::search::knowledge::apply(&search, &k));
         let mut finding = Finding {
             schema: SCHEMA.into(),
             tool: ToolInfo::current(),
@@ -222,7 +219,7 @@ impl Finding {
             parent_sets: search.parent_sets,
             explanation: search.explanation,
             diagnostics: search.diagnostics,
-            with_knowledge,
+            with_knowledge: None,
             with_neighbourhood: None,
             stability: None,
             run,
@@ -230,6 +227,14 @@ impl Finding {
         };
         finding.digest = crate::digest::digest(&finding);
         finding
+    }
+
+    /// The finding with the search read with the stated knowledge, if any (recomputing the
+    /// digest).
+    pub fn with_knowledge(mut self, read: Option<WithKnowledge>) -> Finding {
+        self.with_knowledge = read;
+        self.digest = crate::digest::digest(&self);
+        self
     }
 
     /// The finding with the search read through the neighbours' searches, if computed

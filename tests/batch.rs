@@ -762,6 +762,7 @@ fn entry(
         }),
         digest: Some("c".repeat(64)),
         dossier: Some("line-a/crush_strength".into()),
+        with_knowledge: None,
     }
 }
 

@@ -296,6 +296,14 @@ fn a_batch_plan_takes_the_same_knowledge_table_per_study() {
         r["with_knowledge"]["claims"],
         serde_json::json!({"binder_fraction": "data_and_knowledge"})
     );
+    let index = std::fs::read_to_string(out.join("index.md")).unwrap();
+    assert!(
+        index.contains(concat!(
+            r"not\_identifiable; with knowledge: ",
+            r"identified \{binder\_fraction\} (binder\_fraction on knowledge)"
+        )),
+        "{index}"
+    );
 
     // A misspelt column in a study's knowledge is found by `batch --check`.
     let plan = s.write(

@@ -291,3 +291,25 @@ fn a_target_that_cannot_name_a_folder_is_refused_before_anything_is_written() {
     assert_refused(&all, &["'summary.md'"]);
     assert!(!out.exists());
 }
+
+#[test]
+fn several_targets_read_with_knowledge_equal_their_single_target_runs() {
+    // The knowledge (a study file) and the screening check it brings run per target on shared
+    // boundaries, on the full data and every replicate.
+    let scratch = Scratch::new("targets-knowledge");
+    let data = demo(&scratch);
+    let config = scratch.write(
+        "tiers.toml",
+        "[knowledge]\ntiers = [[\"binder_fraction\", \"kiln_peak_temp\", \"probe_gap\"], \
+         [\"pore_density\"], [\"crush_strength\"], [\"echo_amplitude\"]]\n",
+    );
+    let config = config.display().to_string();
+    assert_same_as_separate_runs(
+        &data,
+        &["pore_density", "crush_strength", "echo_amplitude"],
+        &["--replicates", "4", "--config", &config],
+        &scratch,
+    );
+    let pores = result_json(&scratch.path("shared").join("pore_density"));
+    assert_eq!(pores["with_knowledge"]["outcome"], "identified");
+}

@@ -46,6 +46,8 @@ pub(crate) struct Row {
     markov_boundary: String,
     /// The first 12 hex digits of the result digest.
     digest: Option<String>,
+    /// The result with the stated knowledge, as "identified {b} (b on knowledge)".
+    with_knowledge: Option<String>,
 }
 
 fn rows(summary: &Summary) -> Vec<Row> {
@@ -129,6 +131,13 @@ pub(crate) fn row(
             .map(|d| d.split('/').map(url_segment).collect::<Vec<_>>().join("/")),
         markov_boundary: format!("{{{}}}", e.markov_boundary.join(", ")),
         digest: e.digest.as_ref().map(|d| d.chars().take(12).collect()),
+        with_knowledge: e.with_knowledge.as_ref().map(|k| {
+            let resting = match k.resting_on_knowledge.is_empty() {
+                true => String::new(),
+                false => format!(" ({} on knowledge)", k.resting_on_knowledge.join(", ")),
+            };
+            format!("{} {}{resting}", k.outcome, sets(&k.parent_sets))
+        }),
     }
 }
 

@@ -121,6 +121,20 @@ pub struct Entry {
     pub digest: Option<String>,
     /// The dossier folder, relative to the output folder (`study/target`).
     pub dossier: Option<String>,
+    /// The result read with the stated knowledge (absent without knowledge).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub with_knowledge: Option<EntryKnowledge>,
+}
+
+/// A pair's result read with the stated knowledge.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+pub struct EntryKnowledge {
+    /// The outcome name with the knowledge.
+    pub outcome: String,
+    /// Its parent sets.
+    pub parent_sets: Vec<Vec<String>>,
+    /// The claimed parents that rest on the knowledge (not on the data alone).
+    pub resting_on_knowledge: Vec<String>,
 }
 
 /// The stability of a pair's findings.

@@ -258,6 +258,7 @@ pub fn failed(pair: usize, error: String, failure: Failure) -> Entry {
         data: None,
         digest: None,
         dossier: None,
+        with_knowledge: None,
     }
 }
 
@@ -298,6 +299,19 @@ pub fn entry_of(finding: &Finding, pair: usize, dossier: String) -> Entry {
         }),
         digest: Some(finding.digest.clone()),
         dossier: Some(dossier),
+        with_knowledge: finding
+            .with_knowledge
+            .as_ref()
+            .map(|k| super::EntryKnowledge {
+                outcome: k.outcome.name().to_string(),
+                parent_sets: k.parent_sets.clone(),
+                resting_on_knowledge: k
+                    .claims
+                    .iter()
+                    .filter(|(_, b)| **b != crate::search::knowledge::Basis::Data)
+                    .map(|(c, _)| c.clone())
+                    .collect(),
+            }),
     }
 }
 

@@ -213,7 +213,8 @@ pub fn run_replicate_shared(
         .map(|(((study, full_trace), request), search)| {
             let trace_values = trace_values_on(&data, request.target, full_trace);
             let with_knowledge = study.used_knowledge().map(|knowledge| {
-                let read = crate::search::knowledge::apply(search, &knowledge);
+                let read =
+                    crate::search::knowledge::read(&data, search, &knowledge, &study.selection);
                 KnowledgeRecord {
                     outcome: read.outcome,
                     parent_sets: sorted_sets(&read.parent_sets),
