@@ -19,7 +19,7 @@
 //! (docs/recovery.md): the data's lone link is sometimes a stand-in for a missed parent (its own
 //! parent), which correct tiers then direct into a wrong claim; the check withdraws such claims.
 
-use super::parents::{Outcome, ParentSearch};
+use super::parents::{quoted, Outcome, ParentSearch};
 use super::rule::SelectionRule;
 use super::screening::{screening_check, ScreeningTest};
 use super::SearchData;
@@ -616,14 +616,6 @@ fn apply_screened(
         explanation,
         screening: Vec::new(),
     }
-}
-
-fn quoted(names: &[String]) -> String {
-    names
-        .iter()
-        .map(|n| format!("'{n}'"))
-        .collect::<Vec<_>>()
-        .join(", ")
 }
 
 fn explain(

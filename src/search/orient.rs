@@ -21,7 +21,7 @@
 //! conflicts, reported, and nothing is claimed.
 
 use super::knowledge::{Basis, Direction, TargetEdge};
-use super::parents::{local_parents, Outcome, ParentSearch};
+use super::parents::{local_parents, quoted, Outcome, ParentSearch};
 use super::rule::SelectionRule;
 use super::SearchData;
 use rayon::prelude::*;
@@ -369,14 +369,6 @@ fn read_member(
             quoted(&unlinked[..1])
         ),
     )
-}
-
-fn quoted(names: &[String]) -> String {
-    names
-        .iter()
-        .map(|n| format!("'{n}'"))
-        .collect::<Vec<_>>()
-        .join(", ")
 }
 
 fn explain(

@@ -406,7 +406,8 @@ fn connected_components(adjacent: &[Vec<bool>]) -> Vec<Vec<usize>> {
     out
 }
 
-fn quoted(names: &[String]) -> String {
+/// Names in single quotes, comma-separated, for the explanations.
+pub(super) fn quoted(names: &[String]) -> String {
     names
         .iter()
         .map(|n| format!("'{n}'"))
