@@ -823,6 +823,50 @@ fn a_headline_move_beyond_the_threshold_and_twice_its_sampling_error_is_drift() 
     );
 }
 
+/// `entry` with a result read with stated knowledge.
+fn with_knowledge(mut e: Entry, outcome: Outcome, parents: &[&str], stable: bool) -> Entry {
+    e.with_knowledge = Some(forebear::batch::EntryKnowledge {
+        outcome: outcome.name().to_string(),
+        parent_sets: match parents {
+            [] => Vec::new(),
+            _ => vec![parents.iter().map(|p| p.to_string()).collect()],
+        },
+        resting_on_knowledge: parents.iter().map(|p| p.to_string()).collect(),
+        stable: Some(stable),
+    });
+    e
+}
+
+#[test]
+fn a_change_of_the_result_with_knowledge_is_drift_unless_neither_is_stable() {
+    let data = || entry(Outcome::NotIdentifiable, &[], 0.9, 100, true);
+    let found = drift_between(
+        with_knowledge(data(), Outcome::Identified, &["b"], true),
+        with_knowledge(data(), Outcome::NotIdentifiable, &[], true),
+    );
+    assert_eq!(found.changes.len(), 1, "{:?}", found.changes);
+    assert_eq!(found.changes[0].kind, "knowledge");
+    assert!(found.changes[0]
+        .detail
+        .contains("with the stated knowledge: identified {b} → not_identifiable"));
+    let found = drift_between(
+        with_knowledge(data(), Outcome::Identified, &["b"], false),
+        with_knowledge(data(), Outcome::NotIdentifiable, &[], false),
+    );
+    assert!(found.changes.is_empty(), "{:?}", found.changes);
+    assert_eq!(found.unstable_outcomes.len(), 1);
+    let found = drift_between(
+        data(),
+        with_knowledge(data(), Outcome::Identified, &["b"], true),
+    );
+    assert_eq!(found.changes[0].detail, "knowledge stated now, not before");
+    let same = drift_between(
+        with_knowledge(data(), Outcome::Identified, &["b"], true),
+        with_knowledge(data(), Outcome::Identified, &["b"], false),
+    );
+    assert!(same.changes.is_empty() && same.unstable_outcomes.is_empty());
+}
+
 #[test]
 fn an_outcome_change_between_two_unstable_headlines_is_listed_but_is_not_drift() {
     let found = drift_between(

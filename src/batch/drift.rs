@@ -137,6 +137,9 @@ fn compare_entries(old: &Entry, new: &Entry, threshold: f64) -> Vec<(&'static st
     if let Some(change) = outcome_change(old, new) {
         found.push(change);
     }
+    if let Some(change) = knowledge_change(old, new) {
+        found.push(change);
+    }
     match (&old.stability, &new.stability) {
         (Some(a), Some(b)) => {
             let moved = |p: f64, q: f64| drifted(p, a.replicates, q, b.replicates, threshold);
@@ -191,6 +194,33 @@ fn compare_entries(old: &Entry, new: &Entry, threshold: f64) -> Vec<(&'static st
         (None, None) => {}
     }
     found
+}
+
+/// A change of the result read with the stated knowledge: drift, unless neither result was
+/// stable over resampling (then `unstable_outcome`); stating knowledge in one run only is drift.
+fn knowledge_change(old: &Entry, new: &Entry) -> Option<(&'static str, String)> {
+    match (&old.with_knowledge, &new.with_knowledge) {
+        (None, None) => None,
+        (Some(_), None) => Some(("knowledge", "knowledge stated before, not now".into())),
+        (None, Some(_)) => Some(("knowledge", "knowledge stated now, not before".into())),
+        (Some(a), Some(b)) if a.outcome == b.outcome && a.parent_sets == b.parent_sets => None,
+        (Some(a), Some(b)) => {
+            let detail = format!(
+                "with the stated knowledge: {} {} → {} {}",
+                a.outcome,
+                sets(&a.parent_sets),
+                b.outcome,
+                sets(&b.parent_sets)
+            );
+            match (a.stable, b.stable) {
+                (Some(false), Some(false)) => Some((
+                    UNSTABLE_OUTCOME,
+                    format!("{detail}; neither result is stable over resampling"),
+                )),
+                _ => Some(("knowledge", detail)),
+            }
+        }
+    }
 }
 
 /// A change of outcome or parent sets: drift, unless both runs resampled and neither headline was

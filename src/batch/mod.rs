@@ -135,6 +135,10 @@ pub struct EntryKnowledge {
     pub parent_sets: Vec<Vec<String>>,
     /// The claimed parents that rest on the knowledge (not on the data alone).
     pub resting_on_knowledge: Vec<String>,
+    /// Whether this result recurred in at least π_thr of the replicates (absent without
+    /// resampling).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub stable: Option<bool>,
 }
 
 /// The stability of a pair's findings.

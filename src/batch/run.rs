@@ -311,6 +311,11 @@ pub fn entry_of(finding: &Finding, pair: usize, dossier: String) -> Entry {
                     .filter(|(_, b)| **b != crate::search::knowledge::Basis::Data)
                     .map(|(c, _)| c.clone())
                     .collect(),
+                stable: finding
+                    .stability
+                    .as_ref()
+                    .and_then(|s| s.with_knowledge.as_ref())
+                    .map(|s| s.headline.stable),
             }),
     }
 }
