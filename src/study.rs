@@ -82,7 +82,11 @@ impl Study {
         // knowledge describes the process, not this analysis; it acts only on used columns).
         for name in settings.knowledge().iter().flat_map(|k| k.columns()) {
             if let Err(e) = raw.require_column(name, "knowledge") {
-                problems.push(SettingProblem::about(Key::Knowledge).text(e.to_string()));
+                problems.push(
+                    SettingProblem::about(Key::Knowledge)
+                        .text(e.to_string())
+                        .at_value(name),
+                );
             }
         }
         let Some(target_position) = target_position.filter(|_| problems.is_empty()) else {

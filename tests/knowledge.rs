@@ -236,7 +236,7 @@ fn knowledge_naming_an_unknown_column_or_contradicting_itself_is_refused_with_ev
     common::assert_refused(
         &ran,
         &[
-            &format!("{}:2:", config.display()),
+            &format!("{}:3:11:", config.display()),
             "the knowledge column 'kiln_peak_tmp' is not in the header; did you mean 'kiln_peak_temp'?",
         ],
     );

@@ -153,6 +153,9 @@ pub struct SettingProblem {
     /// The setting at fault (where a study file or plan points).
     pub key: Key,
     parts: Vec<Part>,
+    /// The text inside the key's value that is at fault (a column named in a list), where a file
+    /// can point at it rather than at the key.
+    pub value: Option<String>,
 }
 
 impl SettingProblem {
@@ -161,6 +164,7 @@ impl SettingProblem {
         SettingProblem {
             key,
             parts: vec![Part::Key(key)],
+            value: None,
         }
     }
 
@@ -169,7 +173,14 @@ impl SettingProblem {
         SettingProblem {
             key,
             parts: Vec::new(),
+            value: None,
         }
+    }
+
+    /// The problem points at `value` inside the key's value.
+    pub fn at_value(mut self, value: impl Into<String>) -> SettingProblem {
+        self.value = Some(value.into());
+        self
     }
 
     /// Appends text.

@@ -27,6 +27,9 @@ pub struct SettingsTable {
     pub input: SettingsInput,
     /// The span of each key written in the table.
     pub spans: BTreeMap<Key, Range<usize>>,
+    /// The span of the first string equal to each text inside each key's value (the columns a
+    /// list or the knowledge table names).
+    pub value_spans: BTreeMap<(Key, String), Range<usize>>,
 }
 
 impl SettingsTable {
@@ -59,6 +62,11 @@ impl SettingsTable {
                 Ok(given) => {
                     read.input = given.over(&read.input);
                     read.spans.insert(setting, key.span());
+                    strings_in(value, &mut |text, span| {
+                        read.value_spans
+                            .entry((setting, text.to_string()))
+                            .or_insert(span);
+                    });
                 }
                 Err(e) => problems.push(Placed {
                     span: Some(value.span()),
@@ -77,10 +85,27 @@ impl SettingsTable {
         fallback: Option<Range<usize>>,
         place: &str,
     ) -> Placed {
+        let at_value = problem
+            .value
+            .as_ref()
+            .and_then(|v| self.value_spans.get(&(problem.key, v.clone())));
         Placed {
-            span: self.spans.get(&problem.key).cloned().or(fallback),
+            span: at_value
+                .or(self.spans.get(&problem.key))
+                .cloned()
+                .or(fallback),
             message: in_place(place, &problem.render(Naming::Keys)),
         }
+    }
+}
+
+/// Calls `found` with every string inside `value` (arrays and tables, at any depth) and its span.
+fn strings_in(value: &Spanned<DeValue<'_>>, found: &mut impl FnMut(&str, Range<usize>)) {
+    match value.get_ref() {
+        DeValue::String(text) => found(text, value.span()),
+        DeValue::Array(items) => items.iter().for_each(|v| strings_in(v, found)),
+        DeValue::Table(table) => table.values().for_each(|v| strings_in(v, found)),
+        _ => {}
     }
 }
 
