@@ -48,14 +48,15 @@ pub struct KnowledgeRecord {
     pub parent_sets: Vec<Vec<String>>,
 }
 
-/// Stability of the result read with the stated knowledge.
+/// Stability of one reading of the search (its own, with the stated knowledge, or through the
+/// neighbourhood) over the replicates.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
-pub struct KnowledgeStability {
-    /// Frequency of each candidate in a parent set identified with the knowledge.
+pub struct ResultStability {
+    /// Frequency of each column in a parent set identified by this reading.
     pub parents: BTreeMap<String, f64>,
-    /// Outcome frequencies with the knowledge, most frequent first.
+    /// Outcome frequencies, most frequent first.
     pub outcomes: Vec<OutcomeFrequency>,
-    /// The full-data result with the knowledge against the replicates'.
+    /// The full-data result of this reading against the replicates'.
     pub headline: Headline,
 }
 
@@ -139,11 +140,11 @@ pub struct Stability {
     pub headline: Headline,
     /// The result read with the stated knowledge, across replicates (absent without knowledge).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub with_knowledge: Option<KnowledgeStability>,
+    pub with_knowledge: Option<ResultStability>,
     /// The result read through the neighbours' searches, across replicates (absent when the
     /// setting is off).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub with_neighbourhood: Option<KnowledgeStability>,
+    pub with_neighbourhood: Option<ResultStability>,
     /// Digest of every replicate record, by replicate index.
     pub replicate_digests: Vec<String>,
     /// Every replicate record, by replicate index, so that a re-run can name the first field of a
@@ -326,9 +327,6 @@ pub fn aggregate(
     full: FullResults,
     records: &[ReplicateRecord],
 ) -> Stability {
-    let (full_outcome, full_parent_sets) = full.search;
-    let full_with_knowledge = full.with_knowledge;
-    let full_with_neighbourhood = full.with_neighbourhood;
     let mut records: Vec<&ReplicateRecord> = records.iter().collect();
     records.sort_by_key(|r| r.replicate);
     let n = records.len() as u32;
@@ -341,9 +339,7 @@ pub fn aggregate(
     };
     let mut boundary_count: BTreeMap<String, u32> =
         candidates.iter().map(|c| (c.clone(), 0)).collect();
-    let mut parent_count = boundary_count.clone();
     let mut step_sum: BTreeMap<String, (usize, u32)> = BTreeMap::new();
-    let mut outcome_count: BTreeMap<OutcomeKey, (Outcome, u32)> = BTreeMap::new();
     for r in &records {
         for (step, c) in r.markov_boundary.iter().enumerate() {
             *boundary_count.entry(c.clone()).or_default() += 1;
@@ -351,46 +347,23 @@ pub fn aggregate(
             e.0 += step + 1;
             e.1 += 1;
         }
-        if r.outcome == Outcome::Identified {
-            for c in r.parent_sets.iter().flatten() {
-                *parent_count.entry(c.clone()).or_default() += 1;
-            }
-        }
-        let e = outcome_count
-            .entry((r.outcome.name().to_string(), r.parent_sets.clone()))
-            .or_insert((r.outcome, 0));
-        e.1 += 1;
     }
-    let mut outcomes: Vec<OutcomeFrequency> = outcome_count
-        .into_iter()
-        .map(|((_, parent_sets), (outcome, count))| OutcomeFrequency {
-            outcome,
-            parent_sets,
-            frequency: share(count),
-            count,
-        })
-        .collect();
-    outcomes.sort_by_key(|o| std::cmp::Reverse(o.count));
     let markov_boundary: BTreeMap<String, f64> = boundary_count
         .iter()
         .map(|(c, &k)| (c.clone(), share(k)))
         .collect();
-    let parents: BTreeMap<String, f64> = parent_count
-        .iter()
-        .map(|(c, &k)| (c.clone(), share(k)))
-        .collect();
-    let full_sets: Vec<Vec<String>> = full_parent_sets
-        .iter()
-        .map(|s| {
-            let mut s = s.clone();
-            s.sort();
-            s
-        })
-        .collect();
-    let full_count = records
-        .iter()
-        .filter(|r| r.outcome == full_outcome && r.parent_sets == full_sets)
-        .count() as u32;
+    // The search's own results, and its readings with knowledge and through the neighbourhood,
+    // are counted alike.
+    let stability_of = |full: FullResult, read: fn(&ReplicateRecord) -> Option<FullResult>| {
+        let results: Vec<FullResult> = records.iter().filter_map(|r| read(r)).collect();
+        result_stability(&results, n, threshold, full)
+    };
+    let own = stability_of(full.search, |r| Some((r.outcome, &r.parent_sets)));
+    // Every candidate is listed, at 0 when no replicate identified it as a parent.
+    let mut parents: BTreeMap<String, f64> = candidates.iter().map(|c| (c.clone(), 0.0)).collect();
+    parents.extend(own.parents);
+    let (headline, outcomes) = (own.headline, own.outcomes);
+    let (full_frequency, full_stable) = (headline.frequency, headline.stable);
     let q = if n == 0 {
         0.0
     } else {
@@ -400,30 +373,19 @@ pub fn aggregate(
             .sum::<usize>() as f64
             / f64::from(n)
     };
-    let headline = Headline {
-        frequency: share(full_count),
-        stable: share(full_count) >= threshold,
-        contradicted: n > 0 && 2 * full_count < n,
-        most_frequent_other: outcomes
-            .iter()
-            .find(|o| !(o.outcome == full_outcome && o.parent_sets == full_sets))
-            .cloned(),
-    };
-    let with_knowledge = full_with_knowledge.map(|(outcome, sets)| {
-        let results: Vec<(Outcome, &[Vec<String>])> = records
-            .iter()
-            .filter_map(|r| r.with_knowledge.as_ref())
-            .map(|k| (k.outcome, k.parent_sets.as_slice()))
-            .collect();
-        knowledge_stability(&results, n, threshold, outcome, sets)
+    let with_knowledge = full.with_knowledge.map(|f| {
+        stability_of(f, |r| {
+            r.with_knowledge
+                .as_ref()
+                .map(|k| (k.outcome, k.parent_sets.as_slice()))
+        })
     });
-    let with_neighbourhood = full_with_neighbourhood.map(|(outcome, sets)| {
-        let results: Vec<(Outcome, &[Vec<String>])> = records
-            .iter()
-            .filter_map(|r| r.with_neighbourhood.as_ref())
-            .map(|k| (k.outcome, k.parent_sets.as_slice()))
-            .collect();
-        knowledge_stability(&results, n, threshold, outcome, sets)
+    let with_neighbourhood = full.with_neighbourhood.map(|f| {
+        stability_of(f, |r| {
+            r.with_neighbourhood
+                .as_ref()
+                .map(|k| (k.outcome, k.parent_sets.as_slice()))
+        })
     });
     Stability {
         headline,
@@ -451,8 +413,8 @@ pub fn aggregate(
         outcomes,
         trace_spread: spread(full_trace, &records),
         error_bound: error_bound(q, candidates.len(), threshold),
-        full_data_outcome_frequency: share(full_count),
-        full_data_outcome_stable: share(full_count) >= threshold,
+        full_data_outcome_frequency: full_frequency,
+        full_data_outcome_stable: full_stable,
         replicate_digests: records.iter().map(|r| r.digest.clone()).collect(),
         records: records.iter().map(|&r| r.clone()).collect(),
     }
@@ -461,14 +423,14 @@ pub fn aggregate(
 /// Outcome counts are keyed by (outcome name, parent sets) so that the order is fixed.
 type OutcomeKey = (String, Vec<Vec<String>>);
 
-/// Frequencies of the replicates' results read with the knowledge, against the full data's.
-fn knowledge_stability(
-    results: &[(Outcome, &[Vec<String>])],
+/// Frequencies of the replicates' results (outcomes with parent sets, each set sorted), against
+/// the full data's: of each column in an identified set, of each result, and of the full data's.
+fn result_stability(
+    results: &[FullResult],
     n: u32,
     threshold: f64,
-    full_outcome: Outcome,
-    full_sets: &[Vec<String>],
-) -> KnowledgeStability {
+    (full_outcome, full_sets): FullResult,
+) -> ResultStability {
     let share = |count: u32| match n {
         0 => 0.0,
         _ => f64::from(count) / f64::from(n),
@@ -499,7 +461,7 @@ fn knowledge_stability(
     outcomes.sort_by_key(|o| std::cmp::Reverse(o.count));
     let is_full = |o: Outcome, sets: &[Vec<String>]| o == full_outcome && sets == full_sets;
     let full_count = results.iter().filter(|(o, s)| is_full(*o, s)).count() as u32;
-    KnowledgeStability {
+    ResultStability {
         parents: parents.into_iter().map(|(c, k)| (c, share(k))).collect(),
         headline: Headline {
             frequency: share(full_count),
