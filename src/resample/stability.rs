@@ -233,13 +233,13 @@ pub fn run_replicate_shared(
                     parent_sets: sorted_sets(&read.parent_sets),
                 }
             });
-            let mut rec = record(k, drawn.rows.len(), search, trace_values, with_knowledge);
-            if with_neighbourhood.is_some() {
-                rec.with_neighbourhood = with_neighbourhood;
-                rec.digest = String::new();
-                rec.digest = crate::digest::digest(&rec);
-            }
-            rec
+            record(
+                k,
+                drawn.rows.len(),
+                search,
+                trace_values,
+                [with_knowledge, with_neighbourhood],
+            )
         })
         .collect()
 }
@@ -286,7 +286,7 @@ fn record(
     rows: usize,
     search: &ParentSearch,
     trace_values: Vec<Option<f64>>,
-    with_knowledge: Option<KnowledgeRecord>,
+    [with_knowledge, with_neighbourhood]: [Option<KnowledgeRecord>; 2],
 ) -> ReplicateRecord {
     let mut rec = ReplicateRecord {
         replicate: k,
@@ -296,7 +296,7 @@ fn record(
         parent_sets: sorted_sets(&search.parent_sets),
         trace_values,
         with_knowledge,
-        with_neighbourhood: None,
+        with_neighbourhood,
         digest: String::new(),
     };
     rec.digest = crate::digest::digest(&rec);
