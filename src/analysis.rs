@@ -263,24 +263,28 @@ impl Prepared {
 
     /// The full-data finding (no stability yet) with this invocation's run metadata.
     pub fn finding(&self, full: ParentSearch, command_line: Vec<String>) -> Finding {
-        let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
-        let neighbourhood = self
-            .study
-            .neighbourhood_orientation
-            .then(|| through_neighbourhood(&data, &full, self.study.alpha, &self.study.selection));
-        let knowledge = self
-            .study
-            .used_knowledge()
-            .map(|k| crate::search::knowledge::read(&data, &full, &k, &self.study.selection));
-        Finding::new(
+        let knowledge = self.study.used_knowledge();
+        // The readings need the scaled columns; a search without them does not scale again.
+        let data = (knowledge.is_some() || self.study.neighbourhood_orientation)
+            .then(|| SearchData::new(&self.table, self.study.scaling, self.study.seed, 0));
+        let (alpha, rule) = (self.study.alpha, &self.study.selection);
+        let readings = data.as_ref().map(|data| {
+            (
+                knowledge.map(|k| crate::search::knowledge::read(data, &full, &k, rule)),
+                self.study
+                    .neighbourhood_orientation
+                    .then(|| through_neighbourhood(data, &full, alpha, rule)),
+            )
+        });
+        let mut finding = Finding::new(
             self.report.clone(),
             self.study.clone(),
             full,
             self.run_info(command_line),
-        )
-        .with_neighbourhood(neighbourhood)
-        .with_knowledge(knowledge)
-        .with_columns(&self.table)
+        );
+        (finding.with_knowledge, finding.with_neighbourhood) = readings.unwrap_or_default();
+        // Recomputes the digest over everything set above.
+        finding.with_columns(&self.table)
     }
 
     /// The run metadata of this invocation.

@@ -229,22 +229,6 @@ impl Finding {
         finding
     }
 
-    /// The finding with the search read with the stated knowledge, if any (recomputing the
-    /// digest).
-    pub fn with_knowledge(mut self, read: Option<WithKnowledge>) -> Finding {
-        self.with_knowledge = read;
-        self.digest = crate::digest::digest(&self);
-        self
-    }
-
-    /// The finding with the search read through the neighbours' searches, if computed
-    /// (recomputing the digest).
-    pub fn with_neighbourhood(mut self, read: Option<NeighbourhoodOrientation>) -> Finding {
-        self.with_neighbourhood = read;
-        self.digest = crate::digest::digest(&self);
-        self
-    }
-
     /// The finding with the profiles of the used columns (recomputing the digest).
     pub fn with_columns(mut self, table: &crate::data::Table) -> Finding {
         self.columns = ColumnProfile::of_table(table);
