@@ -5,6 +5,7 @@
 //! The CSV texts here are tiny invented tables, written for error handling only.
 
 use crate::common;
+use crate::common::analyze_with_config;
 use crate::common::{
     analyze, assert_input_error, assert_success, delimited, result_json, run, sha256_hex,
     stderr_of, table, Scratch,
@@ -1001,19 +1002,6 @@ fn shard_and_replicate_range_values_are_checked_when_parsed() {
 
 // ---- study files: `analyze --config` (issue 13) ------------------------------------------------
 
-/// `forebear analyze DATA --config CONFIG EXTRA... --out OUT`.
-fn analyze_with_config(data: &Path, config: &Path, extra: &[&str], out: &Path) -> Output {
-    let mut args: Vec<&OsStr> = vec![
-        OsStr::new("analyze"),
-        data.as_os_str(),
-        OsStr::new("--config"),
-        config.as_os_str(),
-    ];
-    args.extend(extra.iter().map(OsStr::new));
-    args.extend([OsStr::new("--out"), out.as_os_str()]);
-    run(args)
-}
-
 /// The example study file of the repository.
 fn example_study() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/study.toml")
@@ -1071,13 +1059,7 @@ fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_ov
         sha256_hex(text.as_bytes()),
         "the study file's hash is in the manifest"
     );
-    let verified = run([
-        OsStr::new("verify"),
-        out.as_os_str(),
-        OsStr::new("--data"),
-        data.as_os_str(),
-    ]);
-    assert_success(&verified);
+    assert_success(&common::verify(&out, &data, &[]));
 }
 
 #[test]

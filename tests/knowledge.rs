@@ -3,10 +3,11 @@
 //! hashed and replayed by `verify`. The expected orientations follow from the generating graphs
 //! written beside each data set (invented data) and Meek's rules, not from forebear's output.
 
-use crate::common::{self, assert_success, result_json, run, uniform_stream, Scratch};
+use crate::common::{
+    self, analyze_with_config, assert_success, result_json, run, uniform_stream, verify, Scratch,
+};
 use std::ffi::OsStr;
 use std::path::{Path, PathBuf};
-use std::process::Output;
 
 /// A chain a → b → y (nonlinear, 800 rows) with two unrelated columns c and d. Under the method's
 /// assumptions y's Markov boundary is {b}, a single link whose direction the data cannot give.
@@ -22,28 +23,6 @@ fn chain_csv(s: &Scratch) -> PathBuf {
     s.write("chain.csv", text)
 }
 
-fn analyze_config(data: &Path, config: &Path, out: &Path, extra: &[&str]) -> Output {
-    let mut args: Vec<&OsStr> = vec![
-        OsStr::new("analyze"),
-        data.as_os_str(),
-        OsStr::new("--config"),
-        config.as_os_str(),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ];
-    args.extend(extra.iter().map(OsStr::new));
-    run(args)
-}
-
-fn verify(out: &Path, data: &Path) -> Output {
-    run([
-        OsStr::new("verify"),
-        out.as_os_str(),
-        OsStr::new("--data"),
-        data.as_os_str(),
-    ])
-}
-
 #[test]
 fn a_chain_with_tiers_identifies_the_parent_only_with_the_knowledge() {
     let s = Scratch::new("knowledge-chain");
@@ -54,7 +33,7 @@ fn a_chain_with_tiers_identifies_the_parent_only_with_the_knowledge() {
         "targets = [\"y\"]\nreplicates = 4\n[knowledge]\ntiers = [[\"a\"], [\"b\"], [\"y\"]]\n",
     );
     let out = s.path("plain");
-    assert_success(&analyze_config(&data, &plain, &out, &[]));
+    assert_success(&analyze_with_config(&data, &plain, &[], &out));
     let alone = result_json(&out);
     assert_eq!(alone["outcome"], "not_identifiable", "data alone");
     assert_eq!(alone["parent_sets"], serde_json::json!([["b"]]));
@@ -64,7 +43,7 @@ fn a_chain_with_tiers_identifies_the_parent_only_with_the_knowledge() {
     );
 
     let out = s.path("tiers");
-    assert_success(&analyze_config(&data, &tiers, &out, &[]));
+    assert_success(&analyze_with_config(&data, &tiers, &[], &out));
     let known = result_json(&out);
     assert_eq!(
         known["outcome"], "not_identifiable",
@@ -96,7 +75,7 @@ fn a_chain_with_tiers_identifies_the_parent_only_with_the_knowledge() {
         manifest["settings"]["canonical"]["study"]["knowledge"]["tiers"],
         serde_json::json!([["a"], ["b"], ["y"]])
     );
-    assert_success(&verify(&out, &data));
+    assert_success(&verify(&out, &data, &[]));
 }
 
 #[test]
@@ -108,7 +87,7 @@ fn verify_replays_the_knowledge_so_edited_knowledge_does_not_verify() {
         "targets = [\"y\"]\nreplicates = 0\n[knowledge]\ntiers = [[\"a\"], [\"b\"], [\"y\"]]\n",
     );
     let out = s.path("out");
-    assert_success(&analyze_config(&data, &tiers, &out, &[]));
+    assert_success(&analyze_with_config(&data, &tiers, &[], &out));
     // Reverse the tiers of b and y in the recorded settings, as a forger would, and reseal: the
     // re-run under the edited knowledge makes b an effect of y, so the claim cannot verify.
     let text = std::fs::read_to_string(out.join("result.json")).unwrap();
@@ -123,7 +102,7 @@ fn verify_replays_the_knowledge_so_edited_knowledge_does_not_verify() {
         m.settings.canonical["study"]["knowledge"]["tiers"] =
             serde_json::json!([["a"], ["y"], ["b"]]);
     });
-    let checked = verify(&out, &data);
+    let checked = verify(&out, &data, &[]);
     assert_eq!(
         common::exit_code(&checked),
         1,
@@ -145,7 +124,7 @@ fn tiers_make_the_lone_candidate_of_the_demo_a_cause_and_forbidden_edges_prune_i
          tiers = [[\"binder_fraction\", \"kiln_peak_temp\"], [\"pore_density\"], [\"crush_strength\"]]\n",
     );
     let out = s.path("tiers");
-    assert_success(&analyze_config(&data, &tiers, &out, &[]));
+    assert_success(&analyze_with_config(&data, &tiers, &[], &out));
     let r = result_json(&out);
     assert_eq!(r["outcome"], "not_identifiable");
     let k = &r["with_knowledge"];
@@ -162,7 +141,7 @@ fn tiers_make_the_lone_candidate_of_the_demo_a_cause_and_forbidden_edges_prune_i
          forbidden = [[\"binder_fraction\", \"pore_density\"]]\n",
     );
     let out = s.path("forbidden");
-    assert_success(&analyze_config(&data, &forbidden, &out, &[]));
+    assert_success(&analyze_with_config(&data, &forbidden, &[], &out));
     let k = &result_json(&out)["with_knowledge"];
     assert_eq!(k["outcome"], "not_identifiable", "{k}");
     assert_eq!(k["parent_sets"], serde_json::json!([]));
@@ -188,7 +167,7 @@ fn a_v_structure_the_tiers_forbid_is_reported_as_a_conflict_and_nothing_is_claim
          tiers = [[\"pore_density\"], [\"crush_strength\"], [\"kiln_peak_temp\"]]\n",
     );
     let out = s.path("out");
-    assert_success(&analyze_config(&data, &config, &out, &[]));
+    assert_success(&analyze_with_config(&data, &config, &[], &out));
     let r = result_json(&out);
     assert_eq!(
         r["outcome"], "identified",
@@ -216,7 +195,7 @@ fn a_required_edge_the_data_do_not_show_is_a_conflict() {
          required = [[\"conveyor_speed\", \"crush_strength\"]]\n",
     );
     let out = s.path("out");
-    assert_success(&analyze_config(&data, &config, &out, &[]));
+    assert_success(&analyze_with_config(&data, &config, &[], &out));
     let k = &result_json(&out)["with_knowledge"];
     assert_eq!(k["outcome"], "conflict", "{k}");
     assert_eq!(k["conflicts"][0]["column"], "conveyor_speed");
@@ -232,7 +211,7 @@ fn knowledge_naming_an_unknown_column_or_contradicting_itself_is_refused_with_ev
          tiers = [[\"kiln_peak_tmp\"], [\"crush_strength\"]]\n",
     );
     let out = s.path("out");
-    let ran = analyze_config(&data, &config, &out, &[]);
+    let ran = analyze_with_config(&data, &config, &[], &out);
     common::assert_refused(
         &ran,
         &[
@@ -247,7 +226,7 @@ fn knowledge_naming_an_unknown_column_or_contradicting_itself_is_refused_with_ev
         "targets = [\"crush_strength\"]\n[knowledge]\ntiers = [[\"a\"], [\"b\"], [\"a\"]]\n\
          required = [[\"b\", \"c\"], [\"c\", \"b\"]]\nforbid = []\n",
     );
-    let ran = analyze_config(&data, &config, &out, &[]);
+    let ran = analyze_with_config(&data, &config, &[], &out);
     let err = common::assert_refused(&ran, &[]);
     assert!(err.contains("unknown field `forbid`"), "{err}");
     let config = s.write(
@@ -255,7 +234,7 @@ fn knowledge_naming_an_unknown_column_or_contradicting_itself_is_refused_with_ev
         "targets = [\"crush_strength\"]\n[knowledge]\ntiers = [[\"a\"], [\"b\"], [\"a\"]]\n\
          required = [[\"b\", \"c\"], [\"c\", \"b\"]]\n",
     );
-    let ran = analyze_config(&data, &config, &out, &[]);
+    let ran = analyze_with_config(&data, &config, &[], &out);
     common::assert_refused(
         &ran,
         &[

@@ -104,11 +104,5 @@ fn a_v_structure_at_a_neighbour_orients_the_edge_only_with_the_setting() {
     assert!(dossier.contains("### Through the neighbours' searches"));
     assert!(dossier.contains("Gao and Ji (2015)"));
     // The re-run of verify computes the same reading.
-    let verified = run([
-        OsStr::new("verify"),
-        out.as_os_str(),
-        OsStr::new("--data"),
-        data.as_os_str(),
-    ]);
-    assert_success(&verified);
+    assert_success(&crate::common::verify(&out, &data, &[]));
 }

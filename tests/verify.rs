@@ -5,6 +5,7 @@
 //! `forebear analyze`.
 
 use crate::common;
+use crate::common::verify;
 use crate::common::{
     bin, forge_text, forge_texts, lossy_stdout as text, reseal, sha256_hex as hex_sha256, Scratch,
 };
@@ -33,17 +34,6 @@ fn analysed(name: &str) -> (Scratch, PathBuf, PathBuf) {
         .unwrap();
     assert!(status.success());
     (dir, data, out)
-}
-
-fn verify(out: &Path, data: &Path, extra: &[&str]) -> Output {
-    bin()
-        .args(["--quiet", "verify"])
-        .arg(out)
-        .arg("--data")
-        .arg(data)
-        .args(extra)
-        .output()
-        .unwrap()
 }
 
 /// Asserts the exit code, the verdict on the last line and that no panic text appeared.

@@ -119,6 +119,31 @@ pub fn analyze(scratch: &Scratch, data: &Path, target: &str, extra: &[&str]) -> 
     run(args)
 }
 
+/// `forebear analyze DATA --config CONFIG EXTRA... --out OUT`.
+pub fn analyze_with_config(data: &Path, config: &Path, extra: &[&str], out: &Path) -> Output {
+    let mut args: Vec<&OsStr> = vec![
+        OsStr::new("analyze"),
+        data.as_os_str(),
+        OsStr::new("--config"),
+        config.as_os_str(),
+    ];
+    args.extend(extra.iter().map(OsStr::new));
+    args.extend([OsStr::new("--out"), out.as_os_str()]);
+    run(args)
+}
+
+/// `forebear --quiet verify OUT --data DATA EXTRA...`.
+pub fn verify(out: &Path, data: &Path, extra: &[&str]) -> Output {
+    bin()
+        .args(["--quiet", "verify"])
+        .arg(out)
+        .arg("--data")
+        .arg(data)
+        .args(extra)
+        .output()
+        .unwrap()
+}
+
 pub fn stderr_of(output: &Output) -> String {
     String::from_utf8(output.stderr.clone()).expect("stderr is UTF-8")
 }
