@@ -364,7 +364,7 @@ pub fn analyze_file(
 pub const PARTIAL_SCHEMA: &str = "forebear.partial/1";
 
 /// Some replicates of a study, computed by one shard, with the full-data finding they belong to.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Partial {
     /// Layout version.
     pub schema: String,

@@ -40,7 +40,7 @@ pub struct DependenceRequest {
 /// T_n, its parts and its permutation test. The fields are declared in the alphabetical order in
 /// which the JSON output of `forebear dependence` has always listed them, so the bytes stay the
 /// same.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, PartialEq)]
 pub struct DependenceReport {
     /// Σ of the denominator terms of T_n; zero when the response is a function of `given`.
     pub denominator: i128,

@@ -18,10 +18,10 @@ pub const SCHEMA: &str = "forebear.result/1";
 /// Version of the method: every computation that affects results. It changes whenever any such
 /// computation changes (`tests/method_version.rs` holds the digests that pin it), so that `verify`
 /// can tell "another build of the same method" from "another method".
-pub const METHOD_VERSION: &str = "forebear-method/4";
+pub const METHOD_VERSION: &str = "forebear-method/5";
 
 /// Tool identity.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ToolInfo {
     /// Program name.
     pub name: String,
@@ -76,7 +76,7 @@ pub struct Analysed {
 }
 
 /// Facts about the run that do not belong to the findings and are excluded from the digest.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct RunInfo {
     /// Start time, UTC, RFC 3339.
     pub started_utc: String,
@@ -94,7 +94,7 @@ pub struct RunInfo {
 }
 
 /// What the used rows of one column look like (for the dossier's data section).
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ColumnProfile {
     /// The column.
     pub name: String,
@@ -137,7 +137,7 @@ impl ColumnProfile {
 }
 
 /// Everything found for one target.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Finding {
     /// Layout version.
     pub schema: String,

@@ -22,6 +22,7 @@ pub mod report;
 pub mod reproduce;
 pub mod resample;
 pub mod rng;
+pub mod schemas;
 pub mod search;
 pub mod settings;
 pub mod study;

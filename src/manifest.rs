@@ -15,7 +15,7 @@ pub const MANIFEST_FILE: &str = "manifest.json";
 
 /// Everything a reviewer needs to check a dossier: which build and method made it, from which
 /// bytes and content, under which settings, with which results, and the hash of every file.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Manifest {
     /// Layout version.
     pub schema: String,
@@ -39,7 +39,7 @@ pub struct Manifest {
 }
 
 /// The analysed file.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ManifestData {
     /// File name (without folders).
     pub file: String,
@@ -52,7 +52,7 @@ pub struct ManifestData {
 }
 
 /// The settings as they are hashed.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ManifestSettings {
     /// `{"reader": …, "study": …}`: the reader options and the validated study settings.
     pub canonical: serde_json::Value,
@@ -69,7 +69,7 @@ pub struct ManifestSettings {
 }
 
 /// The result digests.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ManifestResults {
     /// The digest of `result.json`'s findings.
     pub digest: String,
@@ -78,7 +78,7 @@ pub struct ManifestResults {
 }
 
 /// How the dossier was made and how to make it again.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ManifestCommand {
     /// The command line as it was typed.
     pub original: Vec<String>,
@@ -147,7 +147,7 @@ impl Manifest {
 }
 
 /// One place where two JSON trees differ.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, PartialEq)]
 pub struct Difference {
     /// JSON pointer (RFC 6901) of the differing value.
     pub pointer: String,

@@ -14,7 +14,7 @@ use crate::settings::{Key, SettingProblem, Settings, SettingsInput};
 use serde::{Deserialize, Serialize};
 
 /// The validated settings, in the canonical form that is hashed and recorded.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Study {
     /// Target column.
     pub target: String,

@@ -418,6 +418,27 @@ fn alpha_outside_the_unit_interval_is_refused() {
     }
 }
 
+/// RFC 8785 writes numbers as IEEE 754 doubles: a seed above 2^53 - 1 could not be recorded exactly.
+#[test]
+fn seed_above_two_to_the_53_minus_one_is_refused_and_the_largest_is_accepted() {
+    let s = Scratch::new("seed");
+    let data = s.write("data.csv", csv_text(&table(30)));
+    let output = analyze(&s, &data, "y", &["--seed", "9007199254740992"]);
+    assert_input_error(
+        &output,
+        &s,
+        &["data.csv"],
+        &["--seed", "9007199254740992", "9007199254740991", "RFC 8785"],
+    );
+    let output = analyze(
+        &s,
+        &data,
+        "y",
+        &["--seed", "9007199254740991", "--replicates", "0"],
+    );
+    crate::common::assert_success(&output);
+}
+
 #[test]
 fn unknown_scaling_is_refused() {
     let s = Scratch::new("scaling");

@@ -33,7 +33,7 @@ const FREQUENCY_TOLERANCE: f64 = 1e-9;
 pub const SAMPLING_ERRORS: f64 = 2.0;
 
 /// The comparison with a previous run.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Drift {
     /// SHA-256 of the previous `summary.json`.
     pub previous_summary_sha256: String,
@@ -49,7 +49,9 @@ pub struct Drift {
 }
 
 /// One change of one pair.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq, Eq, PartialOrd, Ord)]
+#[derive(
+    Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq, PartialOrd, Ord,
+)]
 pub struct Change {
     /// The study.
     pub study: String,

@@ -19,7 +19,7 @@ pub(crate) const CSS: &str = concat!(
 );
 
 /// One row of the index: a (study, target) pair.
-#[derive(Serialize)]
+#[derive(Serialize, schemars::JsonSchema)]
 pub(crate) struct Row {
     study: String,
     target: String,

@@ -38,7 +38,7 @@ pub const SUMMARY_FILE: &str = "summary.json";
 pub const DEFAULT_DRIFT_THRESHOLD: f64 = 0.2;
 
 /// `summary.json`: the whole batch output for machines.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Summary {
     /// Layout version, [`BATCH_SCHEMA`].
     pub schema: String,
@@ -57,7 +57,7 @@ pub struct Summary {
 }
 
 /// The plan file, by name and content.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct PlanRef {
     /// File name (without folders).
     pub file: String,
@@ -66,7 +66,7 @@ pub struct PlanRef {
 }
 
 /// One study of the batch.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct StudySummary {
     /// The data path as written in the plan.
     pub data: String,
@@ -75,7 +75,7 @@ pub struct StudySummary {
 }
 
 /// Whether a pair was analysed.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum Status {
     /// The dossier was written.
@@ -85,7 +85,7 @@ pub enum Status {
 }
 
 /// Why a pair failed: something the user can fix, or a bug.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum Failure {
     /// Bad input or settings, or an I/O failure (exit code 2).
@@ -95,7 +95,7 @@ pub enum Failure {
 }
 
 /// One (study, target) pair's result.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Entry {
     /// Done or failed.
     pub status: Status,
@@ -127,7 +127,7 @@ pub struct Entry {
 }
 
 /// A pair's result read with the stated knowledge.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct EntryKnowledge {
     /// The outcome name with the knowledge.
     pub outcome: String,
@@ -142,7 +142,7 @@ pub struct EntryKnowledge {
 }
 
 /// The stability of a pair's findings.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct EntryStability {
     /// Replicates aggregated.
     pub replicates: u32,
@@ -167,7 +167,7 @@ pub struct EntryStability {
 }
 
 /// Fingerprints of the analysed data.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct EntryData {
     /// SHA-256 of the file's bytes.
     pub sha256: String,
@@ -180,7 +180,7 @@ pub struct EntryData {
 }
 
 /// Counts over the batch.
-#[derive(Clone, Debug, Default, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Default, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Totals {
     /// Pairs in this output.
     pub pairs: usize,

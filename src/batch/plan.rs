@@ -175,7 +175,9 @@ pub(super) fn unusable_data(path: &Path) -> Option<&'static str> {
 }
 
 /// A deterministic share of a plan's pairs: pair k belongs to shard k mod `count`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, Deserialize)]
+#[derive(
+    Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, schemars::JsonSchema, Deserialize,
+)]
 pub struct Shard {
     /// 0-based shard number, below `count`.
     pub index: u32,

@@ -100,6 +100,20 @@ impl Serialize for Delimiter {
     }
 }
 
+impl schemars::JsonSchema for Delimiter {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "Delimiter".into()
+    }
+
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({
+            "type": "string",
+            "description": "The field delimiter, as the character itself.",
+            "enum": [",", ";", "\t", "|"]
+        })
+    }
+}
+
 impl<'de> Deserialize<'de> for Delimiter {
     fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Delimiter, D::Error> {
         let text = String::deserialize(deserializer)?;

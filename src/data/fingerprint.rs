@@ -30,7 +30,7 @@ pub fn sha256_text(text: &str) -> String {
 }
 
 /// The content fingerprint of a parsed file and its locating index.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct ContentIndex {
     /// SHA-256 (hex) of the canonical content encoding.
     pub sha256: String,

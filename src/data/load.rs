@@ -18,7 +18,18 @@ use std::path::Path;
 pub const DEFAULT_MISSING_TOKENS: [&str; 5] = ["", "NA", "NaN", "null", "#N/A"];
 
 /// What to do with a row that misses a value in a used column.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize, clap::ValueEnum)]
+#[derive(
+    Clone,
+    Copy,
+    Debug,
+    Default,
+    PartialEq,
+    Eq,
+    Serialize,
+    schemars::JsonSchema,
+    Deserialize,
+    clap::ValueEnum,
+)]
 #[serde(rename_all = "kebab-case")]
 pub enum MissingPolicy {
     /// Drop the row, and count the missing values per column (the default).
@@ -40,7 +51,7 @@ impl MissingPolicy {
 
 /// Settings of the reader. Each is recorded in the [`DataReport`] (and in the manifest's
 /// settings), so that a run can be repeated from its result ([`LoadOptions::from_report`]).
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct LoadOptions {
     /// The character between fields; written as the character.
     #[serde(default)]

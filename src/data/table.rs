@@ -61,7 +61,7 @@ impl Table {
 }
 
 /// What happened between the file and the validated table, for the dossier.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct DataReport {
     /// File name as given.
     pub file: String,

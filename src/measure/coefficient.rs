@@ -156,7 +156,7 @@ impl TargetRanks {
 }
 
 /// T_n as an exact ratio of integer sums.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, schemars::JsonSchema)]
 pub struct Ratio {
     /// Σ of the numerator terms.
     pub numerator: i128,

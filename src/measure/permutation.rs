@@ -32,7 +32,7 @@ use serde::{Deserialize, Serialize};
 pub const LOCAL_PERMUTATION_ROWS: usize = 5;
 
 /// How the null draws of a test were made.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum NullScheme {
     /// The response permuted over all rows (empty conditioning set).
@@ -42,7 +42,7 @@ pub enum NullScheme {
 }
 
 /// The result of one permutation test.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct PermutationTest {
     /// The Monte Carlo p-value (Besag and Clifford 1991).
     pub p_value: f64,

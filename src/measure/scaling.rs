@@ -4,7 +4,18 @@ use super::ranks::doubled_mid_ranks;
 use serde::{Deserialize, Serialize};
 
 /// How predictor columns are put on a common footing before nearest-neighbour search.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default, clap::ValueEnum)]
+#[derive(
+    Clone,
+    Copy,
+    Debug,
+    PartialEq,
+    Eq,
+    Serialize,
+    schemars::JsonSchema,
+    Deserialize,
+    Default,
+    clap::ValueEnum,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum Scaling {
     /// Empirical CDF value with ties averaged (stored as twice the mid-rank; same neighbours).

@@ -11,7 +11,7 @@ use crate::rng::Key;
 use serde::{Deserialize, Serialize};
 
 /// One direction of the test: how far y is a function of x.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct XiTest {
     /// ξ_n(x, y).
     pub statistic: f64,

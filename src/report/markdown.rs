@@ -207,7 +207,7 @@ pub fn settings_sha256(finding: &Finding) -> String {
 }
 
 /// One row of the data section's column table.
-#[derive(serde::Serialize)]
+#[derive(serde::Serialize, schemars::JsonSchema)]
 struct ColumnRow<'a> {
     name: &'a str,
     /// `target`, `excluded`, `constant`, `duplicate` or `candidate`.

@@ -7,7 +7,9 @@ use crate::rng::{uniform_below, Key};
 use serde::{Deserialize, Serialize};
 
 /// How replicates draw their rows.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, clap::ValueEnum)]
+#[derive(
+    Clone, Copy, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "kebab-case")]
 pub enum PlanKind {
     /// B random splits into two disjoint halves of ⌊n/2⌋ rows: 2B replicates (Shah and Samworth,
@@ -41,7 +43,7 @@ impl PlanKind {
 }
 
 /// A validated resampling plan.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct ResamplePlan {
     /// The kind of plan.
     pub kind: PlanKind,

@@ -13,7 +13,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// What one replicate found: enough to aggregate, compare and locate a mismatch.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct ReplicateRecord {
     /// 0-based replicate index within the plan.
     pub replicate: u32,
@@ -40,7 +40,7 @@ pub struct ReplicateRecord {
 }
 
 /// A replicate's result read with the stated knowledge.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct KnowledgeRecord {
     /// The outcome with the knowledge.
     pub outcome: Outcome,
@@ -50,7 +50,7 @@ pub struct KnowledgeRecord {
 
 /// Stability of one reading of the search (its own, with the stated knowledge, or through the
 /// neighbourhood) over the replicates.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct ResultStability {
     /// Frequency of each column in a parent set identified by this reading.
     pub parents: BTreeMap<String, f64>,
@@ -61,7 +61,7 @@ pub struct ResultStability {
 }
 
 /// How often one outcome occurred, with its parent sets.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct OutcomeFrequency {
     /// The outcome.
     pub outcome: Outcome,
@@ -74,7 +74,7 @@ pub struct OutcomeFrequency {
 }
 
 /// Spread across replicates of the T_n of one full-data step's chosen variable.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct StepSpread {
     /// Full-data step number.
     pub step: usize,
@@ -91,7 +91,7 @@ pub struct StepSpread {
 }
 
 /// The Meinshausen–Bühlmann bound on falsely selected boundary members.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct ErrorBound {
     /// Average number of boundary members per replicate.
     pub q: f64,
@@ -106,7 +106,7 @@ pub struct ErrorBound {
 }
 
 /// Stability of everything the full-data search claimed.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct Stability {
     /// The resampling plan.
     pub plan: ResamplePlan,
@@ -154,7 +154,7 @@ pub struct Stability {
 }
 
 /// The headline (the full-data outcome with its parent sets) against the replicates.
-#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, Default, PartialEq, Serialize, schemars::JsonSchema, Deserialize)]
 pub struct Headline {
     /// Share of replicates that reach the full-data outcome with the same parent sets.
     pub frequency: f64,

@@ -21,7 +21,7 @@ use crate::measure::TargetRanks;
 use serde::{Deserialize, Serialize};
 
 /// T_n(response, other | target) and its test.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct DirectionTest {
     /// T_n; `None` when the response is a function of the target.
     pub t_n: Option<f64>,
@@ -32,7 +32,7 @@ pub struct DirectionTest {
 }
 
 /// The collider test of one pair of members.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ColliderTest {
     /// First member (selection order).
     pub a: String,

@@ -15,7 +15,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 /// One candidate's value at one step.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Score {
     /// Candidate column.
     pub column: String,
@@ -26,7 +26,7 @@ pub struct Score {
 }
 
 /// One step of the selection, with every remaining candidate's value.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Step {
     /// 1-based step number.
     pub step: usize,
@@ -47,7 +47,7 @@ pub struct Step {
 }
 
 /// Why a selection ended.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum StopReason {
     /// The best T_n at the last step was ≤ 0 (the natural stopping rule; the calibrated rule
@@ -74,7 +74,7 @@ pub enum StopReason {
 }
 
 /// The outcome of one forward selection.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Selection {
     /// The response column.
     pub response: String,

@@ -29,7 +29,7 @@ use std::collections::{BTreeMap, BTreeSet};
 /// What the analyst knows, as given: ordered tiers of columns (earliest first: a column cannot
 /// cause a column of an earlier tier; within a tier nothing is assumed) and directed edges
 /// `[from, to]` that are forbidden or required.
-#[derive(Clone, Debug, Default, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Default, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct Knowledge {
     /// Tiers of columns, earliest first.
@@ -234,7 +234,7 @@ impl Knowledge {
 }
 
 /// Which way an edge at the target points.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum Direction {
     /// member → target: a parent.
@@ -246,7 +246,7 @@ pub enum Direction {
 }
 
 /// What a statement rests on.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum Basis {
     /// The data alone, under the method's assumptions.
@@ -270,7 +270,7 @@ impl Basis {
 }
 
 /// One edge at the target: the member, its direction, what that rests on and why.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct TargetEdge {
     /// The member of MB(target).
     pub member: String,
@@ -283,7 +283,7 @@ pub struct TargetEdge {
 }
 
 /// A disagreement between the data and the stated knowledge.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct KnowledgeConflict {
     /// The column involved besides the target.
     pub column: String,
@@ -292,7 +292,7 @@ pub struct KnowledgeConflict {
 }
 
 /// The parent search read together with the stated knowledge.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct WithKnowledge {
     /// The conclusion with the knowledge: `conflict` when data and knowledge disagree.
     pub outcome: Outcome,

@@ -29,7 +29,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, BTreeSet};
 
 /// The parent search read together with the parent searches of its open members.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct NeighbourhoodOrientation {
     /// The conclusion with the neighbours' searches: `conflict` when they contradict each other
     /// or the target's own search.
@@ -50,7 +50,7 @@ pub struct NeighbourhoodOrientation {
 }
 
 /// The outcome of one member's own parent search, as far as the orientation uses it.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct MemberSearch {
     /// Its outcome.
     pub outcome: Outcome,

@@ -21,7 +21,7 @@ use std::collections::{BTreeMap, BTreeSet};
 pub const NEAR_TIE_MARGIN: f64 = 0.01;
 
 /// Pairwise marginal independence of two members, tested with ξ_n in both directions.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct PairTest {
     /// First member.
     pub a: String,
@@ -53,7 +53,7 @@ pub struct PairTest {
 }
 
 /// One connected component of the mutual-membership graph.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Component {
     /// Members in their order of selection into MB(target).
     pub members: Vec<String>,
@@ -73,7 +73,7 @@ pub struct Component {
 }
 
 /// What the search concludes about the target's parents.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum Outcome {
     /// Exactly one component passed: its members are the parents.
@@ -99,7 +99,7 @@ impl Outcome {
 }
 
 /// A membership that holds in one direction only.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct OneWayMembership {
     /// The column whose boundary contains `member`.
     pub boundary_of: String,
@@ -108,7 +108,7 @@ pub struct OneWayMembership {
 }
 
 /// A selection step whose winner beat the runner-up by less than `NEAR_TIE_MARGIN`.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct NearTie {
     /// The response of the selection.
     pub response: String,
@@ -123,7 +123,7 @@ pub struct NearTie {
 }
 
 /// What the data show against the assumptions.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct Diagnostics {
     /// Members of MB(target) whose own boundary lacks the target (should not happen under the
     /// assumptions); they take no part in the mutual-membership graph.
@@ -148,7 +148,7 @@ pub struct Diagnostics {
 }
 
 /// Everything the local parent search found for one target.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ParentSearch {
     /// The target column.
     pub target: String,

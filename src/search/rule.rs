@@ -5,7 +5,9 @@ use crate::measure::permutation::TestPlan;
 use serde::{Deserialize, Serialize};
 
 /// The stopping rule of every forward selection of a search.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq, clap::ValueEnum)]
+#[derive(
+    Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq, Eq, clap::ValueEnum,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum StoppingRule {
     /// Admit the best candidate only when the permutation test of its step rejects conditional
@@ -27,7 +29,7 @@ impl StoppingRule {
 }
 
 /// How every forward selection of a search decides.
-#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Copy, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct SelectionRule {
     /// Calibrated or natural.
     pub stopping_rule: StoppingRule,

@@ -21,7 +21,7 @@ use crate::measure::TargetRanks;
 use serde::{Deserialize, Serialize};
 
 /// One test of the screening check.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct ScreeningTest {
     /// The member tested (a column of a group that would be claimed).
     pub member: String,

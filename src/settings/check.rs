@@ -5,6 +5,7 @@ use super::key::{Key, SettingProblem};
 use super::{
     DEFAULT_ALPHA, DEFAULT_MISSING_TOKENS, DEFAULT_PERMUTATIONS, DEFAULT_REPLICATES, DEFAULT_SEED,
     DEFAULT_SELECTION_ALPHA, DEFAULT_STABILITY_THRESHOLD, MAX_PERMUTATIONS, MAX_REPLICATES,
+    MAX_SEED,
 };
 use crate::data::LoadOptions;
 use crate::measure::permutation::TestPlan;
@@ -135,6 +136,13 @@ impl SettingsInput {
             self.candidates.as_deref(),
             &mut problems,
         );
+        if let Some(seed) = self.seed.filter(|&s| s > MAX_SEED) {
+            problems.push(SettingProblem::of(Key::Seed).text(format!(
+                " {seed} is above {MAX_SEED} (2^53 - 1): every JSON reader must hold the seed \
+                 exactly, and the canonical form of the results writes numbers as IEEE 754 doubles \
+                 (RFC 8785, section 3.2.2.3)"
+            )));
+        }
         let alpha = self.alpha.unwrap_or(DEFAULT_ALPHA);
         if !is_level(alpha) {
             problems.push(not_a_level(Key::Alpha, alpha));

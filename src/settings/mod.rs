@@ -26,6 +26,10 @@ pub use crate::search::rule::{DEFAULT_PERMUTATIONS, DEFAULT_SELECTION_ALPHA, MAX
 /// Default study seed (any fixed number would do; 1 is the command line's since the first version).
 pub const DEFAULT_SEED: u64 = 1;
 
+/// Largest seed: 2^53 - 1, the largest integer every JSON reader holds exactly (RFC 8785 writes
+/// numbers as IEEE 754 doubles; RFC 7493, section 2.2).
+pub const MAX_SEED: u64 = (1 << 53) - 1;
+
 /// Default level of the pairwise independence tests of the parent step (common practice).
 pub const DEFAULT_ALPHA: f64 = 0.05;
 

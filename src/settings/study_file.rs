@@ -12,7 +12,7 @@ use std::path::{Path, PathBuf};
 use toml::de::DeTable;
 
 /// Where settings came from, as the manifest records it.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct StudyFileRecord {
     /// The study file as given.
     pub path: String,

@@ -23,7 +23,7 @@ pub const TARGETS_SCHEMA: &str = "forebear.targets/1";
 
 /// The study summary: one entry per target (the batch index's entries), a function of the
 /// findings only (no times, paths or command lines), like a batch's `summary.json`.
-#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]
 pub struct TargetsSummary {
     /// Layout version, [`TARGETS_SCHEMA`].
     pub schema: String,

@@ -7,7 +7,7 @@ use serde::Serialize;
 pub const REPORT_SCHEMA: &str = "forebear.verification/1";
 
 /// The result of one check.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum Status {
     /// Matches.
@@ -21,7 +21,7 @@ pub enum Status {
 }
 
 /// One check and what it found.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema)]
 pub struct Check {
     /// What was checked.
     pub name: String,
@@ -32,7 +32,7 @@ pub struct Check {
 }
 
 /// Which replicates a spot check re-ran.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema)]
 pub struct SpotCheck {
     /// The replicates re-run, ascending.
     pub replicates: Vec<u32>,
@@ -43,7 +43,7 @@ pub struct SpotCheck {
 }
 
 /// The verification report.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema)]
 pub struct Report {
     /// Layout version.
     pub schema: String,

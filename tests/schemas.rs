@@ -1,0 +1,125 @@
+//! The published JSON Schemas (`docs/schemas/`): they are the ones the writing types derive (so a
+//! schema cannot drift from the files), and real outputs of the binary validate against them with
+//! an independent validator (the `jsonschema` crate, JSON Schema draft 2020-12).
+
+use crate::common::{analyze_with_config, assert_success, bin, fresh_dir, verify, write_demo_csv};
+use forebear::schemas::{all, Published};
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+
+fn published_path(schema: &Published) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("docs/schemas")
+        .join(schema.file)
+}
+
+fn read_json(path: &Path) -> Value {
+    let text = std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+    serde_json::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+/// The published schema of a layout.
+fn schema_of(layout: &str) -> Value {
+    let schema = all().into_iter().find(|s| s.layout == layout).unwrap();
+    read_json(&published_path(&schema))
+}
+
+/// Every validation error of a file against the published schema of its own `schema` member.
+fn errors(document: &Value) -> Vec<String> {
+    let layout = document["schema"].as_str().expect("a `schema` member");
+    let validator = jsonschema::draft202012::new(&schema_of(layout)).expect("a valid schema");
+    validator
+        .iter_errors(document)
+        .map(|e| format!("{} at {}", e, e.instance_path()))
+        .collect()
+}
+
+fn assert_valid(path: &Path) -> Value {
+    let document = read_json(path);
+    let errors = errors(&document);
+    assert!(errors.is_empty(), "{}: {errors:#?}", path.display());
+    document
+}
+
+#[test]
+fn published_schemas_are_the_ones_the_types_derive() {
+    let bless = std::env::var_os("FOREBEAR_BLESS").is_some();
+    for schema in all() {
+        let path = published_path(&schema);
+        let text = serde_json::to_string_pretty(&schema.schema).unwrap() + "\n";
+        if bless {
+            std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+            std::fs::write(&path, &text).unwrap();
+        }
+        let published = std::fs::read_to_string(&path).unwrap_or_default();
+        assert!(
+            published == text,
+            "{} is not the schema the types derive; run FOREBEAR_BLESS=1 cargo test --release \
+             --test integration schemas:: and read the diff",
+            path.display()
+        );
+    }
+}
+
+#[test]
+fn every_output_of_an_analysis_with_knowledge_validates_and_a_broken_one_does_not() {
+    let dir = fresh_dir("schemas-analysis");
+    let data = write_demo_csv(&dir);
+    let config = dir.join("study.toml");
+    std::fs::write(
+        &config,
+        "targets = [\"crush_strength\", \"pore_density\"]\nreplicates = 4\n\n[knowledge]\ntiers = \
+         [[\"kiln_peak_temp\", \"binder_fraction\", \"slurry_moisture\"], [\"pore_density\"], \
+         [\"crush_strength\"]]\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    assert_success(&analyze_with_config(&data, &config, &[], &out));
+    let summary = assert_valid(&out.join("summary.json"));
+    assert_eq!(summary["schema"], "forebear.targets/1");
+    let dossier = out.join("crush_strength");
+    let mut result = assert_valid(&dossier.join("result.json"));
+    assert!(
+        result["with_knowledge"].is_object(),
+        "the optional parts are exercised"
+    );
+    assert_valid(&dossier.join("manifest.json"));
+    let output = verify(&dossier, &data, &["--json"]);
+    assert_success(&output);
+    let report: Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!(errors(&report).is_empty(), "{:#?}", errors(&report));
+
+    // The check can fail: a result without its digest, or with a count of the wrong type.
+    result.as_object_mut().unwrap().remove("digest");
+    assert!(errors(&result).iter().any(|e| e.contains("digest")));
+    let mut result = read_json(&dossier.join("result.json"));
+    result["data"]["rows_used"] = Value::from("many");
+    assert!(!errors(&result).is_empty());
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn a_batch_summary_validates() {
+    let dir = fresh_dir("schemas-batch");
+    std::fs::create_dir_all(dir.join("data")).unwrap();
+    std::fs::write(
+        dir.join("data/line_a.csv"),
+        forebear::demo::generate_demo_csv_seeded(101),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("plan.toml"),
+        "[defaults]\nseed = 11\nreplicates = 2\n\n[[study]]\nname = \"line-a\"\ndata = \
+         \"data/line_a.csv\"\ntargets = [\"crush_strength\"]\n",
+    )
+    .unwrap();
+    let output = bin()
+        .current_dir(&dir)
+        .args(["--quiet", "batch", "plan.toml", "--out", "runs"])
+        .output()
+        .unwrap();
+    assert_success(&output);
+    let summary = assert_valid(&dir.join("runs/summary.json"));
+    assert_eq!(summary["schema"], "forebear.batch/1");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
