@@ -296,6 +296,7 @@ impl Prepared {
             data_path: self.data_path.clone(),
             command_line,
             study_file: None,
+            operator: String::new(),
         }
     }
 }
@@ -494,6 +495,7 @@ pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> 
         data_path: first.finding.run.data_path.clone(),
         command_line,
         study_file: first.finding.run.study_file.clone(),
+        operator: String::new(),
     };
     Ok(Analysed {
         finding: attach_stability(finding, &records),

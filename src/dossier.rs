@@ -23,8 +23,10 @@ pub struct DossierRequest<'a> {
     pub study_file: Option<StudyFileRecord>,
     /// The output folder.
     pub out: &'a Path,
-    /// Replace a former dossier there.
+    /// Replace a former dossier there (kept under a dated name).
     pub force: bool,
+    /// Who runs the analysis (recorded in the dossier and the audit trail).
+    pub operator: &'a str,
 }
 
 /// Analyses the request's data into a dossier in its output folder; returns the finding.
@@ -42,12 +44,28 @@ pub fn write_dossier(
         progress,
     )?;
     analysed.finding.run.study_file = request.study_file.clone();
-    crate::report::write_dossier(&analysed, claim)?;
+    analysed.finding.run.operator = request.operator.to_string();
+    let kept = crate::report::write_dossier(&analysed, claim)?;
     progress.say(&format!(
         "wrote {}/ (result.json, dossier.md, dossier.html, stability.csv, trace.csv, manifest.json)",
         request.out.display()
     ));
+    say_kept(kept.as_deref(), progress);
+    crate::trail::append(
+        &crate::trail::Record::dossier("analyze", &analysed.finding, request.out, kept.as_deref()),
+        request.operator,
+    )?;
     Ok(analysed.finding)
+}
+
+/// Tells where a replaced former output is kept.
+pub fn say_kept(kept: Option<&Path>, progress: &dyn Progress) {
+    if let Some(kept) = kept {
+        progress.say(&format!(
+            "kept the former output as {}/ (--force replaces, never deletes)",
+            kept.display()
+        ));
+    }
 }
 
 /// Computes replicates `range` of the request's analysis into `partial.json` in its output folder

@@ -91,6 +91,10 @@ pub struct RunInfo {
     /// The study file the settings came from (`analyze --config`), with its SHA-256.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub study_file: Option<crate::settings::StudyFileRecord>,
+    /// Who ran the analysis (`--operator`, else the login name); empty in results written before
+    /// the operator was recorded.
+    #[serde(default)]
+    pub operator: String,
 }
 
 /// What the used rows of one column look like (for the dossier's data section).

@@ -29,4 +29,5 @@ pub mod study;
 pub mod targets;
 pub mod text;
 pub mod timefmt;
+pub mod trail;
 pub mod verify;

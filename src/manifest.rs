@@ -33,6 +33,10 @@ pub struct Manifest {
     pub command: ManifestCommand,
     /// When the dossier was generated (UTC, RFC 3339).
     pub generated_utc: String,
+    /// Who generated it (`--operator`, else the login name); empty in manifests written before
+    /// the operator was recorded.
+    #[serde(default)]
+    pub operator: String,
     /// SHA-256 of the canonical JSON of this manifest without the seal: an edit of the manifest
     /// that does not recompute it is detected.
     pub seal: String,
@@ -127,6 +131,7 @@ impl Manifest {
                 reproduce: crate::reproduce::reproduce_command(finding),
             },
             generated_utc: crate::timefmt::now_rfc3339(),
+            operator: finding.run.operator.clone(),
             seal: String::new(),
         };
         manifest.seal = manifest.computed_seal();

@@ -243,7 +243,7 @@ fn killed_between_the_two_renames_the_next_run_puts_the_former_output_back() {
 }
 
 #[test]
-fn killed_after_the_renames_the_next_run_removes_the_replaced_output() {
+fn killed_after_the_renames_the_next_run_keeps_the_replaced_output_under_a_dated_name() {
     let s = Scratch::new("atomic-after");
     let data = demo(&s);
     let out = s.path("dossier");
@@ -252,10 +252,23 @@ fn killed_after_the_renames_the_next_run_removes_the_replaced_output() {
     assert_ne!(new, former, "the new output is in place");
     assert!(beside(&out).contains(&format!(".dossier.old-{pid}")));
     let next = analyze(&s, &data, &out, &[]);
-    let removed = format!("removed '.dossier.old-{pid}', a former output already replaced");
-    common::assert_refused(&next, &[&removed]);
+    let kept = format!(
+        "kept '.dossier.old-{pid}', a former output already replaced, as 'dossier.replaced-"
+    );
+    common::assert_refused(&next, &[&kept]);
     assert_eq!(result_text(&out), new, "the new output stays");
     assert_eq!(beside(&out), Vec::<String>::new());
+    let dated: Vec<String> = s
+        .entries()
+        .into_iter()
+        .filter(|n| n.starts_with("dossier.replaced-"))
+        .collect();
+    assert_eq!(dated.len(), 1);
+    assert_eq!(
+        result_text(&s.path(&dated[0])),
+        former,
+        "the former output, kept"
+    );
 }
 
 #[test]
@@ -334,7 +347,13 @@ fn a_symlinked_out_is_written_through_and_stays_a_link() {
         .file_type()
         .is_symlink());
     assert!(s.path("real/manifest.json").is_file());
-    assert_eq!(s.entries(), ["filter_discs.csv", "link", "real"]);
+    let entries = s.entries();
+    assert_eq!(
+        entries[..4],
+        ["filter_discs.csv", "forebear-trail.jsonl", "link", "real"]
+    );
+    assert!(entries[4].starts_with("real.replaced-"), "{entries:?}");
+    assert_eq!(entries.len(), 5);
 }
 
 #[cfg(unix)]

@@ -759,9 +759,15 @@ fn output_folder_holding_a_previous_result_is_replaced_only_with_force() {
     );
     assert_success(&analyze(&s, &data, "y", &["--seed", "2", "--force"]));
     assert_eq!(result_json(&s.path("out"))["settings"]["seed"], 2);
+    let entries = s.entries();
+    assert_eq!(entries.len(), 4, "{entries:?}");
+    assert!(
+        entries[3].starts_with("out.replaced-"),
+        "the former dossier is kept"
+    );
     assert_eq!(
-        s.entries(),
-        vec!["data.csv", "out"],
+        entries[..3],
+        ["data.csv", "forebear-trail.jsonl", "out"],
         "no staging or old folder left behind"
     );
 }

@@ -35,5 +35,6 @@ mod schemas;
 mod search_simulated;
 mod structure;
 mod targets;
+mod trail;
 mod verify;
 mod xi_scipy;

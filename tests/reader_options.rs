@@ -146,6 +146,7 @@ fn quoted_fields_with_delimiters_and_line_breaks_are_read_and_lines_stay_right()
     let spoiled = text.replacen(&format!("{:.4}\n", table(40)[13][3]), "oops\n", 1);
     let data = s.write("quoted.csv", &spoiled);
     std::fs::remove_dir_all(s.path("out")).unwrap();
+    std::fs::remove_file(s.path("forebear-trail.jsonl")).unwrap();
     let output = analyze(&s, &data, "y", &["--exclude", "note"]);
     assert_input_error(
         &output,

@@ -114,7 +114,7 @@ fn assert_statuses(stdout: &str, checks: &[&str], label: &str) {
 /// The run facts verify takes from the record, as the text report lists them.
 const TAKEN_FROM_RECORD: &str = "taken from the record, not recomputed (run facts, which the \
      digest leaves out too): result.json /run/started_utc, /run/duration_seconds, /run/threads, \
-     /run/data_path, /run/command_line, /tool/version, /tool/build, /data/file";
+     /run/data_path, /run/command_line, /run/operator, /tool/version, /tool/build, /data/file";
 
 /// A copy of a dossier folder (its files) beside it, to forge without analysing again.
 fn copy_dossier(out: &Path, name: &str) -> PathBuf {
@@ -506,6 +506,7 @@ fn json_report_carries_every_check_and_the_verdict() {
             "result.json#/run/threads",
             "result.json#/run/data_path",
             "result.json#/run/command_line",
+            "result.json#/run/operator",
             "result.json#/tool/version",
             "result.json#/tool/build",
             "result.json#/data/file",

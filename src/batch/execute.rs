@@ -35,6 +35,8 @@ pub struct BatchRequest {
     pub collect: Vec<PathBuf>,
     /// Replace an existing output folder that holds a former batch output.
     pub force: bool,
+    /// Who runs the batch (recorded in every dossier and the audit trail).
+    pub operator: String,
 }
 
 /// Refuses a drift threshold outside [0, 1]. [`execute`] checks it first; a caller may check it
@@ -88,7 +90,14 @@ pub fn execute(
                 s.index, s.count
             ))
         ));
-        let studies = run_pairs(plan, shard, staging.path(), command_line, progress);
+        let studies = run_pairs(
+            plan,
+            shard,
+            staging.path(),
+            command_line,
+            &request.operator,
+            progress,
+        );
         (ToolInfo::current(), studies)
     } else {
         progress.say(&format!(
@@ -103,6 +112,45 @@ pub fn execute(
         .map(|(p, sha)| compare(p, sha, &draft, request.drift_threshold));
     let result = summary(plan, shard, tool, draft.studies, drift);
     write_index(staging.path(), &result)?;
-    staging.finish()?;
+    let kept = staging.finish()?;
+    crate::dossier::say_kept(kept.as_deref(), progress);
+    crate::trail::append(&trail_record(request, &result, kept), &request.operator)?;
     Ok(result)
+}
+
+/// The audit trail's record of a batch run: the plan, the pairs done and failed, the drift found,
+/// the SHA-256 of `summary.json` (which lists every dossier's digest), a replaced output kept.
+fn trail_record(
+    request: &BatchRequest,
+    result: &Summary,
+    kept: Option<PathBuf>,
+) -> crate::trail::Record {
+    let totals = &result.totals;
+    let mut facts = std::collections::BTreeMap::from([
+        ("plan".to_string(), request.plan_file.display().to_string()),
+        ("pairs".to_string(), totals.pairs.to_string()),
+        ("done".to_string(), totals.done.to_string()),
+        ("failed".to_string(), totals.failed.to_string()),
+        (
+            "summary_sha256".to_string(),
+            crate::data::fingerprint::sha256_text(&result.to_text()),
+        ),
+    ]);
+    if request.previous.is_some() {
+        facts.insert("drift_changes".into(), totals.changes.to_string());
+    }
+    if let Some(shard) = request.shard {
+        facts.insert("shard".into(), format!("{}/{}", shard.index, shard.count));
+    }
+    if let Some(kept) = kept {
+        facts.insert(
+            "replaced_output_kept_as".into(),
+            crate::trail::kept_name(&kept),
+        );
+    }
+    crate::trail::Record {
+        action: "batch",
+        output: request.out.clone(),
+        facts,
+    }
 }

@@ -107,6 +107,7 @@ mod tests {
             shard: None,
             collect: Vec::new(),
             force: false,
+            operator: String::new(),
         }
     }
 

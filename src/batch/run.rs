@@ -28,6 +28,7 @@ pub fn run_pairs(
     shard: Option<Shard>,
     dir: &Path,
     command_line: &[String],
+    operator: &str,
     progress: &dyn Progress,
 ) -> BTreeMap<String, StudySummary> {
     let pairs: Vec<Pair> = plan
@@ -42,7 +43,8 @@ pub fn run_pairs(
             ready = analyse_together(&pairs, pair.study, command_line, progress);
         }
         let started = Instant::now();
-        let (entry, full_error) = run_pair(pair, dir, command_line, ready.remove(&pair.index));
+        let (entry, full_error) =
+            run_pair(pair, dir, command_line, operator, ready.remove(&pair.index));
         let said = match &full_error {
             // The log gets the whole message; the index only its place (see `public_error`).
             Some(message) => format!("FAILED: {message}"),
@@ -147,12 +149,13 @@ fn run_pair(
     pair: &Pair,
     dir: &Path,
     command_line: &[String],
+    operator: &str,
     ready: Option<Analysed>,
 ) -> (Entry, Option<String>) {
     let relative = format!("{}/{}", pair.study.name, pair.target);
     let folder = dir.join(&pair.study.name).join(pair.target);
     let work = || -> std::result::Result<Finding, (crate::error::Error, bool)> {
-        let analysed = match ready {
+        let mut analysed = match ready {
             Some(analysed) => analysed,
             None => analyze_file(
                 &pair.study.data_path,
@@ -163,6 +166,7 @@ fn run_pair(
             )
             .map_err(|e| (plan_named(e), true))?,
         };
+        analysed.finding.run.operator = operator.to_string();
         let claim = Claim::take(&folder, Kind::Dossier, false, &Silent).map_err(|e| (e, false))?;
         crate::report::write_dossier(&analysed, claim).map_err(|e| (e, false))?;
         Ok(analysed.finding)

@@ -90,7 +90,8 @@ pub struct AnalyzeArgs {
     /// How the file is read.
     #[command(flatten)]
     pub reader: super::reader::ReaderArgs,
-    /// Replace an existing output folder that holds a previous forebear result.
+    /// Replace an existing output folder that holds a previous forebear result (kept beside it as
+    /// NAME.replaced-<UTC time>).
     #[arg(long)]
     pub force: bool,
 }
@@ -138,6 +139,7 @@ pub fn run(
     args: AnalyzeArgs,
     explicit: &[Key],
     argv: Vec<String>,
+    operator: &str,
     progress: &dyn Progress,
 ) -> Result<()> {
     let file = args.config.as_deref().map(StudyFile::read).transpose()?;
@@ -147,7 +149,7 @@ pub fn run(
         false => sources.check()?,
     };
     if args.all_targets || settings.targets().len() > 1 {
-        return run_several(&args, &settings, &sources, argv, progress);
+        return run_several(&args, &settings, &sources, argv, operator, progress);
     }
     let target = settings.single_target().map_err(|e| sources.explain(e))?;
     let request = DossierRequest {
@@ -157,6 +159,7 @@ pub fn run(
         study_file: sources.study_file(),
         out: &args.out,
         force: args.force,
+        operator,
     };
     if let Some(range) = args.replicate_range.clone() {
         let written =
@@ -173,6 +176,7 @@ fn run_several(
     settings: &crate::settings::Settings,
     sources: &Sources,
     argv: Vec<String>,
+    operator: &str,
     progress: &dyn Progress,
 ) -> Result<()> {
     if args.replicate_range.is_some() {
@@ -191,6 +195,7 @@ fn run_several(
         study_file: sources.study_file(),
         out: &args.out,
         force: args.force,
+        operator,
     };
     let (findings, _) = write_targets(&request, argv, progress).map_err(|e| sources.explain(e))?;
     for finding in &findings {

@@ -38,14 +38,20 @@ pub struct BatchArgs {
     /// Validate the plan (and that every data file exists) and stop; nothing runs.
     #[arg(long)]
     pub check: bool,
-    /// Replace an existing output folder that holds a former batch output.
+    /// Replace an existing output folder that holds a former batch output (kept beside it as
+    /// NAME.replaced-<UTC time>).
     #[arg(long)]
     pub force: bool,
 }
 
 /// Runs `batch`: the closing line on stderr, the index path on stdout, and the result whose kind
 /// sets the exit code ([`crate::batch::outcome::result`]).
-pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+pub fn run(
+    args: BatchArgs,
+    argv: Vec<String>,
+    operator: &str,
+    progress: &dyn Progress,
+) -> Result<()> {
     let started = Instant::now();
     check_drift_threshold(args.drift_threshold)?;
     if args.check {
@@ -62,6 +68,7 @@ pub fn run(args: BatchArgs, argv: Vec<String>, progress: &dyn Progress) -> Resul
         shard: args.shard,
         collect: args.collect,
         force: args.force,
+        operator: operator.to_string(),
     };
     let summary = execute(&request, &argv, progress)?;
     progress.say(&closing_line(&request, &summary, started.elapsed()));

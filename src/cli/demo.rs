@@ -26,7 +26,7 @@ pub struct DemoArgs {
 }
 
 /// Runs `demo`.
-pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
+pub fn run(args: DemoArgs, operator: &str, progress: &dyn Progress) -> Result<()> {
     if args.regenerate {
         match args.data_seed {
             Some(seed) => super::out::print(&crate::demo::generate_demo_csv_seeded(seed))?,
@@ -60,6 +60,7 @@ pub fn run(args: DemoArgs, progress: &dyn Progress) -> Result<()> {
             study_file: None,
             out: &out,
             force: args.force,
+            operator,
         };
         let finding = crate::dossier::write_dossier(&request, argv, progress)?;
         super::analyze::print_written(&finding, &out)?;

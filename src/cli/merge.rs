@@ -15,19 +15,31 @@ pub struct MergeArgs {
     /// Output folder for the merged result.
     #[arg(long, default_value = "forebear-output")]
     pub out: PathBuf,
-    /// Replace an existing output folder that holds a previous forebear result.
+    /// Replace an existing output folder that holds a previous forebear result (kept beside it as
+    /// NAME.replaced-<UTC time>).
     #[arg(long)]
     pub force: bool,
 }
 
 /// Runs `merge`.
-pub fn run(args: MergeArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+pub fn run(
+    args: MergeArgs,
+    argv: Vec<String>,
+    operator: &str,
+    progress: &dyn Progress,
+) -> Result<()> {
     let claim = Claim::take(&args.out, Kind::Dossier, args.force, progress)?;
     let parts = read_parts(&args.parts)?;
     progress.say(&format!("merging {} parts", parts.len()));
-    let analysed = merge_parts(parts, argv)?;
-    crate::report::write_dossier(&analysed, claim)?;
+    let mut analysed = merge_parts(parts, argv)?;
+    analysed.finding.run.operator = operator.to_string();
+    let kept = crate::report::write_dossier(&analysed, claim)?;
+    crate::dossier::say_kept(kept.as_deref(), progress);
     let finding = &analysed.finding;
+    crate::trail::append(
+        &crate::trail::Record::dossier("merge", finding, &args.out, kept.as_deref()),
+        operator,
+    )?;
     super::out::line(&format!(
         "{}: {} — {}",
         finding.target,

@@ -8,6 +8,7 @@ pub mod fingerprint;
 pub mod merge;
 pub mod out;
 pub mod reader;
+pub mod trail;
 pub mod verify;
 
 use crate::analysis::Progress;
@@ -29,6 +30,10 @@ pub struct Cli {
     /// No progress messages on stderr.
     #[arg(long, global = true)]
     pub quiet: bool,
+    /// Who runs the command, as recorded in dossiers and the audit trail (default: the login
+    /// name).
+    #[arg(long, global = true, value_name = "NAME")]
+    pub operator: Option<String>,
 }
 
 /// Subcommands.
@@ -48,6 +53,8 @@ pub enum Command {
     Verify(verify::VerifyArgs),
     /// Print the SHA-256 of a data file's bytes and of its parsed content, and its shape.
     Fingerprint(fingerprint::FingerprintArgs),
+    /// Show an audit trail (forebear-trail.jsonl) and check its hash chain.
+    Trail(trail::TrailArgs),
 }
 
 /// Progress on stderr, unless `--quiet`.
@@ -117,13 +124,20 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
             })?;
     }
     let progress = Stderr { quiet: cli.quiet };
+    let operator = match cli.operator.as_deref() {
+        Some(given) => crate::trail::check_operator(given)
+            .map_err(|e| crate::error::Error::input(format!("--operator: {e}")))?,
+        None => crate::trail::operator(None),
+    };
+    let operator = operator.as_str();
     match cli.command {
-        Command::Analyze(args) => analyze::run(args, explicit, argv, &progress),
+        Command::Analyze(args) => analyze::run(args, explicit, argv, operator, &progress),
         Command::Dependence(args) => dependence::run(args),
-        Command::Demo(args) => demo::run(args, &progress),
-        Command::Batch(args) => batch::run(args, argv, &progress),
-        Command::Merge(args) => merge::run(args, argv, &progress),
-        Command::Verify(args) => verify::run(args, argv, &progress),
+        Command::Demo(args) => demo::run(args, operator, &progress),
+        Command::Batch(args) => batch::run(args, argv, operator, &progress),
+        Command::Merge(args) => merge::run(args, argv, operator, &progress),
+        Command::Verify(args) => verify::run(args, argv, operator, &progress),
         Command::Fingerprint(args) => fingerprint::run(args),
+        Command::Trail(args) => trail::run(args),
     }
 }

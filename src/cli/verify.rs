@@ -27,10 +27,20 @@ pub struct VerifyArgs {
     /// Print the report as JSON instead of text.
     #[arg(long)]
     pub json: bool,
+    /// Append the verdict to the audit trail (forebear-trail.jsonl) in the folder that holds the
+    /// dossier.
+    #[arg(long)]
+    pub record: bool,
 }
 
 /// Runs `verify`: prints the report (verdict on the last line); a mismatch is exit code 1.
-pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+pub fn run(
+    args: VerifyArgs,
+    argv: Vec<String>,
+    operator: &str,
+    progress: &dyn Progress,
+) -> Result<()> {
+    let record = args.record;
     let request = Request {
         dir: args.dir,
         data: args.data,
@@ -42,11 +52,34 @@ pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Resu
     let report = match verify(&request, progress) {
         Ok(report) => report,
         Err(e @ Error::Mismatch(_)) => {
+            if record {
+                let facts = [
+                    ("verdict", "MISMATCH".to_string()),
+                    ("reason", e.to_string()),
+                ];
+                append_verdict(&request, &facts, operator)?;
+            }
             super::out::line("MISMATCH")?;
             return Err(e);
         }
         Err(e) => return Err(e),
     };
+    if record {
+        let failed: Vec<&str> = report
+            .checks
+            .iter()
+            .filter(|c| c.status == crate::verify::Status::Fail)
+            .map(|c| c.name.as_str())
+            .collect();
+        let mut facts = vec![("verdict", report.verdict.clone())];
+        if !failed.is_empty() {
+            facts.push(("failed_checks", failed.join(", ")));
+        }
+        if let Some(spot) = &report.spot_check {
+            facts.push(("spot_check_replicates", spot.replicates.len().to_string()));
+        }
+        append_verdict(&request, &facts, operator)?;
+    }
     if args.json {
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| Error::internal(format!("verification report: {e}")))?;
@@ -55,4 +88,26 @@ pub fn run(args: VerifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Resu
         super::out::print(&render_text(&report))?;
     }
     report.result()
+}
+
+/// Appends a verification's verdict to the audit trail beside the dossier, with the data file
+/// checked and the SHA-256 of the manifest it was checked against.
+fn append_verdict(request: &Request, facts: &[(&str, String)], operator: &str) -> Result<()> {
+    let mut facts: std::collections::BTreeMap<String, String> = facts
+        .iter()
+        .map(|(k, v)| (k.to_string(), v.clone()))
+        .collect();
+    facts.insert("data".into(), request.data.display().to_string());
+    if let Ok(bytes) = std::fs::read(request.dir.join(crate::manifest::MANIFEST_FILE)) {
+        facts.insert(
+            "manifest_sha256".into(),
+            crate::digest::hex(&<sha2::Sha256 as sha2::Digest>::digest(&bytes)),
+        );
+    }
+    let record = crate::trail::Record {
+        action: "verify",
+        output: request.dir.clone(),
+        facts,
+    };
+    crate::trail::append(&record, operator).map(|_| ())
 }

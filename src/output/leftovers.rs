@@ -4,12 +4,13 @@
 //! - `.NAME.partial-PID`: a staging folder; removed (it never was an output);
 //! - `.NAME.old-PID`: the former output, moved aside by a `--force` run to make room for the new
 //!   one. If the new output never arrived (NAME is absent), the former output is put back; if it
-//!   did (NAME holds a forebear output), the former one is removed as that run would have done.
+//!   did (NAME holds a forebear output), the former one is kept under its dated name
+//!   (`NAME.replaced-…`, `keep.rs`) as that run would have done.
 //!
 //! A leftover whose process still runs is left alone, and so is anything that does not hold what
 //! its name promises. The run says what it did in one progress line.
 
-use super::rules::{examine_any, remove_former, Found};
+use super::rules::{examine_any, Found};
 use crate::analysis::Progress;
 use std::path::{Path, PathBuf};
 
@@ -129,8 +130,8 @@ fn recover_former(dir: &Path, leftover: &Leftover) -> String {
     }
     let keep =
         |why: &str| format!("left '{name}' as it is ({why}); look at it and move it by hand");
-    let former = match examine_any(&leftover.path) {
-        Ok(Found::Former(former)) => former,
+    match examine_any(&leftover.path) {
+        Ok(Found::Former(_)) => {}
         Ok(_) => return keep("it does not hold a forebear output"),
         Err(e) => return keep(&format!("it cannot be read: {e}")),
     };
@@ -144,9 +145,12 @@ fn recover_former(dir: &Path, leftover: &Leftover) -> String {
             Err(e) => keep(&format!("it could not be moved back: {e}")),
         },
         // The replacing run's output arrived; the former output is what it was replacing.
-        Ok(Found::Former(_)) => match remove_former(&leftover.path, &former) {
-            Ok(()) => format!("removed '{name}', a former output already replaced"),
-            Err(e) => keep(&format!("it could not be removed: {e}")),
+        Ok(Found::Former(_)) => match super::keep::keep_former(&leftover.path, dir) {
+            Ok(kept) => format!(
+                "kept '{name}', a former output already replaced, as '{}'",
+                kept.file_name().unwrap_or_default().to_string_lossy()
+            ),
+            Err(e) => keep(&format!("it could not be renamed to its dated name: {e}")),
         },
         Ok(_) => keep("the output folder now holds something other than a forebear output"),
         Err(e) => keep(&format!("the output folder cannot be read: {e}")),

@@ -6,12 +6,14 @@
 //! path, takes the folder's lock (`lock.rs`; a second run on the same folder fails at once),
 //! recovers what interrupted runs left beside it (`leftovers.rs`), and examines what the folder
 //! holds (`rules.rs`): nothing, an empty folder, a former forebear output (replaced only with
-//! `--force`), or anything else (refused). The run then writes into a [`Staging`] folder beside the
+//! `--force`; the former output is then kept beside it under a dated name, `keep.rs`), or
+//! anything else (refused). The run then writes into a [`Staging`] folder beside the
 //! output and renames it into place after examining the folder again: if it changed during the run
 //! the run refuses and leaves it as it is.
 
 mod cleanup;
 mod fsio;
+mod keep;
 mod leftovers;
 mod lock;
 mod rules;
@@ -65,8 +67,8 @@ impl Claim {
     }
 
     /// Writes `files` (name, contents) into the folder as one step: staged, synced, then renamed
-    /// into place.
-    pub fn write_files(self, files: &[(&str, String)]) -> Result<()> {
+    /// into place. Returns where a former output it replaced is kept (`NAME.replaced-…`).
+    pub fn write_files(self, files: &[(&str, String)]) -> Result<Option<PathBuf>> {
         let staging = Staging::new(self)?;
         for (name, text) in files {
             let path = staging.path().join(name);

@@ -10,7 +10,7 @@
 
 use super::cleanup::{self, registry, unregister_staging};
 use super::fsio::{fs_error, hold_for_tests, rename_noreplace, sync_dir, sync_dirs};
-use super::rules::{examine, remove_former, Former, Found};
+use super::rules::{examine, Former, Found};
 use super::{own_sibling, parent_of, Claim};
 use crate::error::{Error, Result};
 use std::io::ErrorKind;
@@ -49,7 +49,8 @@ impl Staging {
     /// Moves the staging folder into place, replacing the output folder only if it still holds
     /// what it held when the run started; refuses (exit code 2, the folder left as it is) if it
     /// changed.
-    pub fn finish(mut self) -> Result<()> {
+    /// Returns where the former output it replaced is kept, if it replaced one.
+    pub fn finish(mut self) -> Result<Option<PathBuf>> {
         let claim = self.claim.as_ref().expect("a staging folder has its claim");
         let kind = claim.kind.name();
         sync_dirs(&self.path).map_err(|e| fs_error("write", &self.path, &e))?;
@@ -67,13 +68,14 @@ impl Staging {
         let replaced = replaced?;
         let claim = self.claim.take().expect("a staging folder has its claim");
         sync_dir(&parent).map_err(|e| fs_error("write in", &parent, &e))?;
-        if let Some((old, former)) = replaced {
+        let mut kept = None;
+        if let Some((old, _former)) = replaced {
             hold_for_tests(kind, "after-renames");
-            dispose_of_former(&old, &former);
+            kept = keep_former_output(&old, &claim.dir);
             let _ = sync_dir(&parent);
         }
         claim.succeeded();
-        Ok(())
+        Ok(kept)
     }
 
     /// The renames. Returns the moved-aside former output, if there was one.
@@ -138,19 +140,23 @@ impl Drop for Staging {
     }
 }
 
-/// Removes the former output once the new one is in place. If that fails (something was added
-/// to it in the last moment, or the disk refused), it stays as `.NAME.old-PID` and the next run
-/// reports it; the run itself has succeeded.
-fn dispose_of_former(old: &Path, former: &Former) {
-    if let Err(e) = remove_former(old, former) {
-        eprintln!(
-            "forebear: warning: {}",
-            crate::text::for_terminal(&format!(
-                "the former output moved aside to '{}' could not be removed ({e}); the new output \
-                 is in place; remove it by hand",
-                old.display()
-            ))
-        );
+/// Keeps the former output under its dated name once the new one is in place. If that fails
+/// (the disk refused), it stays as `.NAME.old-PID`, which the next run keeps the same way; the run
+/// itself has succeeded.
+fn keep_former_output(old: &Path, dir: &Path) -> Option<PathBuf> {
+    match super::keep::keep_former(old, dir) {
+        Ok(kept) => Some(kept),
+        Err(e) => {
+            eprintln!(
+                "forebear: warning: {}",
+                crate::text::for_terminal(&format!(
+                    "the former output moved aside to '{}' could not be renamed to its dated name \
+                     ({e}); the new output is in place; the next run on it will try again",
+                    old.display()
+                ))
+            );
+            None
+        }
     }
 }
 

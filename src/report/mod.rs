@@ -48,7 +48,8 @@ pub fn collider_edges(finding: &Finding) -> &[[String; 2]] {
 /// ([`crate::output`]). A failure at any point leaves no partial output.
 ///
 /// The manifest (`manifest.json`) is written with them and holds the SHA-256 of every other file.
-pub fn write_dossier(analysed: &Analysed, claim: Claim) -> Result<()> {
+/// Returns where a former dossier it replaced is kept.
+pub fn write_dossier(analysed: &Analysed, claim: Claim) -> Result<Option<std::path::PathBuf>> {
     let mut files = render_all(&analysed.finding)?;
     let manifest = Manifest::new(analysed, &files);
     files.push((MANIFEST_FILE, manifest.to_text()));

@@ -74,8 +74,10 @@ pub struct TargetsRequest<'a> {
     pub study_file: Option<StudyFileRecord>,
     /// The output folder.
     pub out: &'a Path,
-    /// Replace a former output there.
+    /// Replace a former output there (kept under a dated name).
     pub force: bool,
+    /// Who runs the analysis (recorded in each dossier and the audit trail).
+    pub operator: &'a str,
 }
 
 /// Analyses every target into `DIR/<target>/` and writes the study summary; nothing appears in
@@ -103,6 +105,7 @@ pub fn write_targets(
     let mut findings = Vec::with_capacity(analysed.len());
     for (i, mut one) in analysed.into_iter().enumerate() {
         one.finding.run.study_file = request.study_file.clone();
+        one.finding.run.operator = request.operator.to_string();
         let target = one.finding.target.clone();
         let folder = staging.path().join(&target);
         let claim = Claim::take(&folder, Kind::Dossier, false, &Silent)?;
@@ -112,12 +115,39 @@ pub fn write_targets(
     }
     let summary = summarise(request.data, entries);
     write_summary(staging.path(), &summary)?;
-    staging.finish()?;
+    let kept = staging.finish()?;
     progress.say(&format!(
         "wrote {}/ ({} dossiers, one folder per target, and summary.md, summary.html, summary.json)",
         request.out.display(),
         findings.len()
     ));
+    crate::dossier::say_kept(kept.as_deref(), progress);
+    let mut facts = BTreeMap::new();
+    for finding in &findings {
+        facts.insert(format!("digest:{}", finding.target), finding.digest.clone());
+        facts.insert(
+            format!("outcome:{}", finding.target),
+            finding.outcome.name().to_string(),
+        );
+    }
+    if let Ok(bytes) = std::fs::read(request.out.join("summary.json")) {
+        facts.insert(
+            "summary_sha256".into(),
+            crate::digest::hex(&<sha2::Sha256 as sha2::Digest>::digest(&bytes)),
+        );
+    }
+    if let Some(kept) = kept {
+        facts.insert(
+            "replaced_output_kept_as".into(),
+            crate::trail::kept_name(&kept),
+        );
+    }
+    let record = crate::trail::Record {
+        action: "analyze",
+        output: request.out.to_path_buf(),
+        facts,
+    };
+    crate::trail::append(&record, request.operator)?;
     Ok((findings, summary))
 }
 
