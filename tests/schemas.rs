@@ -100,19 +100,7 @@ fn every_output_of_an_analysis_with_knowledge_validates_and_a_broken_one_does_no
 
 #[test]
 fn a_batch_summary_validates() {
-    let dir = fresh_dir("schemas-batch");
-    std::fs::create_dir_all(dir.join("data")).unwrap();
-    std::fs::write(
-        dir.join("data/line_a.csv"),
-        forebear::demo::generate_demo_csv_seeded(101),
-    )
-    .unwrap();
-    std::fs::write(
-        dir.join("plan.toml"),
-        "[defaults]\nseed = 11\nreplicates = 2\n\n[[study]]\nname = \"line-a\"\ndata = \
-         \"data/line_a.csv\"\ntargets = [\"crush_strength\"]\n",
-    )
-    .unwrap();
+    let dir = crate::common::one_study_plan("schemas-batch", 2);
     let output = bin()
         .current_dir(&dir)
         .args(["--quiet", "batch", "plan.toml", "--out", "runs"])

@@ -3,7 +3,7 @@
 //! analyses, batch runs and `verify --record` extend, and `forebear trail` checking the chain.
 
 use crate::common::{
-    analyze, assert_refused, assert_success, bin, exit_code, fresh_dir, lossy_stderr, lossy_stdout,
+    analyze, assert_refused, assert_success, bin, exit_code, lossy_stderr, lossy_stdout,
     result_json, verify, write_demo_csv, Scratch,
 };
 use serde_json::Value;
@@ -142,19 +142,7 @@ fn the_operator_is_outside_the_result_digest_and_a_bad_name_is_refused() {
 
 #[test]
 fn a_batch_run_appends_one_entry_beside_its_output() {
-    let dir = fresh_dir("trail-batch");
-    std::fs::create_dir_all(dir.join("data")).unwrap();
-    std::fs::write(
-        dir.join("data/line_a.csv"),
-        forebear::demo::generate_demo_csv_seeded(101),
-    )
-    .unwrap();
-    std::fs::write(
-        dir.join("plan.toml"),
-        "[defaults]\nreplicates = 0\n\n[[study]]\nname = \"line-a\"\ndata = \
-         \"data/line_a.csv\"\ntargets = [\"crush_strength\"]\n",
-    )
-    .unwrap();
+    let dir = crate::common::one_study_plan("trail-batch", 0);
     let output = bin()
         .current_dir(&dir)
         .args([

@@ -456,3 +456,24 @@ pub fn assert_user_file(path: &Path) {
     let text = std::fs::read_to_string(path).expect("the user's file is still there");
     assert_eq!(text, "the user's notes", "the user's file is unchanged");
 }
+
+/// A fresh folder with `data/line_a.csv` (demo seed 101) and `plan.toml`: one study, target
+/// crush_strength, `replicates` replicates.
+pub fn one_study_plan(name: &str, replicates: u32) -> PathBuf {
+    let dir = fresh_dir(name);
+    std::fs::create_dir_all(dir.join("data")).unwrap();
+    std::fs::write(
+        dir.join("data/line_a.csv"),
+        forebear::demo::generate_demo_csv_seeded(101),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("plan.toml"),
+        format!(
+            "[defaults]\nseed = 11\nreplicates = {replicates}\n\n[[study]]\nname = \"line-a\"\n\
+             data = \"data/line_a.csv\"\ntargets = [\"crush_strength\"]\n"
+        ),
+    )
+    .unwrap();
+    dir
+}
