@@ -24,6 +24,7 @@ pub mod resample;
 pub mod rng;
 pub mod search;
 pub mod settings;
+pub mod sign;
 pub mod study;
 pub mod targets;
 pub mod text;
