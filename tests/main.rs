@@ -31,6 +31,7 @@ mod reader_options;
 mod reference_structures;
 mod resampling;
 mod search_simulated;
+mod signing;
 mod structure;
 mod targets;
 mod verify;

@@ -126,23 +126,23 @@ fn parse_line(number: usize, line: &str) -> std::result::Result<AllowedSigner, S
     if rest.is_empty() {
         return Err("a principal without a key".into());
     }
-    // The options field is present when the text after the principals does not read as a key.
-    let (options, key) = match PublicKey::from_openssh(rest) {
-        Ok(key) => (Options::default(), key),
-        Err(_) => {
-            let (field, after) = first_field(rest, true)?;
-            let options = parse_options(&field)?;
-            let after = after.trim_start_matches([' ', '\t']);
-            let key = PublicKey::from_openssh(after).map_err(|_| {
-                format!(
-                    "no public key after the principals and options: '{}' is not 'key-type \
-                     base64-key'",
-                    crate::text::capped(&crate::text::escaped(after), 60)
-                )
-            })?;
-            (options, key)
-        }
+    // The options field is present when the field after the principals is no key type.
+    let (field, after) = first_field(rest, true)?;
+    let (options, key_text) = if is_key_type(&field) {
+        (Options::default(), rest)
+    } else {
+        (
+            parse_options(&field)?,
+            after.trim_start_matches([' ', '\t']),
+        )
     };
+    let key = PublicKey::from_openssh(key_text).map_err(|e| {
+        format!(
+            "no public key after the principals and options: '{}' is not 'key-type base64-key' \
+             ({e})",
+            crate::text::capped(&crate::text::escaped(key_text), 60)
+        )
+    })?;
     Ok(AllowedSigner {
         line: number,
         principals,
@@ -150,6 +150,13 @@ fn parse_line(number: usize, line: &str) -> std::result::Result<AllowedSigner, S
         cert_authority: options.cert_authority,
         key: key.key_data().clone(),
     })
+}
+
+/// Whether `field` names a key type (`ssh-ed25519`, `ecdsa-sha2-nistp256`, `sk-ssh-…`).
+fn is_key_type(field: &str) -> bool {
+    ["ssh-", "ecdsa-", "sk-"]
+        .iter()
+        .any(|prefix| field.starts_with(prefix))
 }
 
 #[derive(Default)]

@@ -8,7 +8,7 @@
 //! swapped in one step (Linux `RENAME_EXCHANGE`) and the old one removed. Where the system cannot
 //! swap, the old folder is moved aside first and put back if the new one cannot be moved in. A
 //! crash leaves at most a `.NAME.signing-…` folder beside the dossier, which the next `sign` of
-//! that dossier removes.
+//! that dossier removes (or, for former signatures moved aside, puts back).
 
 use super::SIGNATURES_FOLDER;
 use crate::error::{Error, Result};
@@ -81,8 +81,9 @@ fn sibling(dir: &Path, tag: &str) -> PathBuf {
     parent_of(dir).join(format!(".{name}.{tag}"))
 }
 
-/// Removes `.NAME.signing-…` folders that an interrupted `sign` left: the caller holds the lock,
-/// so no run is using them.
+/// Tidies what an interrupted `sign` left beside the dossier (the caller holds the lock, so no run
+/// is using it): a staging folder `.NAME.signing-PID` is removed; former signatures moved aside as
+/// `.NAME.signing-old-PID` are put back when `signatures/` is missing, and kept otherwise.
 fn remove_stale_staging(dir: &Path) {
     let Some(name) = dir.file_name().map(|n| n.to_string_lossy().into_owned()) else {
         return;
@@ -91,9 +92,16 @@ fn remove_stale_staging(dir: &Path) {
     let Ok(entries) = std::fs::read_dir(parent_of(dir)) else {
         return;
     };
+    let folder = dir.join(SIGNATURES_FOLDER);
     for entry in entries.flatten() {
-        if entry.file_name().to_string_lossy().starts_with(&prefix) {
+        let file_name = entry.file_name().to_string_lossy().into_owned();
+        let Some(tag) = file_name.strip_prefix(&prefix) else {
+            continue;
+        };
+        if tag.bytes().all(|b| b.is_ascii_digit()) {
             let _ = std::fs::remove_dir_all(entry.path());
+        } else if tag.starts_with("old-") && !folder.exists() {
+            let _ = std::fs::rename(entry.path(), &folder);
         }
     }
 }
@@ -123,5 +131,67 @@ impl Drop for StagingFolder {
         if !self.placed {
             let _ = std::fs::remove_dir_all(&self.path);
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn scratch(name: &str) -> PathBuf {
+        let dir =
+            std::env::temp_dir().join(format!("forebear-place-{}-{name}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(dir.join("d")).unwrap();
+        dir
+    }
+
+    #[test]
+    fn leftovers_of_an_interrupted_sign_are_removed_or_put_back() {
+        let dir = scratch("leftovers");
+        let dossier = dir.join("d");
+        std::fs::create_dir(dir.join(".d.signing-123")).unwrap();
+        std::fs::create_dir(dir.join(".d.signing-old-77")).unwrap();
+        std::fs::write(dir.join(".d.signing-old-77/1-prepared.json"), "{}").unwrap();
+        std::fs::create_dir(dir.join(".other.signing-5")).unwrap();
+        remove_stale_staging(&dossier);
+        assert!(!dir.join(".d.signing-123").exists());
+        assert!(!dir.join(".d.signing-old-77").exists());
+        assert!(dossier.join("signatures/1-prepared.json").is_file());
+        assert!(dir.join(".other.signing-5").exists());
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
+    fn a_pair_is_added_beside_the_signatures_there_and_replaces_none() {
+        let dir = scratch("add");
+        let dossier = dir.join("d");
+        let pair = |n: u32| {
+            [
+                (format!("{n}-prepared.json"), format!("statement {n}")),
+                (format!("{n}-prepared.json.sig"), format!("signature {n}")),
+            ]
+        };
+        add_files(&dossier, &[], &pair(1)).unwrap();
+        let existing = crate::sign::signature_folder_names(&dossier).unwrap();
+        add_files(&dossier, &existing, &pair(2)).unwrap();
+        let read = |name: &str| std::fs::read_to_string(dossier.join("signatures").join(name));
+        assert_eq!(read("1-prepared.json").unwrap(), "statement 1");
+        assert_eq!(read("2-prepared.json.sig").unwrap(), "signature 2");
+        assert_eq!(
+            crate::sign::signature_folder_names(&dossier).unwrap().len(),
+            4
+        );
+        // A folder that changed since its names were listed is left as it is.
+        let refused = add_files(&dossier, &existing, &pair(3)).unwrap_err();
+        assert_eq!(refused.exit_code(), 2);
+        assert!(read("3-prepared.json").is_err());
+        let mut beside: Vec<String> = std::fs::read_dir(&dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        beside.sort();
+        assert_eq!(beside, ["d"]);
+        let _ = std::fs::remove_dir_all(&dir);
     }
 }
