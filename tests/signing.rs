@@ -172,7 +172,7 @@ fn two_signers_prepare_and_review_the_demo_and_verify_lists_both() {
     let dana_fingerprint = forebear::sign::fingerprint(dana.public_key().key_data());
     for needle in [
         "signatures     ok",
-        &format!("signatures/1-prepared.json: prepared by 'Dana Analyst' at "),
+        "signatures/1-prepared.json: prepared by 'Dana Analyst' at ",
         &format!("key {dana_fingerprint}: valid"),
         &format!("signatures/2-reviewed.json: reviewed by 'Rui Reviewer' at {signed_utc}"),
         &format!("key {rui_fingerprint}: valid"),

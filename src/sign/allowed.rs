@@ -350,11 +350,11 @@ mod tests {
     fn bad_lines_are_refused_with_their_number() {
         let (a, _) = key(1);
         for (text, line, needle) in [
-            (format!("# ok\nqa\n"), 2, "a principal without a key"),
+            ("# ok\nqa\n".to_string(), 2, "a principal without a key"),
             (format!("\"qa {a}\n"), 1, "not closed"),
             (format!("qa,,qb {a}\n"), 1, "empty principal"),
             (
-                format!("\n\nqa ssh-ed25519 AAAAnotbase64\n"),
+                "\n\nqa ssh-ed25519 AAAAnotbase64\n".to_string(),
                 3,
                 "no public key",
             ),
