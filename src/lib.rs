@@ -25,6 +25,7 @@ pub mod rng;
 pub mod schemas;
 pub mod search;
 pub mod settings;
+pub mod sign;
 pub mod study;
 pub mod targets;
 pub mod text;

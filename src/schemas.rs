@@ -44,6 +44,11 @@ pub fn all() -> Vec<Published> {
             crate::targets::output::TARGETS_SCHEMA,
             "summary.json of an analysis of several targets",
         ),
+        derive::<crate::sign::statement::Statement>(
+            "signature.schema.json",
+            crate::sign::statement::STATEMENT_SCHEMA,
+            "a signature statement in signatures/ (`forebear sign`)",
+        ),
     ]
 }
 

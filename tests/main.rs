@@ -33,6 +33,7 @@ mod reference_structures;
 mod resampling;
 mod schemas;
 mod search_simulated;
+mod signing;
 mod structure;
 mod targets;
 mod trail;

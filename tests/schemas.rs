@@ -111,3 +111,45 @@ fn a_batch_summary_validates() {
     assert_eq!(summary["schema"], "forebear.batch/1");
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+#[test]
+fn a_signature_statement_and_a_report_listing_it_validate() {
+    use ssh_key::private::{Ed25519Keypair, KeypairData};
+    let scratch = crate::common::Scratch::new("schemas-signature");
+    let data = write_demo_csv(&scratch);
+    assert_success(&crate::common::analyze(
+        &scratch,
+        &data,
+        "crush_strength",
+        &["--quiet"],
+    ));
+    let out = scratch.path("out");
+    let key = ssh_key::PrivateKey::new(
+        KeypairData::Ed25519(Ed25519Keypair::from_seed(&[9; 32])),
+        "Sam Signer",
+    )
+    .unwrap();
+    let key_path = scratch.path("key");
+    key.write_openssh_file(&key_path, ssh_key::LineEnding::LF)
+        .unwrap();
+    let signed = bin()
+        .arg("sign")
+        .arg(&out)
+        .arg("--key")
+        .arg(&key_path)
+        .args(["--meaning", "approved"])
+        .output()
+        .unwrap();
+    assert_success(&signed);
+    let statement = assert_valid(&out.join("signatures/1-approved.json"));
+    assert_eq!(statement["schema"], "forebear.signature/1");
+    let output = verify(&out, &data, &["--json"]);
+    assert_success(&output);
+    let report: Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(report["signatures"][0]["signer"], "Sam Signer");
+    assert!(errors(&report).is_empty(), "{:#?}", errors(&report));
+    // A statement with an unknown meaning does not validate.
+    let mut broken = statement.clone();
+    broken["meaning"] = Value::from("witnessed");
+    assert!(!errors(&broken).is_empty());
+}

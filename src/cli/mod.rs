@@ -8,6 +8,7 @@ pub mod fingerprint;
 pub mod merge;
 pub mod out;
 pub mod reader;
+pub mod sign;
 pub mod trail;
 pub mod verify;
 
@@ -51,6 +52,9 @@ pub enum Command {
     Merge(merge::MergeArgs),
     /// Check a dossier against the data: files, fingerprints, method version, then a re-run.
     Verify(verify::VerifyArgs),
+    /// Sign a dossier with an Ed25519 SSH key: a statement of who, when and what it means, and
+    /// its detached SSH signature in signatures/.
+    Sign(sign::SignArgs),
     /// Print the SHA-256 of a data file's bytes and of its parsed content, and its shape.
     Fingerprint(fingerprint::FingerprintArgs),
     /// Show an audit trail (forebear-trail.jsonl) and check its hash chain.
@@ -137,6 +141,7 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
         Command::Batch(args) => batch::run(args, argv, operator, &progress),
         Command::Merge(args) => merge::run(args, argv, operator, &progress),
         Command::Verify(args) => verify::run(args, argv, operator, &progress),
+        Command::Sign(args) => sign::run(args, operator),
         Command::Fingerprint(args) => fingerprint::run(args),
         Command::Trail(args) => trail::run(args),
     }

@@ -1,4 +1,4 @@
-//! `forebear verify DIR --data DATA [--replicates-sample K] [--json]`
+//! `forebear verify DIR --data DATA [--replicates-sample K] [--signers FILE] [--json]`
 
 use crate::analysis::Progress;
 use crate::error::{Error, Result};
@@ -24,6 +24,11 @@ pub struct VerifyArgs {
     /// Re-run a dossier made by another method version and list every difference.
     #[arg(long)]
     pub allow_other_version: bool,
+    /// An allowed-signers file in the OpenSSH format (`"Dana Analyst" ssh-ed25519 AAAA…`, as
+    /// `ssh-keygen -Y verify -f` reads): every signature must be by a key it lists for the
+    /// statement's signer, and an unsigned dossier is a mismatch.
+    #[arg(long, value_name = "FILE")]
+    pub signers: Option<PathBuf>,
     /// Print the report as JSON instead of text.
     #[arg(long)]
     pub json: bool,
@@ -47,6 +52,7 @@ pub fn run(
         replicates_sample: args.replicates_sample,
         sample_seed: args.sample_seed,
         allow_other_version: args.allow_other_version,
+        signers: args.signers,
         command_line: argv,
     };
     let report = match verify(&request, progress) {

@@ -95,6 +95,26 @@ pub fn rename_file_noreplace(from: &Path, to: &Path) -> io::Result<()> {
     })
 }
 
+/// Swaps two folders in one step (Linux `renameat2` with `RENAME_EXCHANGE`): each name then
+/// leads to what the other led to, and at no moment does either name lead nowhere. `None` where
+/// the system or the file system does not offer it.
+pub fn exchange(a: &Path, b: &Path) -> Option<io::Result<()>> {
+    #[cfg(any(target_os = "linux", target_os = "android"))]
+    {
+        use rustix::fs::{renameat_with, RenameFlags, CWD};
+        match renameat_with(CWD, a, CWD, b, RenameFlags::EXCHANGE) {
+            Ok(()) => Some(Ok(())),
+            Err(e) if e == rustix::io::Errno::INVAL || e == rustix::io::Errno::NOSYS => None,
+            Err(e) => Some(Err(e.into())),
+        }
+    }
+    #[cfg(not(any(target_os = "linux", target_os = "android")))]
+    {
+        let _ = (a, b);
+        None
+    }
+}
+
 /// Linux `renameat2` (macOS `renameatx_np`) with "no replace"; `None` where the system or the
 /// file system does not offer it.
 fn renameat2_noreplace(from: &Path, to: &Path) -> Option<io::Result<()>> {

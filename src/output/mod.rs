@@ -19,7 +19,10 @@ mod lock;
 mod rules;
 mod staging;
 
-pub use fsio::{fs_error, rename_file_noreplace, sync_dir, write_synced};
+pub use fsio::{
+    exchange, fs_error, rename_file_noreplace, rename_noreplace, sync_dir, sync_dirs, write_synced,
+};
+pub use lock::OutputLock;
 pub use rules::Kind;
 pub use staging::Staging;
 
@@ -175,7 +178,7 @@ impl Drop for CreatedFolders {
 }
 
 /// The folder that holds `dir` (`.` for a bare name).
-fn parent_of(dir: &Path) -> &Path {
+pub fn parent_of(dir: &Path) -> &Path {
     dir.parent()
         .filter(|p| !p.as_os_str().is_empty())
         .unwrap_or(Path::new("."))

@@ -31,8 +31,9 @@ impl Kind {
 }
 
 /// Names a dossier folder may hold: what this and earlier layouts of the dossier write
-/// (DESIGN.md), so that re-running replaces them all.
-const DOSSIER_NAMES: [&str; 8] = [
+/// (DESIGN.md), so that re-running replaces them all. The signatures of `forebear sign` go with
+/// the dossier they sign.
+const DOSSIER_NAMES: [&str; 9] = [
     "result.json",
     "stability.csv",
     "trace.csv",
@@ -41,6 +42,7 @@ const DOSSIER_NAMES: [&str; 8] = [
     "dossier.html",
     "manifest.json",
     "figures",
+    crate::sign::SIGNATURES_FOLDER,
 ];
 
 /// The files whose `schema` proves that forebear wrote a dossier folder.
@@ -132,6 +134,12 @@ fn examine_dossier(dir: &Path, entries: Vec<String>) -> Found {
     if let Some(name) = entries.iter().find(|n| !ours.contains(&n.as_str())) {
         return Found::Foreign(format!("holds '{name}', a file forebear did not write"));
     }
+    if let Some(name) = foreign_in_signatures(dir) {
+        return Found::Foreign(format!(
+            "holds '{}/{name}', a file forebear did not write",
+            crate::sign::SIGNATURES_FOLDER
+        ));
+    }
     let mut proof_text = String::new();
     let mut proofs = Vec::new();
     for name in DOSSIER_PROOFS {
@@ -150,6 +158,21 @@ fn examine_dossier(dir: &Path, entries: Vec<String>) -> Found {
             .filter(|n| !proofs.contains(n))
             .collect(),
         proofs,
+    })
+}
+
+/// The first entry of the dossier's `signatures/` folder that `forebear sign` did not write (a
+/// folder or another name), if any.
+fn foreign_in_signatures(dir: &Path) -> Option<String> {
+    let folder = dir.join(crate::sign::SIGNATURES_FOLDER);
+    if !folder.is_dir() {
+        return None;
+    }
+    let Ok(names) = names_in(&folder) else {
+        return Some(String::new());
+    };
+    names.into_iter().find(|name| {
+        crate::sign::statement::parse_entry_name(name).is_none() || !folder.join(name).is_file()
     })
 }
 

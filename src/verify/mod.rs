@@ -1,7 +1,8 @@
 //! Verification of a dossier against the data a reviewer received: the dossier's full file set
 //! against its manifest, the data against both fingerprints, the method version, a re-run of the
 //! analysis compared with the complete recorded result and the manifest's digests, and every file
-//! of the dossier rendered again from the re-run and compared byte for byte. Every check says what
+//! of the dossier rendered again from the re-run and compared byte for byte; the signatures of
+//! `forebear sign`, each checked and bound to this manifest. Every check says what
 //! it found; the verdict is `VERIFIED` only when every check passed (notes allowed).
 
 mod checks;
@@ -9,8 +10,11 @@ mod files;
 mod report;
 mod rerender;
 mod rerun;
+mod signatures;
 
-pub use report::{render_text, Check, Report, SpotCheck, Status, REPORT_SCHEMA};
+pub use report::{
+    render_text, Check, Report, SignatureRecord, SignatureStatus, SpotCheck, Status, REPORT_SCHEMA,
+};
 pub use rerun::sample_replicates;
 
 use crate::analysis::Progress;
@@ -33,6 +37,9 @@ pub struct Request {
     pub sample_seed: Option<u64>,
     /// Re-run even when the dossier was made by another method version, and list every difference.
     pub allow_other_version: bool,
+    /// An allowed-signers file (OpenSSH format): every signature must be by a key it lists for
+    /// its signer, and an unsigned dossier is a mismatch.
+    pub signers: Option<PathBuf>,
     /// The verify command line, for nothing but the record.
     pub command_line: Vec<String>,
 }
@@ -46,6 +53,11 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
              re-run them all",
         ));
     }
+    let signers = request
+        .signers
+        .as_deref()
+        .map(crate::sign::allowed::AllowedSigners::read)
+        .transpose()?;
     let manifest = read_manifest(&request.dir)?;
     // The data file is read once (it may be a pipe): both fingerprints and the re-run come from
     // the same bytes.
@@ -54,6 +66,8 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
     checks.push(check_seal(&manifest));
     let (files, recorded) = check_files(&request.dir, &manifest);
     checks.push(files);
+    let (signed, signatures) = signatures::check_signatures(&request.dir, signers.as_ref());
+    checks.push(signed);
     checks.push(check_settings(&manifest, recorded.as_ref()));
     let data = check_data(&manifest, &received);
     let data_ok = data.status != Status::Fail;
@@ -108,6 +122,7 @@ pub fn verify(request: &Request, progress: &dyn Progress) -> Result<Report> {
         verified_by: crate::finding::ToolInfo::current().describe(),
         produced_by: manifest.tool.describe(),
         checks,
+        signatures,
         spot_check,
         taken_from_record,
         verdict: if verified { "VERIFIED" } else { "MISMATCH" }.into(),

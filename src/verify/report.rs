@@ -31,6 +31,52 @@ pub struct Check {
     pub details: Vec<String>,
 }
 
+/// What the signatures check found of one signature.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, schemars::JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum SignatureStatus {
+    /// The signature holds, the statement is about this manifest.json, and (with `--signers`)
+    /// the key is allowed for the signer.
+    Valid,
+    /// The signature does not hold, or the statement does not read or contradicts itself.
+    Invalid,
+    /// A valid signature of a statement about another manifest.json.
+    OtherDossier,
+    /// A valid signature whose key the allowed-signers file does not list for the signer.
+    NotAllowed,
+}
+
+impl SignatureStatus {
+    /// The status as the text report prints it.
+    pub fn word(self) -> &'static str {
+        match self {
+            SignatureStatus::Valid => "valid",
+            SignatureStatus::Invalid => "INVALID",
+            SignatureStatus::OtherDossier => "ANOTHER DOSSIER",
+            SignatureStatus::NotAllowed => "NOT ALLOWED",
+        }
+    }
+}
+
+/// One signature of the dossier, as the report lists it.
+#[derive(Clone, Debug, Serialize, schemars::JsonSchema)]
+pub struct SignatureRecord {
+    /// The statement, relative to the dossier folder (`signatures/1-prepared.json`).
+    pub file: String,
+    /// The signer's name the statement gives (absent when it does not read).
+    pub signer: Option<String>,
+    /// The meaning the statement gives.
+    pub meaning: Option<String>,
+    /// When the statement says it was signed (UTC).
+    pub signed_utc: Option<String>,
+    /// `SHA256:…` of the key that made the signature (absent when the signature does not read).
+    pub fingerprint: Option<String>,
+    /// The finding.
+    pub status: SignatureStatus,
+    /// Why it is not valid.
+    pub problems: Vec<String>,
+}
+
 /// Which replicates a spot check re-ran.
 #[derive(Clone, Debug, Serialize, schemars::JsonSchema)]
 pub struct SpotCheck {
@@ -57,6 +103,8 @@ pub struct Report {
     pub produced_by: String,
     /// Every check in order.
     pub checks: Vec<Check>,
+    /// Every signature of the dossier, in file order (also in the signatures check's details).
+    pub signatures: Vec<SignatureRecord>,
     /// Set when only some replicates were re-run.
     pub spot_check: Option<SpotCheck>,
     /// The fields the comparisons took from the record rather than recomputed (run facts no re-run
