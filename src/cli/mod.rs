@@ -7,6 +7,7 @@ pub mod dependence;
 pub mod fingerprint;
 pub mod merge;
 pub mod out;
+pub mod qualify;
 pub mod reader;
 pub mod verify;
 
@@ -48,6 +49,8 @@ pub enum Command {
     Verify(verify::VerifyArgs),
     /// Print the SHA-256 of a data file's bytes and of its parsed content, and its shape.
     Fingerprint(fingerprint::FingerprintArgs),
+    /// Run the built-in reference cases on this installation and write a qualification record.
+    Qualify(qualify::QualifyArgs),
 }
 
 /// Progress on stderr, unless `--quiet`.
@@ -125,5 +128,6 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
         Command::Merge(args) => merge::run(args, argv, &progress),
         Command::Verify(args) => verify::run(args, argv, &progress),
         Command::Fingerprint(args) => fingerprint::run(args),
+        Command::Qualify(args) => qualify::run(args, argv, &progress),
     }
 }

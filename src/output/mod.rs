@@ -18,7 +18,7 @@ mod rules;
 mod staging;
 
 pub use fsio::{fs_error, rename_file_noreplace, sync_dir, write_synced};
-pub use rules::Kind;
+pub use rules::{Kind, QUALIFICATION_FILES};
 pub use staging::Staging;
 
 use crate::analysis::Progress;
@@ -92,6 +92,7 @@ fn resolve(dir: &Path, kind: Kind) -> Result<PathBuf> {
         Kind::Dossier => "results",
         Kind::Batch => "nightly",
         Kind::Targets => "study",
+        Kind::Qualification => "qualification",
     };
     let no_name = |path: &Path| {
         Error::input(format!(

@@ -17,6 +17,8 @@ pub enum Kind {
     Batch,
     /// Several targets of one `analyze`: the study summary and a dossier folder per target.
     Targets,
+    /// A qualification record (`forebear qualify`): `qualification.json`, `.md` and `.html`.
+    Qualification,
 }
 
 impl Kind {
@@ -26,6 +28,7 @@ impl Kind {
             Kind::Dossier => "dossier",
             Kind::Batch => "batch",
             Kind::Targets => "targets",
+            Kind::Qualification => "qualification",
         }
     }
 }
@@ -96,6 +99,7 @@ pub fn examine(dir: &Path, kind: Kind) -> io::Result<Found> {
         Kind::Dossier => examine_dossier(dir, entries),
         Kind::Batch => examine_batch(dir, entries)?,
         Kind::Targets => examine_targets(dir, entries)?,
+        Kind::Qualification => examine_qualification(dir, entries),
     })
 }
 
@@ -107,7 +111,10 @@ pub fn examine_any(dir: &Path) -> io::Result<Found> {
             Found::Former(former) => Ok(Found::Former(former)),
             _ => match examine(dir, Kind::Targets)? {
                 Found::Former(former) => Ok(Found::Former(former)),
-                _ => Ok(Found::Foreign(why)),
+                _ => match examine(dir, Kind::Qualification)? {
+                    Found::Former(former) => Ok(Found::Former(former)),
+                    _ => Ok(Found::Foreign(why)),
+                },
             },
         },
         found => Ok(found),
@@ -234,6 +241,33 @@ fn examine_targets(dir: &Path, entries: Vec<String>) -> io::Result<Found> {
     }))
 }
 
+/// The files of a qualification record; `qualification.json` proves that forebear wrote it.
+pub const QUALIFICATION_FILES: [&str; 3] = [
+    "qualification.json",
+    "qualification.md",
+    "qualification.html",
+];
+
+/// A qualification record is recognised by its `qualification.json`; it may hold only the
+/// record's files.
+fn examine_qualification(dir: &Path, entries: Vec<String>) -> Found {
+    let proof = QUALIFICATION_FILES[0];
+    if let Some(name) = entries
+        .iter()
+        .find(|n| !QUALIFICATION_FILES.contains(&n.as_str()))
+    {
+        return Found::Foreign(format!("holds '{name}', a file forebear did not write"));
+    }
+    let Some(text) = forebear_json(&dir.join(proof)) else {
+        return Found::Foreign(format!("holds files but no {proof} written by forebear"));
+    };
+    Found::Former(Former {
+        identity: sha256_text(&text),
+        entries: entries.into_iter().filter(|n| n != proof).collect(),
+        proofs: vec![proof.to_string()],
+    })
+}
+
 /// The text of `path` if it is a JSON file that forebear wrote (its `schema` names a forebear
 /// layout).
 fn forebear_json(path: &Path) -> Option<String> {
@@ -263,6 +297,7 @@ impl Found {
                     Kind::Dossier => "a forebear result",
                     Kind::Batch => "a forebear batch output",
                     Kind::Targets => "a forebear output of several targets",
+                    Kind::Qualification => "a forebear qualification record",
                 };
                 Err(Error::input(format!(
                     "the output folder '{dir}' already holds {what}; pass --force to replace it, \

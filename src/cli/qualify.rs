@@ -1,0 +1,78 @@
+//! `forebear qualify --out DIR [--force] [--operator NAME] [--case ID ...] [--list]`
+
+use crate::analysis::Progress;
+use crate::error::{Error, Result};
+use clap::Args;
+use std::path::PathBuf;
+
+/// Arguments of `qualify`.
+#[derive(Debug, Args)]
+pub struct QualifyArgs {
+    /// Folder for the record (qualification.json, qualification.md, qualification.html).
+    #[arg(long, required_unless_present = "list")]
+    pub out: Option<PathBuf>,
+    /// Replace a former qualification record in the same folder.
+    #[arg(long)]
+    pub force: bool,
+    /// Name of the person running the qualification (default: the login name).
+    #[arg(long, value_name = "NAME")]
+    pub operator: Option<String>,
+    /// Run only this case (repeatable); the record then says it is a partial run.
+    #[arg(long = "case", value_name = "ID")]
+    pub cases: Vec<String>,
+    /// Print the id and what each case checks, and exit.
+    #[arg(long, conflicts_with_all = ["out", "force", "operator", "cases"])]
+    pub list: bool,
+}
+
+/// Runs `qualify`: the record is written whatever the verdict; a failed case is exit code 1.
+pub fn run(args: QualifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Result<()> {
+    if args.list {
+        for case in crate::qualify::catalogue() {
+            super::out::line(&format!("{}  {}", case.id, case.checks))?;
+        }
+        return Ok(());
+    }
+    let out = args
+        .out
+        .ok_or_else(|| Error::input("qualify needs --out DIR"))?;
+    if let Some(name) = &args.operator {
+        if name.trim().is_empty() {
+            return Err(Error::input("--operator needs a name, not an empty text"));
+        }
+    }
+    let request = crate::qualify::run::Request {
+        out: &out,
+        force: args.force,
+        operator: args.operator.as_deref(),
+        cases: &args.cases,
+        command_line: argv,
+    };
+    let record = crate::qualify::run::qualify(&request, progress)?;
+    let summary = &record.summary;
+    super::out::line(&format!(
+        "qualification {}: {} of {} cases passed, {} failed; record in {}/ (open qualification.html)",
+        summary.verdict,
+        summary.passed,
+        summary.cases,
+        summary.failed,
+        out.display()
+    ))?;
+    if record.passed() {
+        Ok(())
+    } else {
+        Err(Error::Mismatch(format!(
+            "qualification FAILED: {} of {} cases failed ({}); the record in {} says which and why",
+            summary.failed,
+            summary.cases,
+            record
+                .cases
+                .iter()
+                .filter(|c| !c.passed)
+                .map(|c| c.id.as_str())
+                .collect::<Vec<_>>()
+                .join(", "),
+            out.display()
+        )))
+    }
+}

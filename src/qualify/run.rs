@@ -1,0 +1,71 @@
+//! One qualification run as a library call: claim the output folder (before any work, so an
+//! unusable folder is refused at once), run the cases, build the record and write its three files
+//! as one step through [`crate::output`].
+
+use super::record::{Operator, Platform, Record, RunFacts};
+use crate::analysis::Progress;
+use crate::error::Result;
+use crate::finding::ToolInfo;
+use crate::output::{Claim, Kind};
+use std::path::Path;
+use std::time::Instant;
+
+/// What to run and where to write it.
+pub struct Request<'a> {
+    /// The output folder.
+    pub out: &'a Path,
+    /// Replace a former record there.
+    pub force: bool,
+    /// `--operator`, if given.
+    pub operator: Option<&'a str>,
+    /// The cases chosen with `--case` (none: every case).
+    pub cases: &'a [String],
+    /// The command line as typed.
+    pub command_line: Vec<String>,
+}
+
+/// Runs the cases and writes the record; returns it (the caller turns a failure into exit 1).
+pub fn qualify(request: &Request<'_>, progress: &dyn Progress) -> Result<Record> {
+    let cases = super::select(request.cases)?;
+    let claim = Claim::take(request.out, Kind::Qualification, request.force, progress)?;
+    let started = Instant::now();
+    let started_utc = crate::timefmt::now_rfc3339();
+    let total = cases.len();
+    let results: Vec<_> = cases
+        .iter()
+        .enumerate()
+        .map(|(i, case)| {
+            let result = super::run_case(case);
+            progress.say(&format!(
+                "case {}/{total} {}: {} ({:.2} s)",
+                i + 1,
+                case.id,
+                if result.passed { "pass" } else { "FAIL" },
+                result.seconds
+            ));
+            result
+        })
+        .collect();
+    let facts = RunFacts {
+        tool: ToolInfo::current(),
+        platform: Platform::current(),
+        started_utc,
+        duration_seconds: started.elapsed().as_secs_f64(),
+        operator: Operator::resolve(request.operator, |var| std::env::var(var).ok()),
+        command_line: request.command_line.clone(),
+        catalogue: super::catalogue().len(),
+    };
+    let record = Record::new(results, facts);
+    write_record(&record, claim)?;
+    Ok(record)
+}
+
+/// Writes `qualification.json`, `.md` and `.html` into the claimed folder as one step.
+pub fn write_record(record: &Record, claim: Claim) -> Result<()> {
+    let files = [
+        ("qualification.json", record.to_json()),
+        ("qualification.md", super::render::render_markdown(record)?),
+        ("qualification.html", super::render::render_html(record)?),
+    ];
+    claim.write_files(&files)
+}
