@@ -49,6 +49,11 @@ pub fn run(args: QualifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         command_line: argv,
     };
     let record = crate::qualify::run::qualify(&request, progress)?;
+    verdict(&record, &out)
+}
+
+/// Prints the verdict line; a record with a failed case is exit code 1 (it is written already).
+fn verdict(record: &crate::qualify::Record, out: &std::path::Path) -> Result<()> {
     let summary = &record.summary;
     super::out::line(&format!(
         "qualification {}: {} of {} cases passed, {} failed; record in {}/ (open qualification.html)",
@@ -59,20 +64,38 @@ pub fn run(args: QualifyArgs, argv: Vec<String>, progress: &dyn Progress) -> Res
         out.display()
     ))?;
     if record.passed() {
-        Ok(())
-    } else {
-        Err(Error::Mismatch(format!(
-            "qualification FAILED: {} of {} cases failed ({}); the record in {} says which and why",
-            summary.failed,
-            summary.cases,
-            record
-                .cases
-                .iter()
-                .filter(|c| !c.passed)
-                .map(|c| c.id.as_str())
-                .collect::<Vec<_>>()
-                .join(", "),
-            out.display()
-        )))
+        return Ok(());
+    }
+    let failed: Vec<&str> = record
+        .cases
+        .iter()
+        .filter(|c| !c.passed)
+        .map(|c| c.id.as_str())
+        .collect();
+    Err(Error::Mismatch(format!(
+        "qualification FAILED: {} of {} cases failed ({}); the record in {} says which and why",
+        summary.failed,
+        summary.cases,
+        failed.join(", "),
+        out.display()
+    )))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::qualify::record::tests::{facts, result};
+    use crate::qualify::Record;
+
+    #[test]
+    fn a_failed_case_is_exit_code_one_naming_it_and_a_passed_record_is_success() {
+        let out = std::path::Path::new("qualification");
+        let failed = Record::new(vec![result("good", 0.5), result("bad", 0.7)], facts(2));
+        let error = verdict(&failed, out).unwrap_err();
+        assert_eq!(error.exit_code(), 1);
+        assert!(error.to_string().contains("FAILED"), "{error}");
+        assert!(error.to_string().contains("(bad)"), "{error}");
+        let passed = Record::new(vec![result("good", 0.5)], facts(1));
+        assert!(verdict(&passed, out).is_ok());
     }
 }

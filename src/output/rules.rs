@@ -397,6 +397,33 @@ mod tests {
     }
 
     #[test]
+    fn a_qualification_record_is_recognised_by_its_json_and_holds_only_its_files() {
+        let dir = scratch("qualification");
+        std::fs::write(dir.join("qualification.md"), "# record").unwrap();
+        assert!(matches!(
+            examine(&dir, Kind::Qualification).unwrap(),
+            Found::Foreign(why) if why.contains("no qualification.json")
+        ));
+        std::fs::write(
+            dir.join("qualification.json"),
+            r#"{"schema": "forebear.qualification/1"}"#,
+        )
+        .unwrap();
+        let Found::Former(former) = examine(&dir, Kind::Qualification).unwrap() else {
+            panic!("a former record")
+        };
+        assert_eq!(former.entries, vec!["qualification.md"]);
+        assert_eq!(former.proofs, vec!["qualification.json"]);
+        assert!(matches!(examine_any(&dir).unwrap(), Found::Former(_)));
+        std::fs::write(dir.join("result.json"), "{}").unwrap();
+        assert!(matches!(
+            examine(&dir, Kind::Qualification).unwrap(),
+            Found::Foreign(why) if why.contains("'result.json'")
+        ));
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
     fn removing_a_former_output_keeps_a_folder_that_gained_a_file() {
         let dir = scratch("gained");
         let former = former_dossier(&dir);

@@ -102,7 +102,14 @@ pub fn number(value: f64) -> String {
         let text = text.trim_end_matches('0').trim_end_matches('.');
         text.to_string()
     } else {
-        format!("{value:.12e}")
+        let text = format!("{value:.12e}");
+        match text.split_once('e') {
+            Some((mantissa, exponent)) if mantissa.contains('.') => format!(
+                "{}e{exponent}",
+                mantissa.trim_end_matches('0').trim_end_matches('.')
+            ),
+            _ => text,
+        }
     }
 }
 
@@ -114,6 +121,8 @@ pub struct Measured {
     /// The comparison with the reference.
     #[serde(flatten)]
     pub comparison: Comparison,
+    /// Whether the comparison is exact (no tolerance).
+    pub exact: bool,
     /// Whether it met the reference (computed from the comparison).
     pub passed: bool,
 }
@@ -124,6 +133,7 @@ impl Measured {
         let passed = comparison.passed();
         Measured {
             quantity: quantity.into(),
+            exact: comparison.is_exact(),
             comparison,
             passed,
         }
@@ -174,6 +184,7 @@ mod tests {
         assert_eq!(number(0.5), "0.5");
         assert_eq!(number(0.0), "0");
         assert_eq!(number(4.132570657855842e-109), "4.132570657856e-109");
+        assert_eq!(number(1e-12), "1e-12");
         assert_eq!(number(f64::NAN), "not a number");
         assert_ne!(number(0.5), number(0.5 + 2e-12));
     }

@@ -67,7 +67,7 @@ pub fn cases() -> Vec<Case> {
             "t-n.conditional-independence",
             Group::ClosedForm,
             "T(Y, Z | X) = 0 when Y and Z depend on X only (n = 10 000): |T_n| < 0.06, while the \
-             pair is dependent marginally (T_n > 0.05)",
+             pair is dependent marginally (T_n ≥ 0.05)",
             PAPER,
             conditional_independence,
         ),

@@ -4,8 +4,8 @@
 use super::check::{Comparison, Measured};
 use super::pinned::{pinned_digest, PinnedAnalysis, PINNED_ANALYSES};
 use super::{Case, Group};
-use crate::analysis::{attach_stability, merge_parts, prepare_read, Partial, Prepared, Silent};
 use crate::analysis::PARTIAL_SCHEMA;
+use crate::analysis::{attach_stability, merge_parts, prepare_read, Partial, Prepared, Silent};
 use crate::data::source::Source;
 use crate::data::DataReader;
 use crate::demo::{DEMO_CSV, DEMO_FILE};
@@ -63,10 +63,7 @@ fn against_pinned(
         str::to_string,
     );
     let observed = compute(analysis).unwrap_or_else(|e| format!("the analysis failed: {e}"));
-    Measured::new(
-        "result digest",
-        Comparison::Exact { expected, observed },
-    )
+    Measured::new("result digest", Comparison::Exact { expected, observed })
 }
 
 /// The demo data read from the embedded copy, validated for the analysis's settings.

@@ -33,7 +33,13 @@ pub fn cases() -> Vec<Case> {
                 MAX_TREE_DIMENSION + 2
             ),
             brute,
-            || vec![tied_sets_against_brute_force(MAX_TREE_DIMENSION + 2, 150, 3)],
+            || {
+                vec![tied_sets_against_brute_force(
+                    MAX_TREE_DIMENSION + 2,
+                    150,
+                    3,
+                )]
+            },
         ),
         Case::new(
             "neighbours.tie-break-equidistant",
@@ -55,7 +61,12 @@ pub fn cases() -> Vec<Case> {
              row at distance 1: chi-square over 3000 keys below the 0.1 % critical value, 2 \
              degrees of freedom",
             pearson,
-            || vec![tie_break_uniformity(&[vec![2.0, 2.0, 2.0, 2.0, 3.0, 7.0]], 3000)],
+            || {
+                vec![tie_break_uniformity(
+                    &[vec![2.0, 2.0, 2.0, 2.0, 3.0, 7.0]],
+                    3000,
+                )]
+            },
         ),
     ]
 }

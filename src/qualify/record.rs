@@ -101,7 +101,7 @@ impl Operator {
             })
             .unwrap_or(Operator {
                 name: None,
-                from: "unknown (no --operator and no login name in the environment)".into(),
+                from: "no --operator and no login name in the environment".into(),
             })
     }
 }

@@ -119,7 +119,12 @@ fn record_context(record: &Record) -> Value {
     }
 }
 
-fn render(mut env: Environment<'static>, name: &'static str, template: &'static str, record: &Record) -> Result<String> {
+fn render(
+    mut env: Environment<'static>,
+    name: &'static str,
+    template: &'static str,
+    record: &Record,
+) -> Result<String> {
     env.add_filter("seconds", |v: f64| format!("{v:.2}"));
     env.add_template(name, template)
         .map_err(|e| Error::internal(format!("{name} template: {e}")))?;
@@ -152,7 +157,10 @@ mod tests {
 
     #[test]
     fn a_failed_record_says_failed_plainly_in_both_renderings() {
-        let record = Record::new(vec![result("ok-case", 0.5), result("bad-case", 0.6)], facts(2));
+        let record = Record::new(
+            vec![result("ok-case", 0.5), result("bad-case", 0.6)],
+            facts(2),
+        );
         let md = render_markdown(&record).unwrap();
         let html = render_html(&record).unwrap();
         for text in [&md, &html] {

@@ -69,3 +69,34 @@ pub fn write_record(record: &Record, claim: Claim) -> Result<()> {
     ];
     claim.write_files(&files)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::qualify::record::tests::{facts, result};
+
+    #[test]
+    fn a_failed_record_is_written_whole_and_says_failed() {
+        let dir = std::env::temp_dir().join(format!("forebear-qualify-run-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        let out = dir.join("record");
+        let record = Record::new(vec![result("good", 0.5), result("bad", 0.7)], facts(2));
+        let claim =
+            Claim::take(&out, Kind::Qualification, false, &crate::analysis::Silent).unwrap();
+        write_record(&record, claim).unwrap();
+        let json: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(out.join("qualification.json")).unwrap())
+                .unwrap();
+        assert_eq!(json["summary"]["verdict"], "FAILED");
+        assert_eq!(json["cases"][1]["passed"], false);
+        let md = std::fs::read_to_string(out.join("qualification.md")).unwrap();
+        assert!(md.contains("**Verdict: FAILED.**"), "{md}");
+        let html = std::fs::read_to_string(out.join("qualification.html")).unwrap();
+        assert!(html.contains("<strong>FAILED</strong>"), "{html}");
+        // A second record replaces it only with --force.
+        let refused = Claim::take(&out, Kind::Qualification, false, &crate::analysis::Silent);
+        assert_eq!(refused.err().map(|e| e.exit_code()), Some(2));
+        assert!(Claim::take(&out, Kind::Qualification, true, &crate::analysis::Silent).is_ok());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}

@@ -6,8 +6,8 @@
 
 use super::check::{Comparison, Measured};
 use super::{Case, Group};
-use crate::data::{DataReader, LoadOptions, Table};
 use crate::data::source::Source;
+use crate::data::{DataReader, LoadOptions, Table};
 use crate::measure::Scaling;
 use crate::search::{local_parents, Outcome, ParentSearch, SelectionRule};
 
