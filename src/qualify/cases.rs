@@ -60,3 +60,39 @@ pub fn run_case(case: &Case) -> CaseResult {
     });
     CaseResult::new(case, measured, started.elapsed().as_secs_f64())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::qualify::Group;
+
+    #[test]
+    fn a_case_that_stops_is_recorded_as_failed_with_the_reason() {
+        let case = Case::new("stops", Group::SciPy, "a check", "a source", || {
+            panic!("fixture missing")
+        });
+        let result = run_case(&case);
+        assert!(!result.passed);
+        assert!(
+            result.measured[0]
+                .comparison
+                .observed_text()
+                .contains("fixture missing"),
+            "{result:?}"
+        );
+    }
+
+    #[test]
+    fn ids_are_unique_and_a_selection_keeps_catalogue_order() {
+        let ids: Vec<String> = catalogue().into_iter().map(|c| c.id).collect();
+        let mut unique = ids.clone();
+        unique.sort();
+        unique.dedup();
+        assert_eq!(unique.len(), ids.len(), "{ids:?}");
+        let chosen = select(&[ids[3].clone(), ids[1].clone()]).unwrap();
+        let chosen: Vec<&str> = chosen.iter().map(|c| c.id.as_str()).collect();
+        assert_eq!(chosen, [ids[1].as_str(), ids[3].as_str()]);
+        let error = select(&["no-such-case".into()]).err().unwrap();
+        assert_eq!(error.exit_code(), 2);
+    }
+}
