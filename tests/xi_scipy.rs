@@ -16,7 +16,7 @@ fn statistic_and_p_value_match_scipy_chatterjeexi() {
 
 #[test]
 fn fixture_exercises_ties_in_y_and_both_dependence_regimes() {
-    let cases = xi_fixture().cases;
+    let cases = xi_fixture().expect("the embedded fixture reads").cases;
     let tied = cases.iter().filter(|c| {
         let mut y = c.y.clone();
         y.sort_by(f64::total_cmp);

@@ -3,7 +3,8 @@
 //!
 //! The cases live here, in the library, and the test suite runs the same list (through the binary,
 //! and case by case where a test module checked the same reference before), so the record and the
-//! tests cannot drift apart. Every fixture a case needs is compiled into the binary.
+//! tests cannot drift apart. Every fixture a case needs is compiled into the binary
+//! (`embedded.rs`).
 //!
 //! - `check.rs`: one comparison (expected, observed, tolerance) and its verdict;
 //! - `cases.rs`: the catalogue, in order; the cases themselves by kind of source:
@@ -17,6 +18,7 @@ pub mod cases;
 pub mod check;
 pub mod closed_forms;
 pub mod determinism;
+pub mod embedded;
 pub mod neighbours;
 pub mod pinned;
 pub mod record;

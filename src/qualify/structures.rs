@@ -5,17 +5,12 @@
 //! and run in seconds); the nonlinear ALARM checks stay in the test suite.
 
 use super::check::{Comparison, Measured};
+use super::embedded::{Embedded, ALARM_DISCRETE, ASIA_DISCRETE};
 use super::{Case, Group};
 use crate::data::source::Source;
 use crate::data::{DataReader, LoadOptions, Table};
 use crate::measure::Scaling;
 use crate::search::{local_parents, Outcome, ParentSearch, SelectionRule};
-
-/// tests/data/alarm_discrete_hr_lv.csv: 5000 forward samples of ALARM, 13 of its 37 columns.
-const ALARM_DISCRETE: &str = include_str!("../../tests/data/alarm_discrete_hr_lv.csv");
-
-/// tests/data/asia_discrete_n5000_seed1.csv: 5000 forward samples of ASIA.
-const ASIA_DISCRETE: &str = include_str!("../../tests/data/asia_discrete_n5000_seed1.csv");
 
 /// The reference-structure cases.
 pub fn cases() -> Vec<Case> {
@@ -30,8 +25,7 @@ pub fn cases() -> Vec<Case> {
              samples tests/data/alarm_discrete_hr_lv.csv (tests/data/PROVENANCE.md)",
             || {
                 vec![search_outcome(
-                    ALARM_DISCRETE,
-                    "alarm_discrete_hr_lv.csv",
+                    &ALARM_DISCRETE,
                     "HRBP",
                     &["ERRLOWOUTPUT", "HR"],
                 )]
@@ -44,22 +38,17 @@ pub fn cases() -> Vec<Case> {
              binary samples, where the keyed tie-breaks decide nearly every neighbour",
             "ASIA network (Lauritzen and Spiegelhalter 1988), published parent lists; samples \
              tests/data/asia_discrete_n5000_seed1.csv (tests/data/PROVENANCE.md)",
-            || {
-                vec![search_outcome(
-                    ASIA_DISCRETE,
-                    "asia_discrete_n5000_seed1.csv",
-                    "either",
-                    &["lung", "tub"],
-                )]
-            },
+            || vec![search_outcome(&ASIA_DISCRETE, "either", &["lung", "tub"])],
         ),
     ]
 }
 
-/// Reads CSV text with the crate's reader (every cell of these files is present).
-fn table(text: &'static str, file: &str) -> crate::error::Result<Table> {
-    let source = Source::from_reader(Box::new(text.as_bytes()));
-    let (raw, _) = DataReader::start(source, file.into(), &LoadOptions::default())?.read_rows()?;
+/// Reads an embedded CSV file with the crate's reader (every cell of these files is present).
+fn table(file: &Embedded) -> crate::error::Result<Table> {
+    let text = file.text().map_err(crate::error::Error::internal)?;
+    let source = Source::from_reader(Box::new(std::io::Cursor::new(text.into_bytes())));
+    let (raw, _) =
+        DataReader::start(source, file.path.into(), &LoadOptions::default())?.read_rows()?;
     let columns = (0..raw.names.len())
         .map(|j| raw.column_cells(j).map(|v| v.unwrap_or(f64::NAN)).collect())
         .collect();
@@ -68,12 +57,12 @@ fn table(text: &'static str, file: &str) -> crate::error::Result<Table> {
 
 /// The local parent search with the defaults of `forebear analyze` (rank scaling, seed 1,
 /// α = 0.05, calibrated rule), every other column a candidate.
-fn search(text: &'static str, file: &str, target: &str) -> crate::error::Result<ParentSearch> {
-    let table = table(text, file)?;
+fn search(file: &Embedded, target: &str) -> crate::error::Result<ParentSearch> {
+    let table = table(file)?;
     let data = crate::search::SearchData::new(&table, Scaling::Rank, 1, 0);
-    let t = table
-        .index_of(target)
-        .ok_or_else(|| crate::error::Error::internal(format!("{file} has no column {target}")))?;
+    let t = table.index_of(target).ok_or_else(|| {
+        crate::error::Error::internal(format!("{} has no column {target}", file.path))
+    })?;
     let candidates: Vec<usize> = (0..table.n_cols()).filter(|&j| j != t).collect();
     Ok(local_parents(
         &data,
@@ -97,12 +86,12 @@ fn shown(outcome: Outcome, sets: &[Vec<String>]) -> String {
     format!("{} {}", outcome.name(), sets.join(" "))
 }
 
-fn search_outcome(text: &'static str, file: &str, target: &str, parents: &[&str]) -> Measured {
+fn search_outcome(file: &Embedded, target: &str, parents: &[&str]) -> Measured {
     let expected = shown(
         Outcome::Identified,
         &[parents.iter().map(|p| p.to_string()).collect()],
     );
-    let observed = match search(text, file, target) {
+    let observed = match search(file, target) {
         Ok(found) => shown(found.outcome, &found.parent_sets),
         Err(e) => format!("the search could not run: {e}"),
     };
