@@ -29,7 +29,7 @@ pub fn select(ids: &[String]) -> Result<Vec<Case>> {
     if let Some(first) = unknown.first() {
         let near = crate::data::load::closest_names(first, &known);
         let hint = if near.is_empty() {
-            "`forebear qualify --list` prints every case id".to_string()
+            "'forebear qualify --list' prints every case id".to_string()
         } else {
             format!("did you mean {}?", near.join(", "))
         };

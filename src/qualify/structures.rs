@@ -20,7 +20,7 @@ pub fn cases() -> Vec<Case> {
             Group::Structure,
             "ALARM's HRBP ← ERRLOWOUTPUT, HRBP ← HR (a v-structure at a target whose \
              neighbourhood is a tree) is identified exactly from 5000 discrete samples, with the \
-             defaults of `forebear analyze`",
+             defaults of forebear analyze",
             "ALARM network (Beinlich, Suermondt, Chavez and Cooper 1989), published parent lists; \
              samples tests/data/alarm_discrete_hr_lv.csv (tests/data/PROVENANCE.md)",
             || {
