@@ -18,6 +18,7 @@ pub mod finding;
 pub mod manifest;
 pub mod measure;
 pub mod output;
+pub mod qualify;
 pub mod report;
 pub mod reproduce;
 pub mod resample;

@@ -49,6 +49,11 @@ pub fn all() -> Vec<Published> {
             crate::sign::statement::STATEMENT_SCHEMA,
             "a signature statement in signatures/ (`forebear sign`)",
         ),
+        derive::<crate::qualify::Record>(
+            "qualification.schema.json",
+            crate::qualify::record::QUALIFICATION_SCHEMA,
+            "qualification.json of `forebear qualify`",
+        ),
     ]
 }
 

@@ -24,6 +24,7 @@ mod method_version;
 mod names;
 mod neighbors_exact;
 mod neighbourhood;
+mod qualify;
 mod read_once;
 mod reader_limits;
 mod reader_messages;

@@ -1,10 +1,10 @@
 //! Exact nearest neighbours: the kd-tree path and the scan fallback agree with a brute-force search
 //! on data with many ties, and the tie-break is uniform over tied rows.
 
+use crate::common::assert_reference_cases_pass;
 use forebear::measure::neighbors::{brute_force_tied_rows, Neighbourhood, MAX_TREE_DIMENSION};
 use forebear::rng::Key;
 use proptest::prelude::*;
-use serde_json::Value;
 
 fn as_refs(cols: &[Vec<f64>]) -> Vec<&[f64]> {
     cols.iter().map(Vec::as_slice).collect()
@@ -67,87 +67,23 @@ proptest! {
 
 #[test]
 fn scan_fallback_above_the_tree_dimensions_matches_brute_force() {
-    let dim = MAX_TREE_DIMENSION + 2;
-    let key = Key::new("wide", 3).finish();
-    let cols: Vec<Vec<f64>> = (0..dim)
-        .map(|d| {
-            let mut rng = key.stream(d as u64);
-            (0..150)
-                .map(|_| forebear::rng::uniform_below(&mut rng, 3) as f64)
-                .collect()
-        })
-        .collect();
-    let refs = as_refs(&cols);
-    let hood = Neighbourhood::new(&refs);
-    for row in 0..150 {
-        assert_eq!(
-            hood.tied_rows(row),
-            brute_force_tied_rows(&refs, row),
-            "row {row}"
-        );
-    }
-}
-
-fn chi_square_critical(df: usize, upper: f64) -> f64 {
-    // scipy.stats.chi2.ppf(1 − upper, df), from tests/reference/chi2_scipy.json (make_fixtures.py).
-    let fixture: Value = serde_json::from_str(include_str!("reference/chi2_scipy.json")).unwrap();
-    fixture["quantiles"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|q| q["df"].as_u64() == Some(df as u64) && q["upper"].as_f64() == Some(upper))
-        .and_then(|q| q["critical"].as_f64())
-        .expect("quantile in fixture")
-}
-
-/// Counts how often each tied row is chosen for `row` over many keys, and returns Pearson's
-/// chi-square statistic against the uniform distribution (Pearson 1900).
-fn chi_square_of_choices(cols: &[Vec<f64>], row: usize, draws: u64) -> (f64, usize) {
-    let refs = as_refs(cols);
-    let hood = Neighbourhood::new(&refs);
-    let tied = hood.tied_rows(row);
-    let mut counts = vec![0u64; tied.len()];
-    for seed in 0..draws {
-        let chosen = hood.choose(&Key::new("uniformity", seed).finish())[row];
-        counts[tied
-            .iter()
-            .position(|&t| t == chosen)
-            .expect("chosen is tied")] += 1;
-    }
-    let expected = draws as f64 / tied.len() as f64;
-    let statistic = counts
-        .iter()
-        .map(|&c| (c as f64 - expected).powi(2) / expected)
-        .sum();
-    (statistic, tied.len() - 1)
+    // Defined once in src/qualify/neighbours.rs (`forebear qualify` records it), with the tree's
+    // own check on heavily tied data.
+    assert_reference_cases_pass("neighbours.scan-fallback");
+    assert_reference_cases_pass("neighbours.tree-ties");
 }
 
 #[test]
 fn tie_break_among_equidistant_points_is_uniform() {
-    // Row 0 at the origin of a plane; four rows at distance 1, one of them doubled (so five tied
-    // rows); farther rows never chosen. Pearson chi-square against uniform over the five rows at the
-    // 0.1 % level (critical value from SciPy).
-    let x = vec![0.0, 1.0, -1.0, 0.0, 0.0, 0.0, 3.0, 5.0];
-    let y = vec![0.0, 0.0, 0.0, 1.0, -1.0, -1.0, 3.0, 5.0];
-    let (statistic, df) = chi_square_of_choices(&[x, y], 0, 5000);
-    assert_eq!(df, 4);
-    assert!(
-        statistic < chi_square_critical(df, 0.001),
-        "chi-square {statistic}"
-    );
+    // Row 0 at the origin of a plane; five tied rows at distance 1 (one doubled); Pearson
+    // chi-square against uniform at the 0.1 % level (critical value from SciPy).
+    assert_reference_cases_pass("neighbours.tie-break-equidistant");
 }
 
 #[test]
 fn tie_break_among_exact_duplicates_is_uniform() {
-    // Row 0 has three exact copies (rows 1–3) and a neighbour at distance 1 (row 4) that must never
-    // be chosen; the three copies are equally likely.
-    let x = vec![2.0, 2.0, 2.0, 2.0, 3.0, 7.0];
-    let (statistic, df) = chi_square_of_choices(&[x], 0, 3000);
-    assert_eq!(df, 2);
-    assert!(
-        statistic < chi_square_critical(df, 0.001),
-        "chi-square {statistic}"
-    );
+    // Three exact copies of row 0 equally likely; the row at distance 1 never chosen.
+    assert_reference_cases_pass("neighbours.tie-break-duplicates");
 }
 
 #[test]

@@ -13,6 +13,7 @@
 //! CATECHOL, so the kept columns follow the published graph restricted to them, with CATECHOL as
 //! one more root.
 
+use crate::common::assert_reference_cases_pass;
 use forebear::data::{read_csv, LoadOptions, Table};
 use forebear::measure::Scaling;
 use forebear::search::{local_parents, Outcome, ParentSearch, SearchData, SelectionRule};
@@ -69,10 +70,9 @@ fn alarm_hrbp_two_parents_tree_neighbourhood_is_identified_exactly() {
     // with a v-structure at the target, the one case where the parents are identifiable. Chosen as
     // the only ALARM node with a tree neighbourhood and two or more parents. Discrete samples: on
     // the full 37 columns it is identified exactly too (docs/recovery.md); on the nonlinear samples
-    // at n = 5000 it is not (HR's own boundary misses HRBP), so the discrete copy is used here.
-    let found = analyze("alarm_discrete_hr_lv.csv", "HRBP");
-    assert_eq!(found.outcome, Outcome::Identified, "{}", found.explanation);
-    assert_eq!(claimed(&found), set(&["ERRLOWOUTPUT", "HR"]));
+    // at n = 5000 it is not (HR's own boundary misses HRBP), so the discrete copy is used. Defined
+    // once in src/qualify/structures.rs, which `forebear qualify` runs.
+    assert_reference_cases_pass("structure.alarm.hrbp");
 }
 
 #[test]
@@ -144,8 +144,6 @@ fn asia_either_is_identified_from_heavily_tied_binary_data() {
     // exact duplicates and the nearest-neighbour choices are decided by the keyed tie-breaks. The
     // cycle either — lung — smoke — bronc — dysp — either means no tree neighbourhood; the
     // v-structure tub → either ← lung is still recovered exactly on the full file, and "either"
-    // is the only ASIA node with two parents that is.
-    let found = analyze("asia_discrete_n5000_seed1.csv", "either");
-    assert_eq!(found.outcome, Outcome::Identified, "{}", found.explanation);
-    assert_eq!(claimed(&found), set(&["lung", "tub"]));
+    // is the only ASIA node with two parents that is. Defined once in src/qualify/structures.rs.
+    assert_reference_cases_pass("structure.asia.either");
 }

@@ -153,3 +153,21 @@ fn a_signature_statement_and_a_report_listing_it_validate() {
     broken["meaning"] = Value::from("witnessed");
     assert!(!errors(&broken).is_empty());
 }
+
+#[test]
+fn a_partial_qualification_record_validates() {
+    let scratch = crate::common::Scratch::new("schemas-qualification");
+    let first = forebear::qualify::catalogue().remove(0).id;
+    let out = scratch.path("record");
+    let output = bin()
+        .args(["--quiet", "qualify", "--case", &first, "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_success(&output);
+    let record = assert_valid(&out.join("qualification.json"));
+    assert_eq!(record["cases"].as_array().unwrap().len(), 1);
+    let mut broken = record.clone();
+    broken["summary"]["passed"] = Value::from(-1);
+    assert!(!errors(&broken).is_empty());
+}

@@ -7,6 +7,7 @@ pub mod dependence;
 pub mod fingerprint;
 pub mod merge;
 pub mod out;
+pub mod qualify;
 pub mod reader;
 pub mod sign;
 pub mod trail;
@@ -59,6 +60,8 @@ pub enum Command {
     Fingerprint(fingerprint::FingerprintArgs),
     /// Show an audit trail (forebear-trail.jsonl) and check its hash chain.
     Trail(trail::TrailArgs),
+    /// Run the built-in reference cases on this installation and write a qualification record.
+    Qualify(qualify::QualifyArgs),
 }
 
 /// Progress on stderr, unless `--quiet`.
@@ -144,5 +147,16 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
         Command::Sign(args) => sign::run(args, operator),
         Command::Fingerprint(args) => fingerprint::run(args),
         Command::Trail(args) => trail::run(args),
+        Command::Qualify(args) => {
+            let operator = crate::qualify::record::Operator {
+                name: Some(operator.to_string()),
+                from: if cli.operator.is_some() {
+                    "--operator".into()
+                } else {
+                    "the login name".into()
+                },
+            };
+            qualify::run(args, argv, operator, &progress)
+        }
     }
 }

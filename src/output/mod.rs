@@ -23,7 +23,7 @@ pub use fsio::{
     exchange, fs_error, rename_file_noreplace, rename_noreplace, sync_dir, sync_dirs, write_synced,
 };
 pub use lock::OutputLock;
-pub use rules::Kind;
+pub use rules::{Kind, QUALIFICATION_FILES};
 pub use staging::Staging;
 
 use crate::analysis::Progress;
@@ -97,6 +97,7 @@ fn resolve(dir: &Path, kind: Kind) -> Result<PathBuf> {
         Kind::Dossier => "results",
         Kind::Batch => "nightly",
         Kind::Targets => "study",
+        Kind::Qualification => "qualification",
     };
     let no_name = |path: &Path| {
         Error::input(format!(

@@ -17,6 +17,8 @@ pub enum Kind {
     Batch,
     /// Several targets of one `analyze`: the study summary and a dossier folder per target.
     Targets,
+    /// A qualification record (`forebear qualify`): `qualification.json`, `.md` and `.html`.
+    Qualification,
 }
 
 impl Kind {
@@ -26,6 +28,7 @@ impl Kind {
             Kind::Dossier => "dossier",
             Kind::Batch => "batch",
             Kind::Targets => "targets",
+            Kind::Qualification => "qualification",
         }
     }
 }
@@ -98,6 +101,7 @@ pub fn examine(dir: &Path, kind: Kind) -> io::Result<Found> {
         Kind::Dossier => examine_dossier(dir, entries),
         Kind::Batch => examine_batch(dir, entries)?,
         Kind::Targets => examine_targets(dir, entries)?,
+        Kind::Qualification => examine_qualification(dir, entries),
     })
 }
 
@@ -109,7 +113,10 @@ pub fn examine_any(dir: &Path) -> io::Result<Found> {
             Found::Former(former) => Ok(Found::Former(former)),
             _ => match examine(dir, Kind::Targets)? {
                 Found::Former(former) => Ok(Found::Former(former)),
-                _ => Ok(Found::Foreign(why)),
+                _ => match examine(dir, Kind::Qualification)? {
+                    Found::Former(former) => Ok(Found::Former(former)),
+                    _ => Ok(Found::Foreign(why)),
+                },
             },
         },
         found => Ok(found),
@@ -257,6 +264,33 @@ fn examine_targets(dir: &Path, entries: Vec<String>) -> io::Result<Found> {
     }))
 }
 
+/// The files of a qualification record; `qualification.json` proves that forebear wrote it.
+pub const QUALIFICATION_FILES: [&str; 3] = [
+    "qualification.json",
+    "qualification.md",
+    "qualification.html",
+];
+
+/// A qualification record is recognised by its `qualification.json`; it may hold only the
+/// record's files.
+fn examine_qualification(dir: &Path, entries: Vec<String>) -> Found {
+    let proof = QUALIFICATION_FILES[0];
+    if let Some(name) = entries
+        .iter()
+        .find(|n| !QUALIFICATION_FILES.contains(&n.as_str()))
+    {
+        return Found::Foreign(format!("holds '{name}', a file forebear did not write"));
+    }
+    let Some(text) = forebear_json(&dir.join(proof)) else {
+        return Found::Foreign(format!("holds files but no {proof} written by forebear"));
+    };
+    Found::Former(Former {
+        identity: sha256_text(&text),
+        entries: entries.into_iter().filter(|n| n != proof).collect(),
+        proofs: vec![proof.to_string()],
+    })
+}
+
 /// The text of `path` if it is a JSON file that forebear wrote (its `schema` names a forebear
 /// layout).
 fn forebear_json(path: &Path) -> Option<String> {
@@ -286,6 +320,7 @@ impl Found {
                     Kind::Dossier => "a forebear result",
                     Kind::Batch => "a forebear batch output",
                     Kind::Targets => "a forebear output of several targets",
+                    Kind::Qualification => "a forebear qualification record",
                 };
                 Err(Error::input(format!(
                     "the output folder '{dir}' already holds {what}; pass --force to replace it, \
@@ -362,5 +397,32 @@ mod tests {
             .unwrap_err();
         assert_eq!(refusal.exit_code(), 2);
         std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn a_qualification_record_is_recognised_by_its_json_and_holds_only_its_files() {
+        let dir = scratch("qualification");
+        std::fs::write(dir.join("qualification.md"), "# record").unwrap();
+        assert!(matches!(
+            examine(&dir, Kind::Qualification).unwrap(),
+            Found::Foreign(why) if why.contains("no qualification.json")
+        ));
+        std::fs::write(
+            dir.join("qualification.json"),
+            r#"{"schema": "forebear.qualification/1"}"#,
+        )
+        .unwrap();
+        let Found::Former(former) = examine(&dir, Kind::Qualification).unwrap() else {
+            panic!("a former record")
+        };
+        assert_eq!(former.entries, vec!["qualification.md"]);
+        assert_eq!(former.proofs, vec!["qualification.json"]);
+        assert!(matches!(examine_any(&dir).unwrap(), Found::Former(_)));
+        std::fs::write(dir.join("result.json"), "{}").unwrap();
+        assert!(matches!(
+            examine(&dir, Kind::Qualification).unwrap(),
+            Found::Foreign(why) if why.contains("'result.json'")
+        ));
+        let _ = std::fs::remove_dir_all(&dir);
     }
 }

@@ -477,3 +477,44 @@ pub fn one_study_plan(name: &str, replicates: u32) -> PathBuf {
     .unwrap();
     dir
 }
+
+/// Runs the built-in reference cases whose ids start with `prefix` (the same cases `forebear
+/// qualify` runs, so a test and the qualification record cannot disagree) and fails with every
+/// measured quantity of each case that did not pass. Returns how many cases ran.
+pub fn assert_reference_cases_pass(prefix: &str) -> usize {
+    let cases: Vec<forebear::qualify::Case> = forebear::qualify::catalogue()
+        .into_iter()
+        .filter(|c| c.id.starts_with(prefix))
+        .collect();
+    assert!(
+        !cases.is_empty(),
+        "no reference case starts with '{prefix}'"
+    );
+    let failed: Vec<String> = cases
+        .iter()
+        .map(forebear::qualify::run_case)
+        .filter(|r| !r.passed)
+        .map(|r| {
+            let measured: Vec<String> = r
+                .measured
+                .iter()
+                .map(|m| {
+                    format!(
+                        "{}: expected {}, observed {}, tolerance {}",
+                        m.quantity,
+                        m.comparison.expected_text(),
+                        m.comparison.observed_text(),
+                        m.comparison.tolerance_text()
+                    )
+                })
+                .collect();
+            format!("{} ({}): {}", r.id, r.source, measured.join("; "))
+        })
+        .collect();
+    assert!(
+        failed.is_empty(),
+        "failed reference cases:\n{}",
+        failed.join("\n")
+    );
+    cases.len()
+}
