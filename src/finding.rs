@@ -91,6 +91,10 @@ pub struct RunInfo {
     /// The study file the settings came from (`analyze --config`), with its SHA-256.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub study_file: Option<crate::settings::StudyFileRecord>,
+    /// Document control (title, identifier, purpose, version, prepared by), absent when none was
+    /// given: metadata of the document, outside the digest like every run fact.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub document: Option<crate::settings::DocumentControl>,
 }
 
 /// What the used rows of one column look like (for the dossier's data section).

@@ -17,13 +17,14 @@ use serde::Serialize;
 use std::path::Path;
 
 /// Fields of `result.json` always taken from the record.
-pub(super) const RECORDED_FACTS: [&str; 9] = [
+pub(super) const RECORDED_FACTS: [&str; 10] = [
     "/run/started_utc",
     "/run/duration_seconds",
     "/run/threads",
     "/run/data_path",
     "/run/command_line",
     "/run/study_file",
+    "/run/document",
     "/tool/version",
     "/tool/build",
     "/data/file",
@@ -277,6 +278,7 @@ mod tests {
                 path: String::new(),
                 sha256: String::new(),
             }),
+            document: Some(crate::settings::DocumentControl::default()),
         };
         let tree = serde_json::to_value(run).unwrap();
         for key in tree.as_object().unwrap().keys() {
