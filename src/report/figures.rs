@@ -6,8 +6,8 @@
 //! Colours are from the Okabe–Ito palette, which stays distinguishable under the common forms of
 //! colour blindness; every series also differs in shape or position, not colour alone.
 
-use crate::finding::Finding;
 use super::svg_text::{text_lines, wrap_label, Place};
+use crate::finding::Finding;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
@@ -73,7 +73,7 @@ fn trace_chart(finding: &Finding) -> Option<String> {
     let anchors: Vec<(i32, i32)>;
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (640, 300)).into_drawing_area();
+        let root = SVGBackend::with_string(&mut svg, (640, 260)).into_drawing_area();
         root.fill(&WHITE).ok()?;
         let mut chart = ChartBuilder::on(&root)
             .margin(12)
@@ -212,7 +212,7 @@ fn stability_chart(finding: &Finding) -> Option<String> {
         .map(|(name, _, _)| wrap_label(name, STABILITY_LABEL_WIDTH))
         .collect();
     let most_lines = labels.iter().map(Vec::len).max().unwrap_or(1);
-    let row = 34.max(15 * most_lines + 6);
+    let row = 26.max(15 * most_lines + 4);
     let height = (70 + row * n) as u32;
     let anchors: Vec<(i32, i32)>;
     let mut svg = String::new();

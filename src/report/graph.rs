@@ -145,12 +145,14 @@ impl TargetLink {
             .with_neighbourhood
             .as_ref()
             .and_then(|n| reading(&n.edges, n.outcome, Basis::Neighbourhood));
-        knowledge.or(neighbourhood).unwrap_or(TargetLink::Undirected {
-            mutual: finding
-                .boundaries
-                .get(member)
-                .is_some_and(|b| b.selected.iter().any(|m| m == &finding.target)),
-        })
+        knowledge
+            .or(neighbourhood)
+            .unwrap_or(TargetLink::Undirected {
+                mutual: finding
+                    .boundaries
+                    .get(member)
+                    .is_some_and(|b| b.selected.iter().any(|m| m == &finding.target)),
+            })
     }
 }
 
@@ -198,7 +200,11 @@ pub fn membership_graph(finding: &Finding) -> Option<String> {
                 at,
                 label: wrap_label(m, LABEL_WIDTH),
                 note: component.map_or(String::new(), |c| {
-                    format!("component {}{}", c + 1, if passes { ", passes" } else { "" })
+                    format!(
+                        "component {}{}",
+                        c + 1,
+                        if passes { ", passes" } else { "" }
+                    )
                 }),
                 passes,
                 upper: at.1 < 0.0,
@@ -207,7 +213,13 @@ pub fn membership_graph(finding: &Finding) -> Option<String> {
         .collect();
     let target_label = wrap_label(&finding.target, 22);
     let target_half = (
-        (target_label.iter().map(|l| l.chars().count()).max().unwrap_or(0) as f64 * 4.3 + 12.0)
+        (target_label
+            .iter()
+            .map(|l| l.chars().count())
+            .max()
+            .unwrap_or(0) as f64
+            * 4.3
+            + 12.0)
             .max(55.0),
         (target_label.len() as f64 * LINE_HEIGHT + 16.0) / 2.0,
     );
@@ -244,9 +256,6 @@ pub fn membership_graph(finding: &Finding) -> Option<String> {
     let mut svg = format!(
         "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{WIDTH}\" height=\"{height:.0}\" \
          viewBox=\"0 0 {WIDTH} {height:.0}\" role=\"img\" font-family=\"sans-serif\">\n\
-         <defs><marker id=\"forebear-arrow\" viewBox=\"0 0 10 10\" refX=\"9\" refY=\"5\" \
-         markerWidth=\"7\" markerHeight=\"7\" orient=\"auto-start-reverse\">\
-         <path d=\"M0,0 L10,5 L0,10 z\" fill=\"#1a1a1a\"/></marker></defs>\n\
          <rect width=\"{WIDTH}\" height=\"{height:.0}\" fill=\"white\"/>\n"
     );
     for n in &nodes {
@@ -289,25 +298,60 @@ fn target_line(centre: (f64, f64), half: (f64, f64), n: &Node) -> String {
     // Leave the box where the ray from its centre crosses its outline.
     let t = (half.0 / ux.abs().max(1e-9)).min(half.1 / uy.abs().max(1e-9)) + 2.0;
     let from = (centre.0 + ux * t, centre.1 + uy * t);
-    let to = (n.at.0 - ux * (NODE_RADIUS + 4.0), n.at.1 - uy * (NODE_RADIUS + 4.0));
-    let (stroke, width, dash, marker) = match n.link {
+    let to = (
+        n.at.0 - ux * (NODE_RADIUS + 4.0),
+        n.at.1 - uy * (NODE_RADIUS + 4.0),
+    );
+    match n.link {
         TargetLink::Arrow { into, basis } => {
-            let marker = match into {
-                true => " marker-start=\"url(#forebear-arrow)\"",
-                false => " marker-end=\"url(#forebear-arrow)\"",
-            };
-            ("#1a1a1a", 2.0, basis.dash(), marker)
+            // The head at the end it points to; the line stops at the head's base.
+            let (tip, tail) = if into { (from, to) } else { (to, from) };
+            let (hx, hy) = unit(tip, tail);
+            let base = (tip.0 + hx * ARROW_LENGTH, tip.1 + hy * ARROW_LENGTH);
+            format!(
+                "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#1a1a1a\" stroke-width=\"2\"{}/>\n{}",
+                tail.0,
+                tail.1,
+                base.0,
+                base.1,
+                basis.dash(),
+                arrow_head(tip, (-hx, -hy))
+            )
         }
-        TargetLink::Undirected { mutual } => (
-            "#8a8a8a",
-            1.5,
-            if mutual { "" } else { " stroke-dasharray=\"5 4\"" },
-            "",
+        TargetLink::Undirected { mutual } => format!(
+            "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#8a8a8a\" stroke-width=\"1.5\"{}/>\n",
+            from.0,
+            from.1,
+            to.0,
+            to.1,
+            if mutual { "" } else { " stroke-dasharray=\"5 4\"" }
         ),
-    };
+    }
+}
+
+/// Length of an arrowhead, in pixels.
+const ARROW_LENGTH: f64 = 11.0;
+
+/// The unit vector from `a` towards `b`.
+fn unit(a: (f64, f64), b: (f64, f64)) -> (f64, f64) {
+    let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+    let length = (dx * dx + dy * dy).sqrt().max(1e-9);
+    (dx / length, dy / length)
+}
+
+/// A filled arrowhead with its point at `tip`, pointing along the unit vector `direction`.
+pub fn arrow_head(tip: (f64, f64), direction: (f64, f64)) -> String {
+    let (ux, uy) = direction;
+    let base = (tip.0 - ux * ARROW_LENGTH, tip.1 - uy * ARROW_LENGTH);
+    let half = ARROW_LENGTH * 0.45;
     format!(
-        "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"{stroke}\" stroke-width=\"{width}\"{dash}{marker}/>\n",
-        from.0, from.1, to.0, to.1
+        "<polygon points=\"{:.1},{:.1} {:.1},{:.1} {:.1},{:.1}\" fill=\"#1a1a1a\"/>\n",
+        tip.0,
+        tip.1,
+        base.0 - uy * half,
+        base.1 + ux * half,
+        base.0 + uy * half,
+        base.1 - ux * half
     )
 }
 
@@ -327,7 +371,10 @@ fn member_edges(finding: &Finding, centre: (f64, f64), nodes: &[Node]) -> String
 }
 
 /// The placed ends of every member-to-member edge, with its dash.
-fn member_pairs(finding: &Finding, nodes: &[Node]) -> Vec<(((f64, f64), (f64, f64)), &'static str)> {
+fn member_pairs(
+    finding: &Finding,
+    nodes: &[Node],
+) -> Vec<(((f64, f64), (f64, f64)), &'static str)> {
     let at = |name: &str| nodes.iter().find(|n| n.name == name).map(|n| n.at);
     let mutual = super::mutual_edges(finding).iter().map(|e| (e, ""));
     let collider = super::collider_edges(finding)
@@ -348,7 +395,11 @@ fn bow(centre: (f64, f64), a: (f64, f64), b: (f64, f64)) -> (f64, f64) {
     if (vx * vx + vy * vy).sqrt() < 40.0 {
         // Through the target: bow over it, perpendicular to the edge.
         let (dx, dy) = (b.0 - a.0, b.1 - a.1);
-        (vx, vy) = if dx.abs() > 1e-9 { (dy, -dx) } else { (-1.0, 0.0) };
+        (vx, vy) = if dx.abs() > 1e-9 {
+            (dy, -dx)
+        } else {
+            (-1.0, 0.0)
+        };
         if vy > 0.0 {
             (vx, vy) = (-vx, -vy);
         }
@@ -368,7 +419,9 @@ fn curve_top(a: (f64, f64), b: (f64, f64), control: (f64, f64)) -> f64 {
 /// in the upper half, clear of the lines to the target.
 fn node(n: &Node) -> String {
     let (x, y) = n.at;
-    let mut svg = n.role.shape(n.at, NODE_RADIUS, if n.passes { 3.0 } else { 1.0 });
+    let mut svg = n
+        .role
+        .shape(n.at, NODE_RADIUS, if n.passes { 3.0 } else { 1.0 });
     let label = |anchor: (f64, f64), place| {
         text_lines(
             &n.label,
@@ -463,7 +516,11 @@ impl Legend {
         for kind in &self.links {
             entries.push(match kind {
                 LinkKind::Arrow(basis) => (
-                    line("#1a1a1a", 2.0, basis.dash(), " marker-end=\"url(#forebear-arrow)\""),
+                    format!(
+                        "{}{}",
+                        line("#1a1a1a", 2.0, basis.dash(), ""),
+                        arrow_head((30.0, 0.0), (1.0, 0.0))
+                    ),
                     basis.legend().to_string(),
                 ),
                 LinkKind::Undirected(true) => (

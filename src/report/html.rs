@@ -59,10 +59,12 @@ pub fn html_document(finding: &Finding, markdown: &str) -> String {
          <title>{}</title>\n<style>\n{CSS}{running}</style>\n</head>\n<body>\n\
          <header class=\"running\">{} · {}</header>\n<main>\n{body}</main>\n</body>\n</html>\n",
         xml_escape(&finding.tool.version),
-        xml_escape(&match finding.run.document.as_ref().and_then(|d| d.title.as_ref()) {
-            Some(title) => title.clone(),
-            None => format!("Dossier: {study}"),
-        }),
+        xml_escape(
+            &match finding.run.document.as_ref().and_then(|d| d.title.as_ref()) {
+                Some(title) => title.clone(),
+                None => format!("Dossier: {study}"),
+            }
+        ),
         xml_escape(&header),
         xml_escape(&digest),
     )
@@ -141,10 +143,13 @@ enum Marker<'a> {
 /// The marker of a line `<!-- figure:name -->`, `<!-- box:name -->`, `<!-- /box -->` or
 /// `<!-- page -->`; names are lowercase letters and hyphens.
 fn marker(text: &str) -> Option<Marker<'_>> {
-    let inner = text.trim().strip_prefix("<!--")?.strip_suffix("-->")?.trim();
+    let inner = text
+        .trim()
+        .strip_prefix("<!--")?
+        .strip_suffix("-->")?
+        .trim();
     let named = |name: &str| {
-        (!name.is_empty() && name.chars().all(|c| c.is_ascii_lowercase() || c == '-'))
-            .then_some(())
+        (!name.is_empty() && name.chars().all(|c| c.is_ascii_lowercase() || c == '-')).then_some(())
     };
     match inner {
         "/box" => Some(Marker::BoxEnd),
@@ -205,7 +210,12 @@ mod tests {
             "<!-- box:status -->\n\n**Outcome:** x.\n\n<!-- /box -->\n\n<!-- page -->\n\n<!-- box:Bad -->\n",
             |_| None,
         );
-        assert!(html.contains("<section class=\"status\">\n<p><strong>Outcome:</strong> x.</p>\n</section>"), "{html}");
+        assert!(
+            html.contains(
+                "<section class=\"status\">\n<p><strong>Outcome:</strong> x.</p>\n</section>"
+            ),
+            "{html}"
+        );
         assert!(html.contains("<div class=\"new-page\"></div>"), "{html}");
         assert!(html.contains("&lt;!-- box:Bad --&gt;"), "{html}");
     }

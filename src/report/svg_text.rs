@@ -105,7 +105,10 @@ mod tests {
     fn long_names_break_after_natural_separators_and_lose_nothing() {
         let name = "slurry_moisture_at_the_second_mixing_station";
         let lines = wrap_label(name, 18);
-        assert_eq!(lines, ["slurry_moisture_", "at_the_second_", "mixing_station"]);
+        assert_eq!(
+            lines,
+            ["slurry_moisture_", "at_the_second_", "mixing_station"]
+        );
         assert!(lines.iter().all(|l| l.chars().count() <= 18), "{lines:?}");
         assert_eq!(lines.concat(), name);
     }

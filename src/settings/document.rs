@@ -171,7 +171,9 @@ mod tests {
     fn control_and_invisible_characters_are_refused_and_named() {
         let message = check(Key::PreparedBy, "A. Analyst\u{7}").unwrap_err();
         assert!(
-            message.starts_with("document.prepared_by 'A. Analyst\\u{7}' holds a control character at character 11"),
+            message.starts_with(
+                "document.prepared_by 'A. Analyst\\u{7}' holds a control character at character 11"
+            ),
             "{message}"
         );
         assert!(check(Key::Title, "line\nbreak").is_err());

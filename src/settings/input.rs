@@ -162,7 +162,10 @@ impl SettingsInput {
             | Key::DocumentId
             | Key::Purpose
             | Key::DocumentVersion
-            | Key::PreparedBy => self.document.as_ref().is_some_and(|d| d.field(key).is_some()),
+            | Key::PreparedBy => self
+                .document
+                .as_ref()
+                .is_some_and(|d| d.field(key).is_some()),
         }
     }
 }

@@ -270,9 +270,8 @@ mod tests {
 
     #[test]
     fn the_document_table_reads_field_by_field_and_places_each() {
-        let (table, problems) = read(
-            "name = \"x\"\n[document]\ntitle = \"Kiln study\"\nauthor = \"A\"\nversion = 2\n",
-        );
+        let (table, problems) =
+            read("name = \"x\"\n[document]\ntitle = \"Kiln study\"\nauthor = \"A\"\nversion = 2\n");
         assert_eq!(problems.len(), 2, "{problems:#?}");
         assert!(
             problems[0].starts_with("study.toml:4:1: unknown key 'document.author'"),
@@ -288,7 +287,10 @@ mod tests {
         assert_eq!(document.title.as_deref(), Some("Kiln study"));
         assert_eq!(table.spans.keys().collect::<Vec<_>>(), [&Key::Title]);
         let (_, problems) = read("document = \"Kiln\"\n");
-        assert!(problems[0].contains("document must be a table"), "{problems:?}");
+        assert!(
+            problems[0].contains("document must be a table"),
+            "{problems:?}"
+        );
     }
 
     #[test]
