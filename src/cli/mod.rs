@@ -35,7 +35,7 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Search the direct causes (parents) of a target column and write the dossier.
-    Analyze(analyze::AnalyzeArgs),
+    Analyze(Box<analyze::AnalyzeArgs>),
     /// Print the conditional dependence coefficient T_n(response, on | given).
     Dependence(dependence::DependenceArgs),
     /// Write the built-in demo data and analyse it.
@@ -118,7 +118,7 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
     }
     let progress = Stderr { quiet: cli.quiet };
     match cli.command {
-        Command::Analyze(args) => analyze::run(args, explicit, argv, &progress),
+        Command::Analyze(args) => analyze::run(*args, explicit, argv, &progress),
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, &progress),
         Command::Batch(args) => batch::run(args, argv, &progress),

@@ -370,11 +370,11 @@ fn member_edges(finding: &Finding, centre: (f64, f64), nodes: &[Node]) -> String
     svg
 }
 
+/// Two placed ends of a line.
+type Ends = ((f64, f64), (f64, f64));
+
 /// The placed ends of every member-to-member edge, with its dash.
-fn member_pairs(
-    finding: &Finding,
-    nodes: &[Node],
-) -> Vec<(((f64, f64), (f64, f64)), &'static str)> {
+fn member_pairs(finding: &Finding, nodes: &[Node]) -> Vec<(Ends, &'static str)> {
     let at = |name: &str| nodes.iter().find(|n| n.name == name).map(|n| n.at);
     let mutual = super::mutual_edges(finding).iter().map(|e| (e, ""));
     let collider = super::collider_edges(finding)
