@@ -45,6 +45,8 @@ pub struct Prepared {
     pub data_path: String,
     /// The content fingerprint of the whole file and its locating index.
     pub content: ContentIndex,
+    /// Document control of the dossier (a run fact, outside the digest).
+    pub document: Option<crate::settings::DocumentControl>,
     started: Instant,
     started_utc: String,
 }
@@ -65,7 +67,7 @@ pub fn prepare(
     let reader = DataReader::open(path, options)?;
     let checked = Study::new(settings, target, reader.header())?;
     let (raw, facts) = reader.read_rows()?;
-    assemble(
+    let prepared = assemble(
         path,
         raw,
         facts,
@@ -73,7 +75,8 @@ pub fn prepare(
         options,
         progress,
         (started, started_utc),
-    )
+    )?;
+    Ok(prepared.with_document(settings))
 }
 
 /// As [`prepare`], on data already read (with [`crate::data::read_data`]).
@@ -87,7 +90,8 @@ pub fn prepare_read(
     let started = (Instant::now(), crate::timefmt::now_rfc3339());
     let checked = Study::new(settings, target, &raw)?;
     let options = settings.reader();
-    assemble(path, raw, facts, checked, options, progress, started)
+    let prepared = assemble(path, raw, facts, checked, options, progress, started)?;
+    Ok(prepared.with_document(settings))
 }
 
 /// As [`prepare_read`], for one of several targets of one read file whose content index is
@@ -182,12 +186,20 @@ fn assemble_indexed(
         study,
         data_path: path.display().to_string(),
         content,
+        document: None,
         started,
         started_utc,
     })
 }
 
 impl Prepared {
+    /// The same, with the document control of `settings` (absent when none was given).
+    pub fn with_document(mut self, settings: &Settings) -> Prepared {
+        let document = settings.document();
+        self.document = (!document.is_empty()).then(|| document.clone());
+        self
+    }
+
     /// The local parent search on the full data (replicate 0 of the keyed draws).
     pub fn full_search(&self, progress: &dyn Progress) -> ParentSearch {
         let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
@@ -297,6 +309,7 @@ impl Prepared {
             command_line,
             study_file: None,
             operator: String::new(),
+            document: self.document.clone(),
         }
     }
 }
@@ -496,6 +509,7 @@ pub fn merge_parts(parts: Vec<(String, Partial)>, command_line: Vec<String>) -> 
         command_line,
         study_file: first.finding.run.study_file.clone(),
         operator: String::new(),
+        document: first.finding.run.document.clone(),
     };
     Ok(Analysed {
         finding: attach_stability(finding, &records),

@@ -95,6 +95,10 @@ pub struct RunInfo {
     /// the operator was recorded.
     #[serde(default)]
     pub operator: String,
+    /// Document control (title, identifier, purpose, version, prepared by), absent when none was
+    /// given: metadata of the document, outside the digest like every run fact.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub document: Option<crate::settings::DocumentControl>,
 }
 
 /// What the used rows of one column look like (for the dossier's data section).

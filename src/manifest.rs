@@ -31,6 +31,10 @@ pub struct Manifest {
     pub files: BTreeMap<String, String>,
     /// The command lines.
     pub command: ManifestCommand,
+    /// Document control (title, identifier, purpose, version, prepared by), absent when none was
+    /// given; a copy of `result.json`'s `run.document`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub document: Option<crate::settings::DocumentControl>,
     /// When the dossier was generated (UTC, RFC 3339).
     pub generated_utc: String,
     /// Who generated it (`--operator`, else the login name); empty in manifests written before
@@ -130,6 +134,7 @@ impl Manifest {
                 original: finding.run.command_line.clone(),
                 reproduce: crate::reproduce::reproduce_command(finding),
             },
+            document: finding.run.document.clone(),
             generated_utc: crate::timefmt::now_rfc3339(),
             operator: finding.run.operator.clone(),
             seal: String::new(),

@@ -69,6 +69,14 @@ pub fn reproduce_command(finding: &Finding) -> String {
         );
         parts.push(format!("--config {file}"));
     }
+    if let Some(document) = &finding.run.document {
+        // Document control is not a setting, but the re-run's dossier should carry it too.
+        for key in crate::settings::document::DOCUMENT_KEYS {
+            if let Some(text) = document.field(key) {
+                parts.push(flag(key, shell_quote(text)));
+            }
+        }
+    }
     parts.push("--out rerun".to_string());
     one_line(&parts.join(" "))
 }

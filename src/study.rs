@@ -170,6 +170,8 @@ impl Study {
             missing_tokens: Some(reader.missing_tokens.clone()),
             missing: Some(reader.missing_policy),
             knowledge: self.knowledge.clone(),
+            // Document control is a run fact, recorded outside the study (`run.document`).
+            document: None,
         }
     }
 

@@ -291,10 +291,28 @@ fn three_shards_collected_give_the_summary_and_index_of_one_run_byte_for_byte() 
         "collected",
     ]);
     assert_eq!(exit_code(&run), 0, "{}", stderr(&run));
-    for file in ["summary.json", "index.html", "index.md"] {
-        let whole = std::fs::read(s.path("whole").join(file)).unwrap();
-        let collected = std::fs::read(s.path("collected").join(file)).unwrap();
-        assert!(whole == collected, "{file} differs");
+    let whole = std::fs::read(s.path("whole/summary.json")).unwrap();
+    let collected = std::fs::read(s.path("collected/summary.json")).unwrap();
+    assert!(whole == collected, "summary.json differs");
+    // The pages are the same but for their date line (when the run started, when the shards
+    // were collected), which summary.json does not hold.
+    for file in ["index.html", "index.md"] {
+        let undated = |dir: &str| -> Vec<String> {
+            std::fs::read_to_string(s.path(dir).join(file))
+                .unwrap()
+                .lines()
+                .filter(|l| !l.contains(" (UTC): "))
+                .map(str::to_string)
+                .collect()
+        };
+        assert_eq!(undated("whole"), undated("collected"), "{file} differs");
+        let collected = std::fs::read_to_string(s.path("collected").join(file)).unwrap();
+        assert!(
+            collected.contains("Shards collected (UTC): "),
+            "{collected}"
+        );
+        let whole = std::fs::read_to_string(s.path("whole").join(file)).unwrap();
+        assert!(whole.contains("Run started (UTC): "), "{whole}");
     }
     assert!(s
         .path("collected/line-a/pore_density/dossier.html")
@@ -901,7 +919,8 @@ fn the_index_flags_a_contradicted_headline_and_says_an_unstable_outcome_is_not_d
     let mut after = summary_of(entry(Outcome::Identified, &["a", "b"], 0.30, 100, false));
     after.drift = Some(compare(&before, "e", &after, 0.2));
     after.totals.unstable_outcomes = 1;
-    let markdown = forebear::batch::index::render_markdown(&after).unwrap();
+    let dated = forebear::batch::index::Dated::run("2026-12-03T01:00:00Z");
+    let markdown = forebear::batch::index::render_markdown(&after, &dated).unwrap();
     assert!(
         markdown
             .contains("**contradicted by resamples** (most frequent other result 0.70: identified"),
@@ -913,7 +932,7 @@ fn the_index_flags_a_contradicted_headline_and_says_an_unstable_outcome_is_not_d
         "{markdown}"
     );
     assert!(markdown.contains("are **not drift**"), "{markdown}");
-    let html = forebear::batch::index::render_html(&after).unwrap();
+    let html = forebear::batch::index::render_html(&after, &dated).unwrap();
     assert!(html.contains("contradicted by resamples"), "{html}");
     assert!(html.contains("<strong>not drift</strong>"), "{html}");
 }

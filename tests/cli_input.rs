@@ -1038,13 +1038,25 @@ fn example_study() -> std::path::PathBuf {
 fn the_example_study_file_documents_every_setting_and_runs_with_flags_winning_over_it() {
     let text = std::fs::read_to_string(example_study()).unwrap();
     // Every key the settings take is shown (set or commented out) as `key =` at a line's start,
-    // or as a table `[key]`.
+    // or as a table `[key]`; a key `table.field` as `field =` after the line `[table]`.
     for key in forebear::settings::Key::ALL {
-        let shown = text.lines().any(|l| {
+        let (lines, name) = match key.name().split_once('.') {
+            Some((table, field)) => {
+                let header = format!("[{table}]");
+                let from = text.lines().position(|l| l == header);
+                assert!(from.is_some(), "examples/study.toml has no {header}");
+                (
+                    text.lines().skip(from.unwrap_or(0)).collect::<Vec<_>>(),
+                    field,
+                )
+            }
+            None => (text.lines().collect(), key.name()),
+        };
+        let shown = lines.iter().any(|l| {
             l.trim_start_matches("# ")
-                .strip_prefix(key.name())
+                .strip_prefix(name)
                 .is_some_and(|rest| rest.trim_start().starts_with('='))
-                || l == format!("[{}]", key.name())
+                || *l == format!("[{}]", key.name())
         });
         assert!(shown, "examples/study.toml does not show '{}'", key.name());
     }
@@ -1108,7 +1120,7 @@ fn every_problem_of_a_study_file_and_the_flags_is_reported_at_once_where_it_was_
         [
             format!("forebear: error: {file}:2:1: alpha 1.5 is not a level: it must lie strictly between 0 and 1"),
             format!("forebear: error: {file}:3:11: scaling: unknown variant `ranked`, expected one of `rank`, `standardize`, `none`"),
-            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, neighbourhood_orientation, delimiter, decimal_comma, missing_tokens, missing, knowledge"),
+            format!("forebear: error: {file}:4:1: unknown key 'seeds'; did you mean 'seed'? the keys are: targets, exclude, candidates, seed, scaling, alpha, replicates, resample, fraction, stability_threshold, stopping_rule, selection_alpha, permutations, neighbourhood_orientation, delimiter, decimal_comma, missing_tokens, missing, knowledge, document.title, document.id, document.purpose, document.version, document.prepared_by"),
             format!("forebear: error: {file}:5:1: replicates 7: complementary pairs come in twos (two halves per split), so the number of replicates must be even; use 6 or 8"),
             format!("forebear: error: {file}:6:1: the target 'crush_strength' cannot also be excluded; remove it from exclude"),
             "forebear: error: --stability-threshold 0.4 is outside (0.5, 1]: the error bound of Meinshausen and Bühlmann (2010) needs a threshold above one half".to_string(),

@@ -10,7 +10,7 @@ use forebear::search::Outcome;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-const SECTIONS: [&str; 14] = [
+const SECTIONS: [&str; 13] = [
     "1. Identification and status",
     "2. Summary in plain words",
     "3. Data",
@@ -24,7 +24,6 @@ const SECTIONS: [&str; 14] = [
     "11. Assumptions",
     "12. Limitations and cautions",
     "13. Reproducibility",
-    "14. Sign-off",
 ];
 
 fn analyze(data: &Path, target: &str, out: &Path, extra: &[&str]) {
@@ -105,6 +104,22 @@ fn assert_all_sections(markdown: &str, html: &str, what: &str) {
             "{what}: HTML lacks '{heading}'"
         );
     }
+    // The sign-off comes last, after the appendices, in a section printed on a page of its own.
+    let sign_off = markdown.rfind("\n## ").expect("headings");
+    assert!(
+        markdown[sign_off..].starts_with("\n## Sign-off\n"),
+        "{what}: the last section is not the sign-off"
+    );
+    assert!(
+        html.contains("<section class=\"sign-off\">\n<h2 id=\"section-"),
+        "{what}: the HTML sign-off is not its own section"
+    );
+    assert!(
+        markdown[sign_off..].contains(
+            "forebear sign DOSSIER_FOLDER --key KEY --meaning prepared|reviewed|approved"
+        ),
+        "{what}: the sign-off names the electronic signature"
+    );
     for caution in [
         "not proof of causation",
         "not for decisions about an individual",
@@ -152,8 +167,8 @@ fn assert_tables_intact(markdown: &str) {
 
 /// The demo's `dossier.md` against the committed snapshot `tests/snapshots/demo-TARGET.dossier.md`,
 /// with the three things that vary between runs that do not change the dossier's content written
-/// as placeholders: the data path (`DATA_PATH`), the build commit (`BUILD_COMMIT`, long and short)
-/// and the analysis date (`ANALYSIS_DATE`). A deliberate change of the dossier is accepted by
+/// as placeholders: the data path (`DATA_PATH`), the build commit (`BUILD_COMMIT`, long and short),
+/// the analysis date (`ANALYSIS_DATE`) and the operator (`OPERATOR`, the login name). A deliberate change of the dossier is accepted by
 /// running the test with `FOREBEAR_BLESS=1`, which rewrites the snapshot; review its diff.
 fn assert_matches_snapshot(dir: &Path, data: &Path, target: &str) {
     let found = finding(dir);
@@ -169,6 +184,19 @@ fn assert_matches_snapshot(dir: &Path, data: &Path, target: &str) {
     text = text.replace("BUILD_COMMIT-modified", "BUILD_COMMIT");
     text = text.replace("BUILD_COMMIT, with uncommitted changes", "BUILD_COMMIT");
     text = text.replace(&found.run.started_utc[..10], "ANALYSIS_DATE");
+    // The operator as the template wrote it (Markdown-escaped), whatever the login name is.
+    text = text
+        .lines()
+        .map(|line| match line.strip_prefix("| run by | ") {
+            Some(rest) => match rest.find(" (the operator") {
+                Some(at) => format!("| run by | OPERATOR{}", &rest[at..]),
+                None => line.to_string(),
+            },
+            None => line.to_string(),
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+        + if text.ends_with('\n') { "\n" } else { "" };
     let snapshot = Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("tests/snapshots")
         .join(format!("demo-{target}.dossier.md"));
@@ -315,7 +343,10 @@ fn hostile_column_and_file_names_produce_no_markup_and_break_no_table() {
 /// Renders a finding both ways and checks the sections.
 fn check_rendered(finding: &Finding, what: &str) -> (String, String) {
     let markdown = render_markdown(finding).unwrap();
-    let html = html_document(finding, &markdown);
+    let html = html_document(
+        finding,
+        &forebear::report::markdown::render_markdown_for_html(finding).unwrap(),
+    );
     assert_all_sections(&markdown, &html, what);
     assert_well_formed(&html);
     assert_tables_intact(&markdown);
@@ -380,10 +411,7 @@ fn every_outcome_kind_has_all_sections_with_and_without_stability() {
 
     for (what, finding) in &kinds {
         let (markdown, _) = check_rendered(finding, what);
-        let status = markdown
-            .lines()
-            .find(|l| l.starts_with("**Status:**"))
-            .unwrap();
+        let status = status_line(&markdown);
         let expected = match finding.outcome {
             Outcome::Identified => "parents identified",
             Outcome::NotIdentifiable => "not identifiable from these data",
@@ -470,11 +498,11 @@ fn pore_density_finding() -> Finding {
     shared_finding(&FINDING, "pore_density", &["--replicates", "0"])
 }
 
+/// The status box of the first page: from the outcome to the caution.
 fn status_line(markdown: &str) -> &str {
-    markdown
-        .lines()
-        .find(|l| l.starts_with("**Status:**"))
-        .expect("a status line")
+    let start = markdown.find("**Outcome").expect("a status box");
+    let end = start + markdown[start..].find("**Caution:**").expect("its caution");
+    &markdown[start..end]
 }
 
 /// Sections 1 and 2: what the first printed page holds.
@@ -495,7 +523,8 @@ fn the_status_line_says_whether_the_headline_is_stable_or_that_stability_was_not
     st.headline.contradicted = false;
     let (markdown, _) = check_rendered(&f, "stable");
     assert!(
-        status_line(&markdown).contains("— stable: this outcome recurred in 90 % of 10 resamples."),
+        status_line(&markdown)
+            .contains("**Stability:** stable: this outcome recurred in 90 % of 10 resamples"),
         "{}",
         status_line(&markdown)
     );
@@ -506,8 +535,8 @@ fn the_status_line_says_whether_the_headline_is_stable_or_that_stability_was_not
     let (markdown, _) = check_rendered(&f, "not stable");
     assert!(
         status_line(&markdown).contains(
-            "— not stable: this outcome recurred in 55 % of 10 resamples, below the threshold of \
-             60 %."
+            "**Stability:** not stable: this outcome recurred in 55 % of 10 resamples, below the \
+             threshold of 60 %."
         ),
         "{}",
         status_line(&markdown)
@@ -516,7 +545,7 @@ fn the_status_line_says_whether_the_headline_is_stable_or_that_stability_was_not
     f.stability = None;
     let (markdown, _) = check_rendered(&f, "no resampling");
     assert!(
-        status_line(&markdown).contains("— stability not measured (no resampling)."),
+        status_line(&markdown).contains("**Stability:** not measured (no resampling)."),
         "{}",
         status_line(&markdown)
     );
@@ -912,4 +941,93 @@ fn a_dossier_of_60000_columns_lists_each_column_once_with_its_role() {
         table_rows[2]
     );
     assert_tables_intact(&markdown);
+}
+
+#[test]
+fn the_membership_graph_draws_roles_arrows_into_the_target_and_a_legend() {
+    use forebear::report::graph::membership_graph;
+    // crush_strength: two identified parents, each an arrow into the target.
+    let identified = calibrated_finding();
+    let svg = membership_graph(&identified).expect("a graph");
+    assert_eq!(
+        svg.matches("<circle").count(),
+        2 + 1,
+        "two parents and the legend's circle"
+    );
+    assert_eq!(
+        svg.matches("fill=\"#1a1a1a\"/>").count(),
+        2 + 1,
+        "two heads and the legend's"
+    );
+    for entry in [
+        "identified parent (direct cause)",
+        "direction found by the data",
+        "members in each other&#39;s boundary",
+    ] {
+        assert!(svg.contains(entry), "legend lacks {entry:?}: {svg}");
+    }
+    assert!(
+        !svg.contains("component 1</text>\n<circle"),
+        "colour is not by component"
+    );
+    // pore_density: not identifiable, so no arrow; the candidate is a diamond, others squares.
+    let open = pore_density_finding();
+    let svg = membership_graph(&open).expect("a graph");
+    assert!(!svg.contains("<polygon points=\"") || svg.matches("fill=\"#1a1a1a\"/>").count() == 0);
+    assert!(
+        svg.contains("candidate: cause or effect, undecided"),
+        "{svg}"
+    );
+    assert!(svg.contains("other member of the Markov boundary"), "{svg}");
+    assert!(!svg.contains("direction found by the data"), "{svg}");
+    assert!(!svg.contains("url("), "no references");
+}
+
+#[test]
+fn long_column_names_are_wrapped_in_the_figures_not_cut() {
+    let mut f = calibrated_finding();
+    let long = "kiln_peak_temperature_measured_at_the_third_thermocouple";
+    let old = f.markov_boundary[0].clone();
+    for name in f.markov_boundary.iter_mut() {
+        if *name == old {
+            *name = long.to_string();
+        }
+    }
+    if let Some(st) = f.stability.as_mut() {
+        if let Some(v) = st.markov_boundary.remove(&old) {
+            st.markov_boundary.insert(long.to_string(), v);
+        }
+    }
+    let graph = forebear::report::graph::membership_graph(&f).unwrap();
+    assert!(
+        graph.contains(">kiln_peak_</tspan>") || graph.contains("kiln_peak_temperature_"),
+        "{graph}"
+    );
+    assert!(!graph.contains('…'), "nothing is cut: {graph}");
+    let stability = forebear::report::figures::figure("stability", &f).unwrap();
+    assert!(!stability.contains('…'), "nothing is cut");
+    let lines: Vec<&str> = stability
+        .split("<tspan")
+        .skip(1)
+        .map(|t| &t[t.find('>').unwrap() + 1..t.find("</tspan>").unwrap()])
+        .collect();
+    assert!(
+        lines.concat().contains(long),
+        "every character kept: {lines:?}"
+    );
+    let trace = forebear::report::figures::figure("trace", &f).unwrap();
+    assert!(trace.contains("</tspan>"), "the trace points are labelled");
+    assert!(trace.contains(">stop</tspan>") || f.trace.iter().all(|s| s.chosen.is_some()));
+}
+
+#[test]
+fn html_captions_do_not_point_to_the_html_and_the_markdown_ones_do() {
+    let f = pore_density_finding();
+    let (markdown, html) = check_rendered(&f, "captions");
+    assert!(markdown.contains("(drawn in dossier.html)"));
+    assert!(!html.contains("drawn in dossier.html"), "{html}");
+    assert!(
+        html.contains("<section class=\"status\">"),
+        "the status box"
+    );
 }

@@ -17,6 +17,7 @@ mod cli_input;
 mod coefficient_reference;
 mod dependence_pvalue;
 mod determinism;
+mod document_control;
 mod dossier;
 mod error_control;
 mod knowledge;

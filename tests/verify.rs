@@ -674,14 +674,22 @@ const NOT_STABLE: [(&str, &str, &str); 4] = [
         "\"full_data_outcome_stable\": false",
     ),
     ("result.json", "\"stable\": true,", "\"stable\": false,"),
-    ("dossier.md", "— stable:", "— not stable:"),
-    ("dossier.html", "— stable:", "— not stable:"),
+    (
+        "dossier.md",
+        "**Stability:** stable:",
+        "**Stability:** not stable:",
+    ),
+    (
+        "dossier.html",
+        "<strong>Stability:</strong> stable:",
+        "<strong>Stability:</strong> not stable:",
+    ),
 ];
 
 #[test]
 fn forged_stability_in_result_and_dossier_with_every_hash_recomputed_is_a_mismatch() {
     let (_dir, data, out) = analysed("forged-stability");
-    let line = line_number(&out, "dossier.md", "— stable:");
+    let line = line_number(&out, "dossier.md", "**Stability:** stable:");
     forge_texts(&out, &NOT_STABLE);
     let stdout = mismatched(&out, &data, &[]);
     assert_statuses(
@@ -705,7 +713,7 @@ fn forged_stability_in_result_and_dossier_with_every_hash_recomputed_is_a_mismat
             "dossier.md differs from its re-rendering: first difference at line {line}: on disk"
         ),
     );
-    assert_says(&stdout, "— not stable:");
+    assert_says(&stdout, "**Stability:** not stable:");
     for name in ["result.json", "dossier.html"] {
         assert_says(&stdout, &format!("{name} differs from its re-rendering"));
     }
@@ -808,8 +816,16 @@ fn each_rendered_file_edited_with_its_hash_recomputed_is_named_with_its_first_di
     let (_dir, data, out) = analysed("rendered");
     // (file, a text that finds the line, the edit within that line)
     let cases = [
-        ("dossier.md", "— stable:", ("stable", "not stable")),
-        ("dossier.html", "— stable:", ("stable", "not stable")),
+        (
+            "dossier.md",
+            "**Stability:** stable:",
+            ("stable", "not stable"),
+        ),
+        (
+            "dossier.html",
+            "<strong>Stability:</strong> stable:",
+            ("stable", "not stable"),
+        ),
         ("trace.csv", ",true,", (",true,", ",false,")),
         ("stability.csv", "kiln_peak_temp,", (",0.8,", ",0.9,")),
     ];
@@ -971,7 +987,12 @@ fn a_dossier_recording_another_build_verifies_and_an_edit_still_fails_with_a_hin
     let stdout = verified(&out, &data, &[]);
     assert_says(&stdout, "another build (dossier: forebear");
     assert_says(&stdout, "commit 0123456789ab");
-    forge_text(&out, "dossier.md", "— stable:", "— not stable:");
+    forge_text(
+        &out,
+        "dossier.md",
+        "**Stability:** stable:",
+        "**Stability:** not stable:",
+    );
     let stdout = mismatched(&out, &data, &[]);
     assert_says(&stdout, "dossier.md differs from its re-rendering");
     assert_says(

@@ -4,6 +4,7 @@
 //! closing line and the command's result.
 
 use super::drift::compare;
+use super::index::Dated;
 use super::output::{collect, read_summary, write_index};
 use super::plan::{Plan, Shard};
 use super::run::{run_pairs, summary};
@@ -76,6 +77,11 @@ pub fn execute(
     };
     let claim = Claim::take(&request.out, Kind::Batch, request.force, progress)?;
     let staging = Staging::new(claim)?;
+    let started = crate::timefmt::now_rfc3339();
+    let dated = match request.collect.is_empty() {
+        true => Dated::run(&started),
+        false => Dated::collection(&started),
+    };
     let (tool, studies) = if request.collect.is_empty() {
         let pairs = plan
             .pairs()
@@ -111,7 +117,7 @@ pub fn execute(
         .as_ref()
         .map(|(p, sha)| compare(p, sha, &draft, request.drift_threshold));
     let result = summary(plan, shard, tool, draft.studies, drift);
-    write_index(staging.path(), &result)?;
+    write_index(staging.path(), &result, &dated)?;
     let kept = staging.finish()?;
     crate::dossier::say_kept(kept.as_deref(), progress);
     crate::trail::append(&trail_record(request, &result, kept), &request.operator)?;

@@ -96,7 +96,7 @@ pub(crate) fn row(
         parent_sets: if failed {
             String::new()
         } else {
-            sets(&e.parent_sets)
+            parents_or_candidates(e.outcome.as_deref(), &e.parent_sets)
         },
         stability: e.stability.as_ref().map(|s| format!("{:.2}", s.headline)),
         stable: e.stability.as_ref().is_some_and(|s| s.headline_stable),
@@ -141,6 +141,54 @@ pub(crate) fn row(
     }
 }
 
+/// The "parents or candidates" cell: the parent set when identified; the candidates when not
+/// identifiable (the data cannot orient them, so they are not shown as parents); the groups in
+/// conflict; else none.
+pub(crate) fn parents_or_candidates(outcome: Option<&str>, parent_sets: &[Vec<String>]) -> String {
+    match outcome {
+        Some("identified") => sets(parent_sets),
+        Some("not_identifiable") if !parent_sets.is_empty() => {
+            let names: Vec<String> = parent_sets
+                .iter()
+                .flatten()
+                .map(|n| crate::text::list_item(n))
+                .collect();
+            format!("candidates (cause or effect): {}", names.join(", "))
+        }
+        Some("conflict") => format!("none claimed; groups in conflict: {}", sets(parent_sets)),
+        _ => "none".into(),
+    }
+}
+
+/// When a page was made, as its first lines say. Only the pages carry it: `summary.json` holds
+/// no time (its SHA-256 identifies a run for drift, and collected shards reproduce it byte for
+/// byte), so the date never enters what is compared.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Dated {
+    /// What the time is: "Run started (UTC)", "Shards collected (UTC)".
+    pub label: String,
+    /// The time, UTC, RFC 3339.
+    pub utc: String,
+}
+
+impl Dated {
+    /// A run that started at `utc`.
+    pub fn run(utc: &str) -> Dated {
+        Dated {
+            label: "Run started (UTC)".into(),
+            utc: utc.into(),
+        }
+    }
+
+    /// Shard outputs collected at `utc`.
+    pub fn collection(utc: &str) -> Dated {
+        Dated {
+            label: "Shards collected (UTC)".into(),
+            utc: utc.into(),
+        }
+    }
+}
+
 /// A path segment percent-encoded (RFC 3986): everything but unreserved characters.
 fn url_segment(segment: &str) -> String {
     let mut out = String::new();
@@ -154,7 +202,7 @@ fn url_segment(segment: &str) -> String {
     out
 }
 
-fn page_context(summary: &Summary) -> Value {
+fn page_context(summary: &Summary, dated: &Dated) -> Value {
     let drift = summary.drift.as_ref();
     let pairs_changed = drift.map_or(0, |d| {
         d.changes
@@ -177,24 +225,26 @@ fn page_context(summary: &Summary) -> Value {
         pairs_changed => pairs_changed,
         vanished => Value::from(Serde(&vanished)),
         rows => Value::from(Serde(rows(summary))),
+        dated_label => dated.label.clone(),
+        dated_utc => dated.utc.clone(),
     }
 }
 
 /// `index.md`.
-pub fn render_markdown(summary: &Summary) -> Result<String> {
+pub fn render_markdown(summary: &Summary, dated: &Dated) -> Result<String> {
     let mut env = Environment::new();
     crate::report::markdown::markdown_environment(&mut env);
-    let text = render(env, "batch-index.md", MARKDOWN_TEMPLATE, summary)?;
+    let text = render(env, "batch-index.md", MARKDOWN_TEMPLATE, summary, dated)?;
     Ok(format!("{}\n", text.trim_end()))
 }
 
 /// `index.html`.
-pub fn render_html(summary: &Summary) -> Result<String> {
+pub fn render_html(summary: &Summary, dated: &Dated) -> Result<String> {
     let mut env = Environment::new();
     crate::report::markdown::template_syntax(&mut env);
     env.add_global("css", Value::from_safe_string(CSS.to_string()));
     env.add_global("csp", CONTENT_SECURITY_POLICY);
-    render(env, "batch-index.html", HTML_TEMPLATE, summary)
+    render(env, "batch-index.html", HTML_TEMPLATE, summary, dated)
 }
 
 fn render(
@@ -202,8 +252,9 @@ fn render(
     name: &'static str,
     template: &'static str,
     summary: &Summary,
+    dated: &Dated,
 ) -> Result<String> {
-    render_page(env, name, template, page_context(summary))
+    render_page(env, name, template, page_context(summary, dated))
 }
 
 pub(crate) fn render_page(
@@ -222,6 +273,25 @@ pub(crate) fn render_page(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn candidates_are_not_shown_as_parents() {
+        let two = vec![vec!["a".to_string()], vec!["b".to_string()]];
+        assert_eq!(
+            parents_or_candidates(Some("not_identifiable"), &two),
+            "candidates (cause or effect): a, b"
+        );
+        assert_eq!(
+            parents_or_candidates(Some("identified"), &[vec!["a".into(), "b".into()]]),
+            "{a, b}"
+        );
+        assert_eq!(
+            parents_or_candidates(Some("conflict"), &two),
+            "none claimed; groups in conflict: {a} or {b}"
+        );
+        assert_eq!(parents_or_candidates(Some("not_identifiable"), &[]), "none");
+        assert_eq!(parents_or_candidates(Some("empty_boundary"), &[]), "none");
+    }
 
     #[test]
     fn link_segments_are_percent_encoded() {

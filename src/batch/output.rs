@@ -46,11 +46,11 @@ pub fn read_summary(dir: &Path, flag: &str) -> Result<(Summary, String)> {
     Ok((summary, sha256_text(&text)))
 }
 
-/// Writes `index.md`, `index.html` and, last, `summary.json` into `dir`.
-pub fn write_index(dir: &Path, summary: &Summary) -> Result<()> {
+/// Writes `index.md`, `index.html` (dated) and, last, `summary.json` (undated) into `dir`.
+pub fn write_index(dir: &Path, summary: &Summary, dated: &super::index::Dated) -> Result<()> {
     let files = [
-        ("index.md", super::index::render_markdown(summary)?),
-        ("index.html", super::index::render_html(summary)?),
+        ("index.md", super::index::render_markdown(summary, dated)?),
+        ("index.html", super::index::render_html(summary, dated)?),
         (SUMMARY_FILE, summary.to_text()),
     ];
     for (name, text) in files {

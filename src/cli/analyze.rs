@@ -7,7 +7,7 @@ use crate::measure::Scaling;
 use crate::resample::PlanKind;
 use crate::search::StoppingRule;
 use crate::settings::{
-    Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA, DEFAULT_PERMUTATIONS,
+    DocumentControl, Key, SettingsInput, Sources, StudyFile, DEFAULT_ALPHA, DEFAULT_PERMUTATIONS,
     DEFAULT_REPLICATES, DEFAULT_SEED, DEFAULT_SELECTION_ALPHA, DEFAULT_STABILITY_THRESHOLD,
 };
 use crate::targets::output::{write_targets, TargetsRequest};
@@ -90,6 +90,22 @@ pub struct AnalyzeArgs {
     /// How the file is read.
     #[command(flatten)]
     pub reader: super::reader::ReaderArgs,
+    /// Document control: the dossier's title (or `title` in the study file's [document]).
+    /// Printed on the first page and in the running header; not part of the result digest.
+    #[arg(long, value_name = "TEXT", help_heading = "Document control")]
+    pub title: Option<String>,
+    /// Document control: the document or protocol identifier (`id` in [document]).
+    #[arg(long, value_name = "TEXT", help_heading = "Document control")]
+    pub document_id: Option<String>,
+    /// Document control: what the analysis is for (`purpose` in [document]).
+    #[arg(long, value_name = "TEXT", help_heading = "Document control")]
+    pub purpose: Option<String>,
+    /// Document control: the document's version (`version` in [document]).
+    #[arg(long, value_name = "TEXT", help_heading = "Document control")]
+    pub document_version: Option<String>,
+    /// Document control: who prepared the dossier (`prepared_by` in [document]).
+    #[arg(long, value_name = "NAME", help_heading = "Document control")]
+    pub prepared_by: Option<String>,
     /// Replace an existing output folder that holds a previous forebear result (kept beside it as
     /// NAME.replaced-<UTC time>).
     #[arg(long)]
@@ -120,6 +136,14 @@ impl AnalyzeArgs {
             ..SettingsInput::default()
         };
         self.reader.give(&mut input, explicit);
+        let document = DocumentControl {
+            title: self.title.clone(),
+            id: self.document_id.clone(),
+            purpose: self.purpose.clone(),
+            version: self.document_version.clone(),
+            prepared_by: self.prepared_by.clone(),
+        };
+        input.document = (!document.is_empty()).then_some(document);
         input
     }
 }

@@ -3,7 +3,7 @@
 use crate::analysis::Progress;
 use crate::demo::{generate_demo_csv, write_demo_data, DEMO_TARGETS};
 use crate::error::{Error, Result};
-use crate::settings::SettingsInput;
+use crate::settings::{DocumentControl, SettingsInput};
 use clap::Args;
 use std::path::PathBuf;
 
@@ -40,10 +40,14 @@ pub fn run(args: DemoArgs, operator: &str, progress: &dyn Progress) -> Result<()
         data.display()
     ));
     for target in DEMO_TARGETS {
-        let settings = SettingsInput::for_target(target)
-            .check()
-            .map_err(Error::Settings)?;
-        let argv = vec![
+        let document = demo_document(target);
+        let settings = SettingsInput {
+            document: Some(document.clone()),
+            ..SettingsInput::for_target(target)
+        }
+        .check()
+        .map_err(Error::Settings)?;
+        let mut argv: Vec<String> = vec![
             "forebear".into(),
             "analyze".into(),
             data.display().to_string(),
@@ -52,6 +56,11 @@ pub fn run(args: DemoArgs, operator: &str, progress: &dyn Progress) -> Result<()
             "--out".into(),
             args.out.join(target).display().to_string(),
         ];
+        for key in crate::settings::document::DOCUMENT_KEYS {
+            if let Some(text) = document.field(key) {
+                argv.extend([key.flag(), text.clone()]);
+            }
+        }
         let out = args.out.join(target);
         let request = crate::dossier::DossierRequest {
             data: &data,
@@ -75,4 +84,20 @@ pub fn run(args: DemoArgs, operator: &str, progress: &dyn Progress) -> Result<()
         data.display()
     ))?;
     Ok(())
+}
+
+/// The document control of a demo dossier: what an analyst would give for a controlled document
+/// (invented, as the scenario is).
+fn demo_document(target: &str) -> DocumentControl {
+    let number = DEMO_TARGETS.iter().position(|t| *t == target).unwrap_or(0) + 1;
+    DocumentControl {
+        title: Some(format!("Demo study: direct drivers of {target}")),
+        id: Some(format!("DEMO-FD-{number:03}")),
+        purpose: Some(format!(
+            "Show on invented filter-disc firing data which measured process variables directly \
+             drive {target}, and how stable that finding is"
+        )),
+        version: Some("1.0".into()),
+        prepared_by: Some("forebear demo (invented analyst)".into()),
+    }
 }

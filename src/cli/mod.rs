@@ -42,7 +42,7 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Search the direct causes (parents) of a target column and write the dossier.
-    Analyze(analyze::AnalyzeArgs),
+    Analyze(Box<analyze::AnalyzeArgs>),
     /// Print the conditional dependence coefficient T_n(response, on | given).
     Dependence(dependence::DependenceArgs),
     /// Write the built-in demo data and analyse it.
@@ -138,7 +138,7 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
     };
     let operator = operator.as_str();
     match cli.command {
-        Command::Analyze(args) => analyze::run(args, explicit, argv, operator, &progress),
+        Command::Analyze(args) => analyze::run(*args, explicit, argv, operator, &progress),
         Command::Dependence(args) => dependence::run(args),
         Command::Demo(args) => demo::run(args, operator, &progress),
         Command::Batch(args) => batch::run(args, argv, operator, &progress),

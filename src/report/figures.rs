@@ -1,10 +1,12 @@
 //! Inline SVG figures of the HTML dossier. The T_n trace and the stability bars are drawn with
 //! plotters' SVG backend (no font files: its built-in text estimate is enough for SVG, where the
-//! viewer lays out the text); the mutual-membership graph is written directly as SVG.
+//! viewer lays out the text); labels are added as SVG text of our own, wrapped into lines
+//! (`svg_text`). The mutual-membership graph is in `graph.rs`.
 //!
 //! Colours are from the Okabe–Ito palette, which stays distinguishable under the common forms of
 //! colour blindness; every series also differs in shape or position, not colour alone.
 
+use super::svg_text::{text_lines, wrap_label, Place};
 use crate::finding::Finding;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -19,26 +21,13 @@ const VERMILLION: RGBColor = RGBColor(213, 94, 0);
 const GREY: RGBColor = RGBColor(90, 90, 90);
 const FONT: &str = "sans-serif";
 
-/// Longest label drawn in a figure; the tables carry the full names.
-const LABEL_CHARS: usize = 26;
-
 /// The figure for `name` (`trace`, `stability`, `graph`), or `None` when there is nothing to draw.
 pub fn figure(name: &str, finding: &Finding) -> Option<String> {
     match name {
         "trace" => trace_chart(finding),
         "stability" => stability_chart(finding),
-        "graph" => membership_graph(finding),
+        "graph" => super::graph::membership_graph(finding),
         _ => None,
-    }
-}
-
-fn short(name: &str) -> String {
-    if name.chars().count() <= LABEL_CHARS {
-        name.to_string()
-    } else {
-        let mut s: String = name.chars().take(LABEL_CHARS - 1).collect();
-        s.push('…');
-        s
     }
 }
 
@@ -72,11 +61,19 @@ fn trace_chart(finding: &Finding) -> Option<String> {
         .chain(critical.iter().map(|c| c.1));
     let (low, high) = values.fold((0.0f64, 0.0f64), |(lo, hi), v| (lo.min(v), hi.max(v)));
     let pad = ((high - low) * 0.1).max(0.05);
-    let (y0, y1) = (low - pad, high + pad);
+    // Room above the highest point for its label.
+    let (y0, y1) = (low - pad, high + 2.5 * pad);
     let last = points.len() as f64;
+    let names: Vec<String> = finding
+        .trace
+        .iter()
+        .filter(|s| !s.candidates.is_empty())
+        .map(|s| s.chosen.clone().unwrap_or_else(|| "stop".to_string()))
+        .collect();
+    let anchors: Vec<(i32, i32)>;
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (640, 300)).into_drawing_area();
+        let root = SVGBackend::with_string(&mut svg, (640, 260)).into_drawing_area();
         root.fill(&WHITE).ok()?;
         let mut chart = ChartBuilder::on(&root)
             .margin(12)
@@ -145,6 +142,10 @@ fn trace_chart(finding: &Finding) -> Option<String> {
             ))
             .ok()?;
         }
+        anchors = points
+            .iter()
+            .map(|&(x, y, _)| chart.backend_coord(&(x, y)))
+            .collect();
         let zero_label = chart.backend_coord(&(last + 0.5, 0.0));
         let zero_text = match critical.is_empty() {
             true => "0 (stop when not above)",
@@ -161,7 +162,35 @@ fn trace_chart(finding: &Finding) -> Option<String> {
         .ok()?;
         root.present().ok()?;
     }
-    Some(svg)
+    // Each point named by the column its step chose (SVG text does not wrap: one tspan a line).
+    let labels: String = anchors
+        .iter()
+        .zip(&names)
+        .map(|(&(x, y), name)| {
+            text_lines(
+                &wrap_label(name, TRACE_LABEL_WIDTH),
+                (f64::from(x), f64::from(y) - 12.0),
+                13.0,
+                Place::Above,
+                &format!(" font-size=\"11\" text-anchor=\"middle\" font-family=\"{FONT}\"{HALO}"),
+            )
+        })
+        .collect();
+    Some(insert_before_end(svg, &labels))
+}
+
+/// Characters per line of a trace point's label.
+const TRACE_LABEL_WIDTH: usize = 16;
+
+/// Characters per line of a stability row's label.
+const STABILITY_LABEL_WIDTH: usize = 26;
+
+/// `svg` with `elements` added last, inside the root element.
+fn insert_before_end(svg: String, elements: &str) -> String {
+    match svg.rfind("</svg>") {
+        Some(at) => format!("{}{elements}{}", &svg[..at], &svg[at..]),
+        None => svg,
+    }
 }
 
 /// How often each column entered the boundary and a parent set, with the threshold.
@@ -178,7 +207,14 @@ fn stability_chart(finding: &Finding) -> Option<String> {
         return None;
     }
     let n = rows.len();
-    let height = (70 + 34 * n) as u32;
+    let labels: Vec<Vec<String>> = rows
+        .iter()
+        .map(|(name, _, _)| wrap_label(name, STABILITY_LABEL_WIDTH))
+        .collect();
+    let most_lines = labels.iter().map(Vec::len).max().unwrap_or(1);
+    let row = 26.max(15 * most_lines + 4);
+    let height = (70 + row * n) as u32;
+    let anchors: Vec<(i32, i32)>;
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (640, height)).into_drawing_area();
@@ -227,19 +263,9 @@ fn stability_chart(finding: &Finding) -> Option<String> {
                 VERMILLION.stroke_width(2),
             ))
             .ok()?;
-        let label_style = (FONT, 13)
-            .into_font()
-            .color(&BLACK)
-            .pos(Pos::new(HPos::Right, VPos::Center));
-        for (i, (name, _, _)) in rows.iter().enumerate() {
-            let at = chart.backend_coord(&(0.0, (n - i) as f64 - 0.5));
-            root.draw(&Text::new(
-                short(name),
-                (at.0 - 8, at.1),
-                label_style.clone(),
-            ))
-            .ok()?;
-        }
+        anchors = (0..n)
+            .map(|i| chart.backend_coord(&(0.0, (n - i) as f64 - 0.5)))
+            .collect();
         let top = chart.backend_coord(&(st.threshold, n as f64));
         root.draw(&Text::new(
             format!("threshold {:.0} %", st.threshold * 100.0),
@@ -271,107 +297,20 @@ fn stability_chart(finding: &Finding) -> Option<String> {
         key(150, ORANGE, "in identified parent set")?;
         root.present().ok()?;
     }
-    Some(svg)
-}
-
-/// The target in the middle, the boundary members on a circle around it.
-fn membership_graph(finding: &Finding) -> Option<String> {
-    let members = &finding.markov_boundary;
-    if members.is_empty() {
-        return None;
-    }
-    let (width, height) = (640.0, 420.0);
-    let (cx, cy, radius) = (width / 2.0, height / 2.0, 150.0);
-    let position = |i: usize| -> (f64, f64) {
-        let angle = -std::f64::consts::FRAC_PI_2
-            + 2.0 * std::f64::consts::PI * i as f64 / members.len() as f64;
-        (cx + radius * angle.cos(), cy + radius * angle.sin())
-    };
-    let index = |name: &str| members.iter().position(|m| m == name);
-    let component_of = |name: &str| {
-        finding
-            .components
-            .iter()
-            .position(|c| c.members.iter().any(|m| m == name))
-    };
-    let palette = [
-        "#0072B2", "#E69F00", "#009E73", "#CC79A7", "#56B4E9", "#F0E442",
-    ];
-    let mut svg = format!(
-        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{width}\" height=\"{height}\" \
-         viewBox=\"0 0 {width} {height}\" role=\"img\" font-family=\"sans-serif\">\n\
-         <rect width=\"{width}\" height=\"{height}\" fill=\"white\"/>\n"
-    );
-    // Target to member: solid when the member's own boundary holds the target (mutual).
-    for (i, m) in members.iter().enumerate() {
-        let (x, y) = position(i);
-        let mutual = finding
-            .boundaries
-            .get(m)
-            .is_some_and(|b| b.selected.contains(&finding.target));
-        let dash = if mutual {
-            ""
-        } else {
-            " stroke-dasharray=\"5 4\""
-        };
-        svg.push_str(&format!(
-            "<line x1=\"{cx:.1}\" y1=\"{cy:.1}\" x2=\"{x:.1}\" y2=\"{y:.1}\" stroke=\"#9a9a9a\" stroke-width=\"1.5\"{dash}/>\n"
-        ));
-    }
-    // Member to member: solid for a mutual membership, dashed where the collider test joined them.
-    let mutual = super::mutual_edges(finding);
-    let collider = super::collider_edges(finding);
-    let edges = mutual
+    let names: String = anchors
         .iter()
-        .map(|e| (e, ""))
-        .chain(collider.iter().map(|e| (e, " stroke-dasharray=\"8 5\"")));
-    for ([a, b], dash) in edges {
-        let (Some(i), Some(j)) = (index(a), index(b)) else {
-            continue;
-        };
-        let ((x1, y1), (x2, y2)) = (position(i), position(j));
-        svg.push_str(&format!(
-            "<line x1=\"{x1:.1}\" y1=\"{y1:.1}\" x2=\"{x2:.1}\" y2=\"{y2:.1}\" stroke=\"#333333\" stroke-width=\"2.5\"{dash}/>\n"
-        ));
-    }
-    for (i, m) in members.iter().enumerate() {
-        let (x, y) = position(i);
-        let component = component_of(m);
-        let colour = component.map_or("#bbbbbb", |c| palette[c % palette.len()]);
-        let passes = component.is_some_and(|c| finding.components[c].passes);
-        let stroke = if passes { 4.0 } else { 1.0 };
-        let label = xml_escape(&short(m));
-        let tag = component.map_or(String::new(), |c| format!("component {}", c + 1));
-        // Labels sit on the far side of the node from the target, clear of the edges to it.
-        let (label_y, note_y) = if y < cy - 1.0 {
-            (y - 36.0, y - 22.0)
-        } else {
-            (y + 32.0, y + 46.0)
-        };
-        svg.push_str(&format!(
-            "<circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"16\" fill=\"{colour}\" stroke=\"#000000\" stroke-width=\"{stroke}\"/>\n\
-             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"13\" text-anchor=\"middle\"{HALO}>{label}</text>\n\
-             <text x=\"{x:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\"{HALO}>{}{}</text>\n",
-            label_y,
-            note_y,
-            tag,
-            if passes { ", passes" } else { "" },
-        ));
-    }
-    let target_width = (short(&finding.target).chars().count() as f64 * 8.5 + 24.0).max(110.0);
-    svg.push_str(&format!(
-        "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"{:.1}\" height=\"34\" rx=\"6\" fill=\"#f2f2f2\" stroke=\"#000000\" stroke-width=\"2\"/>\n\
-         <text x=\"{cx:.1}\" y=\"{:.1}\" font-size=\"13\" font-weight=\"bold\" text-anchor=\"middle\">{}</text>\n\
-         <text x=\"{cx:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\" fill=\"#444444\">target</text>\n",
-        cx - target_width / 2.0,
-        cy - 17.0,
-        target_width,
-        cy + 1.0,
-        xml_escape(&short(&finding.target)),
-        cy + 13.0,
-    ));
-    svg.push_str("</svg>\n");
-    Some(svg)
+        .zip(&labels)
+        .map(|(&(x, y), lines)| {
+            text_lines(
+                lines,
+                (f64::from(x) - 8.0, f64::from(y) + 4.0),
+                15.0,
+                Place::Centred,
+                &format!(" font-size=\"13\" text-anchor=\"end\" font-family=\"{FONT}\""),
+            )
+        })
+        .collect();
+    Some(insert_before_end(svg, &names))
 }
 
 /// A white outline behind labels keeps them readable where an edge passes underneath.

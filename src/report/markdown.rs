@@ -28,6 +28,16 @@ impl Renderer for Markdown {
 
 /// The dossier's Markdown text.
 pub fn render_markdown(finding: &Finding) -> Result<String> {
+    render_text(finding, false)
+}
+
+/// The dossier's Markdown text as `dossier.html` converts it: with the markers of the status box,
+/// the sign-off page and the page breaks, and without the captions' pointers to the HTML.
+pub fn render_markdown_for_html(finding: &Finding) -> Result<String> {
+    render_text(finding, true)
+}
+
+fn render_text(finding: &Finding, html: bool) -> Result<String> {
     let env = environment()?;
     let template = env.get_template("dossier.md").expect("just added");
     let reproduce = crate::reproduce::reproduce_command(finding);
@@ -35,6 +45,8 @@ pub fn render_markdown(finding: &Finding) -> Result<String> {
     template
         .render(context! {
             f => Value::from(minijinja::value::Serde(finding)),
+            html => html,
+            doc => Value::from(minijinja::value::Serde(&finding.run.document)),
             date => run_date(finding),
             // Inside a fenced code block nothing is Markdown, so the commands are printed as they
             // are; the fence outgrows any backtick run and the commands have no line breaks.

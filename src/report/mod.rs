@@ -1,9 +1,11 @@
 //! Renderers: each turns one [`Finding`] into one file. Nothing here recomputes statistics.
 
 pub mod figures;
+pub mod graph;
 pub mod html;
 pub mod json;
 pub mod markdown;
+pub mod svg_text;
 pub mod tables;
 
 use crate::error::Result;

@@ -1,5 +1,6 @@
 //! Every rule a setting must follow, written once, and the checked [`Settings`] they guard.
 
+use super::document::DocumentControl;
 use super::input::SettingsInput;
 use super::key::{Key, SettingProblem};
 use super::{
@@ -31,6 +32,7 @@ pub struct Settings {
     neighbourhood_orientation: bool,
     reader: LoadOptions,
     knowledge: Option<Knowledge>,
+    document: DocumentControl,
 }
 
 impl Settings {
@@ -92,6 +94,12 @@ impl Settings {
     /// What the analyst stated (absent when nothing is stated).
     pub fn knowledge(&self) -> Option<&Knowledge> {
         self.knowledge.as_ref()
+    }
+
+    /// Document control (every field checked; all absent when none was given). Not a setting of
+    /// the analysis: the run records it, outside the settings' hash and the result digest.
+    pub fn document(&self) -> &DocumentControl {
+        &self.document
     }
 
     /// The one target of a single-target command.
@@ -170,6 +178,11 @@ impl SettingsInput {
         for problem in knowledge.iter().flat_map(Knowledge::problems) {
             problems.push(SettingProblem::of(Key::Knowledge).text(format!(": {problem}")));
         }
+        let document = self
+            .document
+            .as_ref()
+            .map(|d| d.checked(&mut problems))
+            .unwrap_or_default();
         if !problems.is_empty() {
             return Err(problems);
         }
@@ -186,6 +199,7 @@ impl SettingsInput {
             neighbourhood_orientation: self.neighbourhood_orientation.unwrap_or(false),
             reader,
             knowledge,
+            document,
         })
     }
 

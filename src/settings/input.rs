@@ -2,6 +2,7 @@
 //! `[defaults]` and each `[[study]]` (so they take exactly the same keys), and what the command
 //! line's explicit flags fill in.
 
+use super::document::DocumentControl;
 use super::key::Key;
 use crate::data::{Delimiter, MissingPolicy};
 use crate::measure::Scaling;
@@ -54,6 +55,9 @@ pub struct SettingsInput {
     pub missing: Option<MissingPolicy>,
     /// What the analyst knows: tiers, forbidden and required edges (table `[knowledge]`).
     pub knowledge: Option<Knowledge>,
+    /// Document control (table `[document]`): metadata printed on the dossier, not a setting of
+    /// the analysis (kept out of the settings' hash and the result digest).
+    pub document: Option<DocumentControl>,
 }
 
 impl SettingsInput {
@@ -90,6 +94,10 @@ impl SettingsInput {
             missing_tokens: self.missing_tokens.or(b.missing_tokens),
             missing: self.missing.or(b.missing),
             knowledge: self.knowledge.or(b.knowledge),
+            document: match (self.document, b.document) {
+                (Some(given), Some(base)) => Some(given.over(&base)),
+                (given, base) => given.or(base),
+            },
         }
     }
 
@@ -115,6 +123,15 @@ impl SettingsInput {
             Key::MissingTokens => self.missing_tokens = None,
             Key::Missing => self.missing = None,
             Key::Knowledge => self.knowledge = None,
+            Key::Title
+            | Key::DocumentId
+            | Key::Purpose
+            | Key::DocumentVersion
+            | Key::PreparedBy => {
+                if let Some(slot) = self.document.as_mut().and_then(|d| d.slot(key)) {
+                    *slot = None;
+                }
+            }
         }
         self
     }
@@ -141,6 +158,14 @@ impl SettingsInput {
             Key::MissingTokens => self.missing_tokens.is_some(),
             Key::Missing => self.missing.is_some(),
             Key::Knowledge => self.knowledge.is_some(),
+            Key::Title
+            | Key::DocumentId
+            | Key::Purpose
+            | Key::DocumentVersion
+            | Key::PreparedBy => self
+                .document
+                .as_ref()
+                .is_some_and(|d| d.field(key).is_some()),
         }
     }
 }

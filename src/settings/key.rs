@@ -41,11 +41,21 @@ pub enum Key {
     Missing,
     /// Background knowledge: tiers, forbidden and required edges (a table; no flag).
     Knowledge,
+    /// Document control: the title (`[document]` `title`).
+    Title,
+    /// Document control: the document or protocol identifier.
+    DocumentId,
+    /// Document control: what the analysis is for.
+    Purpose,
+    /// Document control: the document's version.
+    DocumentVersion,
+    /// Document control: who prepared it.
+    PreparedBy,
 }
 
 impl Key {
     /// Every key, in the order a study file documents them.
-    pub const ALL: [Key; 19] = [
+    pub const ALL: [Key; 24] = [
         Key::Targets,
         Key::Exclude,
         Key::Candidates,
@@ -65,6 +75,11 @@ impl Key {
         Key::MissingTokens,
         Key::Missing,
         Key::Knowledge,
+        Key::Title,
+        Key::DocumentId,
+        Key::Purpose,
+        Key::DocumentVersion,
+        Key::PreparedBy,
     ];
 
     /// The key in a study file or plan table.
@@ -89,6 +104,11 @@ impl Key {
             Key::MissingTokens => "missing_tokens",
             Key::Missing => "missing",
             Key::Knowledge => "knowledge",
+            Key::Title => "document.title",
+            Key::DocumentId => "document.id",
+            Key::Purpose => "document.purpose",
+            Key::DocumentVersion => "document.version",
+            Key::PreparedBy => "document.prepared_by",
         }
     }
 
@@ -101,6 +121,11 @@ impl Key {
     pub fn arg_id(self) -> &'static str {
         match self {
             Key::Targets => "target",
+            Key::Title => "title",
+            Key::DocumentId => "document_id",
+            Key::Purpose => "purpose",
+            Key::DocumentVersion => "document_version",
+            Key::PreparedBy => "prepared_by",
             other => other.name(),
         }
     }
@@ -232,6 +257,8 @@ mod tests {
         assert_eq!(names.len(), Key::ALL.len());
         assert_eq!(Key::StabilityThreshold.flag(), "--stability-threshold");
         assert_eq!(Key::Targets.flag(), "--target");
+        assert_eq!(Key::DocumentId.flag(), "--document-id");
+        assert_eq!(Key::PreparedBy.name(), "document.prepared_by");
     }
 
     #[test]

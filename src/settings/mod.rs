@@ -9,12 +9,14 @@
 //! flag, a TOML file as the key at its line and column ([`toml_table`]).
 
 mod check;
+pub mod document;
 mod input;
 pub mod key;
 pub mod study_file;
 pub mod toml_table;
 
 pub use check::Settings;
+pub use document::DocumentControl;
 pub use input::SettingsInput;
 pub use key::{render_flags, Key, Naming, SettingProblem};
 pub use study_file::{Sources, StudyFile, StudyFileRecord};

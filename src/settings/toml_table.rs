@@ -48,6 +48,10 @@ impl SettingsTable {
             if other_keys.contains(&name) {
                 continue;
             }
+            if name == DOCUMENT_TABLE {
+                read.read_document(value, other_keys, place, problems);
+                continue;
+            }
             let Some(setting) = Key::named(name) else {
                 problems.push(Placed {
                     span: Some(key.span()),
@@ -77,6 +81,61 @@ impl SettingsTable {
         read
     }
 
+    /// The table `[document]`: each key its own setting (`document.title`, …), placed at its own
+    /// line, so that a flag can override one field and a problem points at the field at fault.
+    fn read_document(
+        &mut self,
+        value: &Spanned<DeValue<'_>>,
+        other_keys: &[&str],
+        place: &str,
+        problems: &mut Vec<Placed>,
+    ) {
+        let DeValue::Table(fields) = value.get_ref() else {
+            problems.push(Placed {
+                span: Some(value.span()),
+                message: in_place(
+                    place,
+                    "document must be a table: [document] with the keys title, id, purpose, \
+                     version and prepared_by",
+                ),
+            });
+            return;
+        };
+        for (field, field_value) in fields.iter() {
+            let full = format!("{DOCUMENT_TABLE}.{}", field.get_ref());
+            let Some(setting) = Key::named(&full) else {
+                problems.push(Placed {
+                    span: Some(field.span()),
+                    message: unknown_key(&full, other_keys, place),
+                });
+                continue;
+            };
+            let mut inner = DeTable::new();
+            inner.insert(field.clone(), field_value.clone());
+            let mut one = DeTable::new();
+            one.insert(
+                Spanned::new(field.span(), DOCUMENT_TABLE.into()),
+                Spanned::new(value.span(), DeValue::Table(inner)),
+            );
+            let spanned = Spanned::new(value.span(), DeValue::Table(one));
+            match SettingsInput::deserialize(ValueDeserializer::from(spanned)) {
+                Ok(given) => {
+                    self.input = given.over(&self.input);
+                    self.spans.insert(setting, field.span());
+                    strings_in(field_value, &mut |text, span| {
+                        self.value_spans
+                            .entry((setting, text.to_string()))
+                            .or_insert(span);
+                    });
+                }
+                Err(e) => problems.push(Placed {
+                    span: Some(field_value.span()),
+                    message: in_place(place, &format!("{full}: {}", bounded(e.message()))),
+                }),
+            }
+        }
+    }
+
     /// A problem of the settings placed at its key (or at `fallback` when the key is not in this
     /// table), named as a study file or plan names it.
     pub fn place(
@@ -98,6 +157,9 @@ impl SettingsTable {
         }
     }
 }
+
+/// The table of document control in a study file or plan table.
+const DOCUMENT_TABLE: &str = "document";
 
 /// Calls `found` with every string inside `value` (arrays and tables, at any depth) and its span.
 fn strings_in(value: &Spanned<DeValue<'_>>, found: &mut impl FnMut(&str, Range<usize>)) {
@@ -204,6 +266,31 @@ mod tests {
         );
         assert_eq!(table.input.replicates, Some(10));
         assert_eq!(table.spans.len(), 1);
+    }
+
+    #[test]
+    fn the_document_table_reads_field_by_field_and_places_each() {
+        let (table, problems) =
+            read("name = \"x\"\n[document]\ntitle = \"Kiln study\"\nauthor = \"A\"\nversion = 2\n");
+        assert_eq!(problems.len(), 2, "{problems:#?}");
+        assert!(
+            problems[0].starts_with("study.toml:4:1: unknown key 'document.author'"),
+            "{}",
+            problems[0]
+        );
+        assert!(
+            problems[1].starts_with("study.toml:5:11: study.toml: document.version:"),
+            "{}",
+            problems[1]
+        );
+        let document = table.input.document.unwrap();
+        assert_eq!(document.title.as_deref(), Some("Kiln study"));
+        assert_eq!(table.spans.keys().collect::<Vec<_>>(), [&Key::Title]);
+        let (_, problems) = read("document = \"Kiln\"\n");
+        assert!(
+            problems[0].contains("document must be a table"),
+            "{problems:?}"
+        );
     }
 
     #[test]

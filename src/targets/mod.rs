@@ -80,7 +80,8 @@ pub fn prepare_targets(
             checked,
             options,
             &said,
-        )?;
+        )?
+        .with_document(settings);
         match prepared.iter().find(|p| *p.table == *one.table) {
             Some(same) => one.table = Arc::clone(&same.table),
             None => said.repeat(progress),

@@ -4,6 +4,7 @@
 
 use super::{analyze_targets, TargetChoice};
 use crate::analysis::{Progress, Silent};
+use crate::batch::index::Dated;
 use crate::batch::run::entry_of;
 use crate::batch::{Entry, Totals, SUMMARY_FILE};
 use crate::error::{Error, Result};
@@ -114,7 +115,14 @@ pub fn write_targets(
         findings.push(one.finding);
     }
     let summary = summarise(request.data, entries);
-    write_summary(staging.path(), &summary)?;
+    let started = findings
+        .first()
+        .map_or_else(crate::timefmt::now_rfc3339, |f| f.run.started_utc.clone());
+    write_summary(
+        staging.path(),
+        &summary,
+        &crate::batch::index::Dated::run(&started),
+    )?;
     let kept = staging.finish()?;
     progress.say(&format!(
         "wrote {}/ ({} dossiers, one folder per target, and summary.md, summary.html, summary.json)",
@@ -169,14 +177,14 @@ fn summarise(data: &Path, targets: BTreeMap<String, Entry>) -> TargetsSummary {
     }
 }
 
-/// Writes `summary.json`, `summary.md` and `summary.html` into `dir`.
-pub fn write_summary(dir: &Path, summary: &TargetsSummary) -> Result<()> {
+/// Writes `summary.json` (undated), `summary.md` and `summary.html` (dated) into `dir`.
+pub fn write_summary(dir: &Path, summary: &TargetsSummary, dated: &Dated) -> Result<()> {
     let json = serde_json::to_string_pretty(summary)
         .map_err(|e| Error::internal(format!("study summary: {e}")))?;
     let files = [
         (SUMMARY_FILE, json + "\n"),
-        ("summary.md", render_markdown(summary)?),
-        ("summary.html", render_html(summary)?),
+        ("summary.md", render_markdown(summary, dated)?),
+        ("summary.html", render_html(summary, dated)?),
     ];
     for (name, text) in files {
         let path = dir.join(name);
@@ -197,7 +205,7 @@ const TARGETS_MARKDOWN_TEMPLATE: &str = include_str!("../../templates/targets-su
 const TARGETS_HTML_TEMPLATE: &str = include_str!("../../templates/targets-summary.html");
 
 /// The page of a study summary of several targets: the batch index's rows, one per target.
-fn targets_context(summary: &TargetsSummary) -> Value {
+fn targets_context(summary: &TargetsSummary, dated: &Dated) -> Value {
     let rows: Vec<crate::batch::index::Row> = summary
         .targets
         .iter()
@@ -208,24 +216,26 @@ fn targets_context(summary: &TargetsSummary) -> Value {
         tool => summary.tool.describe(),
         totals => Value::from(Serde(&summary.totals)),
         rows => Value::from(Serde(rows)),
+        dated_label => dated.label.clone(),
+        dated_utc => dated.utc.clone(),
     }
 }
 
 /// `summary.md` of several targets analysed in one run.
-pub fn render_markdown(summary: &TargetsSummary) -> Result<String> {
+pub fn render_markdown(summary: &TargetsSummary, dated: &Dated) -> Result<String> {
     let mut env = Environment::new();
     crate::report::markdown::markdown_environment(&mut env);
     let text = crate::batch::index::render_page(
         env,
         "targets-summary.md",
         TARGETS_MARKDOWN_TEMPLATE,
-        targets_context(summary),
+        targets_context(summary, dated),
     )?;
     Ok(format!("{}\n", text.trim_end()))
 }
 
 /// `summary.html` of several targets analysed in one run.
-pub fn render_html(summary: &TargetsSummary) -> Result<String> {
+pub fn render_html(summary: &TargetsSummary, dated: &Dated) -> Result<String> {
     let mut env = Environment::new();
     crate::report::markdown::template_syntax(&mut env);
     env.add_global(
@@ -237,6 +247,6 @@ pub fn render_html(summary: &TargetsSummary) -> Result<String> {
         env,
         "targets-summary.html",
         TARGETS_HTML_TEMPLATE,
-        targets_context(summary),
+        targets_context(summary, dated),
     )
 }

@@ -17,7 +17,7 @@ use serde::Serialize;
 use std::path::Path;
 
 /// Fields of `result.json` always taken from the record.
-pub(super) const RECORDED_FACTS: [&str; 10] = [
+pub(super) const RECORDED_FACTS: [&str; 11] = [
     "/run/started_utc",
     "/run/duration_seconds",
     "/run/threads",
@@ -25,6 +25,7 @@ pub(super) const RECORDED_FACTS: [&str; 10] = [
     "/run/command_line",
     "/run/study_file",
     "/run/operator",
+    "/run/document",
     "/tool/version",
     "/tool/build",
     "/data/file",
@@ -279,6 +280,7 @@ mod tests {
                 sha256: String::new(),
             }),
             operator: String::new(),
+            document: Some(crate::settings::DocumentControl::default()),
         };
         let tree = serde_json::to_value(run).unwrap();
         for key in tree.as_object().unwrap().keys() {
