@@ -112,7 +112,12 @@ fn record_context(record: &Record) -> Value {
         duration => format!("{:.1}", record.duration_seconds),
         operator => record.operator.name.clone(),
         operator_from => record.operator.from.clone(),
-        command_line => record.command_line.join(" "),
+        command_line => record
+            .command_line
+            .iter()
+            .map(|a| crate::reproduce::shell_quote(a))
+            .collect::<Vec<_>>()
+            .join(" "),
         groups => Value::from(Serde(groups(record))),
         seal => Value::from_safe_string(record.seal.clone()),
         structure_group => Group::Structure.title(),
