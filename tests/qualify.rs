@@ -7,6 +7,20 @@ use crate::common::{run, sha256_hex, stderr_of, Scratch};
 use serde_json::Value;
 use std::path::Path;
 
+/// `forebear qualify --out OUT EXTRA...`.
+fn qualify(out: &Path, extra: &[&str]) -> std::process::Output {
+    let mut args = vec!["qualify", "--out", out.to_str().unwrap()];
+    args.extend_from_slice(extra);
+    run(args)
+}
+
+/// `forebear qualify --out OUT EXTRA...`, which must succeed.
+fn qualify_ok(out: &Path, extra: &[&str]) -> std::process::Output {
+    let output = qualify(out, extra);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
+    output
+}
+
 fn record(dir: &Path) -> Value {
     serde_json::from_str(&std::fs::read_to_string(dir.join("qualification.json")).unwrap())
         .expect("qualification.json is JSON")
@@ -25,14 +39,7 @@ fn recomputed_seal(record: &Value) -> String {
 fn every_reference_case_passes_and_the_three_files_agree_with_a_seal_that_recomputes() {
     let s = Scratch::new("qualify-all");
     let out = s.path("record");
-    let output = run([
-        "qualify",
-        "--out",
-        out.to_str().unwrap(),
-        "--operator",
-        "QA runner",
-    ]);
-    assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
+    let output = qualify_ok(&out, &["--operator", "QA runner"]);
     let mut files: Vec<String> = std::fs::read_dir(&out)
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
@@ -119,14 +126,7 @@ fn every_reference_case_passes_and_the_three_files_agree_with_a_seal_that_recomp
 fn an_edit_of_the_record_no_longer_matches_its_seal() {
     let s = Scratch::new("qualify-edit");
     let out = s.path("record");
-    let output = run([
-        "qualify",
-        "--out",
-        out.to_str().unwrap(),
-        "--case",
-        "neighbours.tie-break-duplicates",
-    ]);
-    assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
+    qualify_ok(&out, &["--case", "neighbours.tie-break-duplicates"]);
     let mut json = record(&out);
     assert_eq!(json["seal"].as_str().unwrap(), recomputed_seal(&json));
     json["cases"][0]["passed"] = Value::Bool(false);
@@ -137,16 +137,15 @@ fn an_edit_of_the_record_no_longer_matches_its_seal() {
 fn a_chosen_case_gives_a_record_that_says_it_is_partial() {
     let s = Scratch::new("qualify-partial");
     let out = s.path("record");
-    let output = run([
-        "qualify",
-        "--out",
-        out.to_str().unwrap(),
-        "--case",
-        "t-n.monotone-invariance",
-        "--case",
-        "xi.scipy.binary_y_n20",
-    ]);
-    assert_eq!(output.status.code(), Some(0), "{}", stderr_of(&output));
+    qualify_ok(
+        &out,
+        &[
+            "--case",
+            "t-n.monotone-invariance",
+            "--case",
+            "xi.scipy.binary_y_n20",
+        ],
+    );
     let json = record(&out);
     assert_eq!(json["summary"]["cases"], 2);
     assert_eq!(
@@ -163,13 +162,7 @@ fn a_chosen_case_gives_a_record_that_says_it_is_partial() {
 fn an_unknown_case_is_refused_before_anything_is_written() {
     let s = Scratch::new("qualify-unknown");
     let out = s.path("record");
-    let output = run([
-        "qualify",
-        "--out",
-        out.to_str().unwrap(),
-        "--case",
-        "t-n.modular-sums",
-    ]);
+    let output = qualify(&out, &["--case", "t-n.modular-sums"]);
     assert_eq!(output.status.code(), Some(2));
     let stderr = stderr_of(&output);
     assert!(
@@ -184,30 +177,30 @@ fn an_unknown_case_is_refused_before_anything_is_written() {
 fn a_former_record_is_replaced_only_with_force_and_a_foreign_folder_never() {
     let s = Scratch::new("qualify-force");
     let out = s.path("record");
-    let args = |force: bool| {
-        let mut a = vec![
-            "qualify",
-            "--out",
-            out.to_str().unwrap(),
-            "--case",
-            "neighbours.scan-fallback",
-        ];
-        if force {
-            a.push("--force");
-        }
-        a.into_iter().map(String::from).collect::<Vec<_>>()
-    };
-    assert_eq!(run(args(false)).status.code(), Some(0));
-    let refused = run(args(false));
+    let case = ["--case", "neighbours.scan-fallback"];
+    let forced = ["--case", "neighbours.scan-fallback", "--force"];
+    qualify_ok(&out, &case);
+    let refused = qualify(&out, &case);
     assert_eq!(refused.status.code(), Some(2));
     assert!(
         stderr_of(&refused).contains("already holds a forebear qualification record"),
         "{}",
         stderr_of(&refused)
     );
-    assert_eq!(run(args(true)).status.code(), Some(0));
+    qualify_ok(&out, &forced);
+    // The replaced record is kept beside the new one under a dated name, and the trail says so.
+    let kept: Vec<String> = s
+        .entries()
+        .into_iter()
+        .filter(|n| n.starts_with("record.replaced-"))
+        .collect();
+    assert_eq!(kept.len(), 1, "{:?}", s.entries());
+    assert!(s.path(&kept[0]).join("qualification.json").exists());
+    let trail = std::fs::read_to_string(s.path("forebear-trail.jsonl")).unwrap();
+    let last: Value = serde_json::from_str(trail.lines().last().unwrap()).unwrap();
+    assert_eq!(last["facts"]["replaced_output_kept_as"], kept[0].as_str());
     std::fs::write(out.join("notes.txt"), "mine").unwrap();
-    let foreign = run(args(true));
+    let foreign = qualify(&out, &forced);
     assert_eq!(foreign.status.code(), Some(2));
     assert!(
         stderr_of(&foreign).contains("'notes.txt'"),

@@ -94,32 +94,9 @@ pub struct Summary {
     pub verdict: String,
 }
 
-/// The facts of the run that are not case results.
-#[derive(Clone, Debug, PartialEq)]
-pub struct RunFacts {
-    /// The build.
-    pub tool: ToolInfo,
-    /// The machine.
-    pub platform: Platform,
-    /// When the run started (UTC, RFC 3339).
-    pub started_utc: String,
-    /// Wall time of the whole run in seconds.
-    pub duration_seconds: f64,
-    /// Who ran it.
-    pub operator: Operator,
-    /// The command line as typed.
-    pub command_line: Vec<String>,
-    /// Cases in the catalogue.
-    pub catalogue: usize,
-}
-
-/// The qualification record (`qualification.json`).
+/// The facts of the run that are not case results (members of the record itself).
 #[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema)]
-pub struct Record {
-    /// Layout version.
-    pub schema: String,
-    /// The summary, verdict included.
-    pub summary: Summary,
+pub struct RunFacts {
     /// The build that ran the cases, with its method version.
     pub tool: ToolInfo,
     /// The machine.
@@ -132,6 +109,21 @@ pub struct Record {
     pub operator: Operator,
     /// The command line as typed.
     pub command_line: Vec<String>,
+    /// Cases in the catalogue (recorded in the summary).
+    #[serde(skip)]
+    pub catalogue: usize,
+}
+
+/// The qualification record (`qualification.json`).
+#[derive(Clone, Debug, PartialEq, Serialize, schemars::JsonSchema)]
+pub struct Record {
+    /// Layout version.
+    pub schema: String,
+    /// The summary, verdict included.
+    pub summary: Summary,
+    /// The build (with its method version), the machine, the time, the operator and the command.
+    #[serde(flatten)]
+    pub run: RunFacts,
     /// Every case run, in catalogue order.
     pub cases: Vec<CaseResult>,
     /// SHA-256 of the canonical JSON of this record without the seal, as `manifest.json`'s seal.
@@ -157,12 +149,10 @@ impl Record {
                 }
                 .into(),
             },
-            tool: facts.tool,
-            platform: facts.platform,
-            started_utc: facts.started_utc,
-            duration_seconds: (facts.duration_seconds * 1000.0).round() / 1000.0,
-            operator: facts.operator,
-            command_line: facts.command_line,
+            run: RunFacts {
+                duration_seconds: (facts.duration_seconds * 1000.0).round() / 1000.0,
+                ..facts
+            },
             cases: results,
             seal: String::new(),
         };

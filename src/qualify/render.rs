@@ -103,16 +103,17 @@ fn record_context(record: &Record) -> Value {
         passed => record.passed(),
         complete => record.complete(),
         failed_ids => failed,
-        tool => record.tool.describe(),
-        version => record.tool.version.clone(),
-        build => if record.tool.build.is_empty() { "not built from a checkout".to_string() } else { record.tool.build.clone() },
-        method => record.tool.method.clone(),
-        platform => Value::from(Serde(&record.platform)),
-        started_utc => record.started_utc.clone(),
-        duration => format!("{:.1}", record.duration_seconds),
-        operator => record.operator.name.clone(),
-        operator_from => record.operator.from.clone(),
+        tool => record.run.tool.describe(),
+        version => record.run.tool.version.clone(),
+        build => if record.run.tool.build.is_empty() { "not built from a checkout".to_string() } else { record.run.tool.build.clone() },
+        method => record.run.tool.method.clone(),
+        platform => Value::from(Serde(&record.run.platform)),
+        started_utc => record.run.started_utc.clone(),
+        duration => format!("{:.1}", record.run.duration_seconds),
+        operator => record.run.operator.name.clone(),
+        operator_from => record.run.operator.from.clone(),
         command_line => record
+            .run
             .command_line
             .iter()
             .map(|a| crate::reproduce::shell_quote(a))
@@ -192,7 +193,7 @@ mod tests {
     #[test]
     fn user_text_is_escaped_in_html() {
         let mut record = Record::new(vec![result("a", 0.5)], facts(1));
-        record.operator.name = Some("<script>x</script>".into());
+        record.run.operator.name = Some("<script>x</script>".into());
         let html = render_html(&record).unwrap();
         assert!(!html.contains("<script>x"), "{html}");
         assert!(html.contains("&lt;script&gt;"));

@@ -70,7 +70,7 @@ pub fn qualify(request: &Request<'_>, progress: &dyn Progress) -> Result<Record>
             crate::trail::kept_name(&kept),
         );
     }
-    let operator = record.operator.name.as_deref().unwrap_or("unknown");
+    let operator = record.run.operator.name.as_deref().unwrap_or("unknown");
     crate::trail::append(
         &crate::trail::Record {
             action: "qualify",
