@@ -24,6 +24,21 @@ use std::time::Instant;
 pub trait Progress: Sync {
     /// One line of progress.
     fn say(&self, message: &str);
+
+    /// `done` of `total` units of counted work (`replicates`, `targets`, `pairs`) are finished;
+    /// called once per unit, from any thread. By default a line at every tenth and at the end.
+    fn advance(&self, what: &str, done: u64, total: u64) {
+        if is_progress_step(done, total) {
+            self.say(&format!("{what} done: {done}/{total}"));
+        }
+    }
+}
+
+/// Whether `done` of `total` is one of the steps a line of progress is written at: every tenth
+/// of the work (every unit when there are fewer than ten) and the last.
+pub fn is_progress_step(done: u64, total: u64) -> bool {
+    let step = (total / 10).max(1);
+    done.is_multiple_of(step) || done == total
 }
 
 /// Progress that is not shown.
@@ -257,17 +272,14 @@ impl Prepared {
         progress: &dyn Progress,
     ) -> Vec<ReplicateRecord> {
         let done = AtomicU32::new(0);
-        let total = indices.len() as u32;
-        let step = (total / 10).max(1);
+        let total = indices.len() as u64;
         indices
             .par_iter()
             .map(|&k| {
                 let record =
                     run_replicate(&self.table, &self.study, k, &full.markov_boundary.steps);
                 let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
-                if finished.is_multiple_of(step) || finished == total {
-                    progress.say(&format!("replicates done: {finished}/{total}"));
-                }
+                progress.advance("replicates", u64::from(finished), total);
                 record
             })
             .collect()

@@ -27,6 +27,9 @@ fn main() {
         Ok(parsed) => parsed,
         Err(error) => usage_error(error),
     };
+    // The binary, not the library, owns the process's signals: SIGINT, SIGTERM and SIGHUP remove
+    // this run's staging folders and locks and exit with 128 + the signal's number.
+    forebear::output::cleanup::install_signal_handler();
     let outcome = std::panic::catch_unwind(move || forebear::cli::run(cli, &explicit, argv));
     match outcome {
         Ok(Ok(())) => {}

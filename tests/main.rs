@@ -15,6 +15,7 @@ mod batch;
 mod canonical_json;
 mod cli_input;
 mod coefficient_reference;
+mod conventions;
 mod dependence_pvalue;
 mod determinism;
 mod document_control;

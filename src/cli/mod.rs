@@ -2,18 +2,20 @@
 
 pub mod analyze;
 pub mod batch;
+pub mod completions;
 pub mod demo;
 pub mod dependence;
+pub mod examples;
 pub mod fingerprint;
 pub mod merge;
 pub mod out;
+pub mod progress;
 pub mod qualify;
 pub mod reader;
 pub mod sign;
 pub mod trail;
 pub mod verify;
 
-use crate::analysis::Progress;
 use crate::settings::Key;
 use clap::parser::ValueSource;
 use clap::{CommandFactory, FromArgMatches, Parser, Subcommand};
@@ -62,21 +64,13 @@ pub enum Command {
     Trail(trail::TrailArgs),
     /// Run the built-in reference cases on this installation and write a qualification record.
     Qualify(qualify::QualifyArgs),
+    /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
+    Completions(completions::CompletionsArgs),
+    /// Print the manual page forebear(1), or a subcommand's, in roff.
+    Man(completions::ManArgs),
 }
 
-/// Progress on stderr, unless `--quiet`.
-pub struct Stderr {
-    /// Suppress messages.
-    pub quiet: bool,
-}
-
-impl Progress for Stderr {
-    fn say(&self, message: &str) {
-        if !self.quiet {
-            eprintln!("forebear: {}", crate::text::for_terminal(message));
-        }
-    }
-}
+pub use progress::Stderr;
 
 /// Parses comma-separated names, dropping empty entries and surrounding spaces.
 pub fn split_names(list: &[String]) -> Vec<String> {
@@ -91,6 +85,26 @@ pub fn split_names(list: &[String]) -> Vec<String> {
 /// machine this runs on, far below what takes minutes to start).
 pub const MAX_THREADS: usize = 256;
 
+/// The version line: the crate version, the build commit and the method version (`verify`
+/// compares dossiers by the method version).
+pub fn version_text() -> String {
+    let tool = crate::finding::ToolInfo::current();
+    tool.describe()
+        .strip_prefix("forebear ")
+        .map_or_else(|| tool.describe(), str::to_string)
+}
+
+/// The command-line definition: the derived one with the version line and each subcommand's
+/// examples after its help.
+pub fn command() -> clap::Command {
+    let mut command = Cli::command().version(version_text());
+    for (name, examples) in examples::EXAMPLES {
+        command =
+            command.mut_subcommand(name, |sub| sub.after_help(examples::after_help(examples)));
+    }
+    command
+}
+
 /// Parses the command line. Returns the arguments and the settings whose flags were typed (not
 /// defaulted): those win over a study file.
 pub fn parse<I, T>(args: I) -> Result<(Cli, Vec<Key>), clap::Error>
@@ -98,7 +112,7 @@ where
     I: IntoIterator<Item = T>,
     T: Into<std::ffi::OsString> + Clone,
 {
-    let matches = Cli::command().try_get_matches_from(args)?;
+    let matches = command().try_get_matches_from(args)?;
     let cli = Cli::from_arg_matches(&matches)?;
     let explicit = match matches.subcommand() {
         Some(("analyze", sub)) => Key::ALL
@@ -123,14 +137,22 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
                  the thread count, and more threads than cores only add overhead"
             )));
         }
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build_global()
-            .map_err(|e| {
-                crate::error::Error::internal(format!("cannot start {threads} threads: {e}"))
-            })?;
     }
-    let progress = Stderr { quiet: cli.quiet };
+    // A pool of this call's own (`--threads`, else one thread per core), never rayon's global one:
+    // a program that embeds the library keeps its global pool, and work runs in the pool it chose.
+    let mut pool = rayon::ThreadPoolBuilder::new().thread_name(|i| format!("forebear-{i}"));
+    if let Some(threads) = cli.threads {
+        pool = pool.num_threads(threads);
+    }
+    let pool = pool.build().map_err(|e| {
+        crate::error::Error::internal(format!("cannot start the worker threads: {e}"))
+    })?;
+    pool.install(move || run_command(cli, explicit, argv))
+}
+
+/// Runs the command inside the pool [`run`] built.
+fn run_command(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Result<()> {
+    let progress = Stderr::new(cli.quiet);
     let operator = match cli.operator.as_deref() {
         Some(given) => crate::trail::check_operator(given)
             .map_err(|e| crate::error::Error::input(format!("--operator: {e}")))?,
@@ -147,6 +169,8 @@ pub fn run(cli: Cli, explicit: &[Key], argv: Vec<String>) -> crate::error::Resul
         Command::Sign(args) => sign::run(args, operator),
         Command::Fingerprint(args) => fingerprint::run(args),
         Command::Trail(args) => trail::run(args),
+        Command::Completions(args) => completions::completions(args),
+        Command::Man(args) => completions::man(args),
         Command::Qualify(args) => {
             let operator = crate::qualify::record::Operator {
                 name: Some(operator.to_string()),

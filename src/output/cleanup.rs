@@ -1,6 +1,10 @@
-//! What a termination signal must remove: this process's staging folders and lock files. On
-//! SIGINT, SIGTERM or SIGHUP (a closed terminal or a dropped remote session) the process removes
-//! them and exits with 128 + the signal's number; a signal that was ignored when the process
+//! What a termination signal must remove: this process's staging folders and lock files. The
+//! forebear binary installs the handler ([`install_signal_handler`]) before it runs a command; a
+//! program that embeds the library keeps its own signal handling (nothing here installs a handler
+//! on its behalf, so its next interrupt is its own to handle), and a staging folder or lock left by
+//! an interrupted embedded call is recovered by the next run into the same folder. On SIGINT,
+//! SIGTERM or SIGHUP (a closed terminal or a dropped remote session) the binary removes them and
+//! exits with 128 + the signal's number; a signal that was ignored when the process
 //! started (`nohup`, a background job) stays ignored. SIGKILL cannot be caught: the next run into the
 //! same folder recovers its leftovers (`leftovers.rs`).
 
@@ -27,9 +31,8 @@ pub fn registry() -> MutexGuard<'static, Registry> {
     REGISTRY.lock().unwrap_or_else(|e| e.into_inner())
 }
 
-/// Records a staging folder (and makes sure the signal handler is installed).
+/// Records a staging folder.
 pub fn register_staging(path: &Path) {
-    install_signal_handler();
     registry().staging.push(path.to_path_buf());
 }
 
@@ -38,9 +41,8 @@ pub fn unregister_staging(path: &Path) {
     registry().staging.retain(|p| p != path);
 }
 
-/// Records a lock file (and makes sure the signal handler is installed).
+/// Records a lock file.
 pub fn register_lock(path: &Path) {
-    install_signal_handler();
     registry().locks.push(path.to_path_buf());
 }
 
@@ -49,8 +51,11 @@ pub fn unregister_lock(path: &Path) {
     registry().locks.retain(|p| p != path);
 }
 
+/// Installs the handler that removes the registered staging folders and locks on SIGINT, SIGTERM
+/// or SIGHUP and exits with 128 + the signal's number. For the forebear binary only: a library
+/// caller must not call it unless it wants its process to exit on those signals.
 #[cfg(unix)]
-fn install_signal_handler() {
+pub fn install_signal_handler() {
     use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
     static INSTALL: std::sync::Once = std::sync::Once::new();
     INSTALL.call_once(|| {
@@ -91,5 +96,6 @@ fn ignored(signal: i32) -> bool {
     }
 }
 
+/// Nothing to install where there are no POSIX signals.
 #[cfg(not(unix))]
-fn install_signal_handler() {}
+pub fn install_signal_handler() {}

@@ -11,7 +11,7 @@
 //! output and renames it into place after examining the folder again: if it changed during the run
 //! the run refuses and leaves it as it is.
 
-mod cleanup;
+pub mod cleanup;
 mod fsio;
 mod keep;
 mod leftovers;

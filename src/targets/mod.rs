@@ -311,15 +311,12 @@ fn replicates(
         .map(|(p, t)| (&p.study, *t))
         .collect();
     let done = AtomicU32::new(0);
-    let step = (count / 10).max(1);
     let by_replicate: Vec<Vec<ReplicateRecord>> = (0..count)
         .into_par_iter()
         .map(|k| {
             let records = run_replicate_shared(&members[0].table, &studies, k);
             let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
-            if finished.is_multiple_of(step) || finished == count {
-                progress.say(&format!("replicates done: {finished}/{count}"));
-            }
+            progress.advance("replicates", u64::from(finished), u64::from(count));
             records
         })
         .collect();
