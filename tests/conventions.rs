@@ -130,3 +130,36 @@ fn the_library_leaves_the_host_signals_and_global_thread_pool_alone() {
         "an embedded call installs no SIGINT handler: the host's next interrupt is its own"
     );
 }
+
+#[test]
+fn the_demo_hint_runs_as_printed_once_forebear_is_on_the_path() {
+    let scratch = Scratch::new("conventions-hint");
+    let output = bin()
+        .current_dir(scratch.path(""))
+        .args(["--quiet", "demo"])
+        .output()
+        .unwrap();
+    assert_success(&output);
+    let said = lossy_stdout(&output);
+    let hint = said
+        .lines()
+        .find_map(|l| l.strip_prefix("a reviewer checks a dossier with: "))
+        .unwrap_or_else(|| panic!("the demo prints a verify hint:\n{said}"));
+    assert!(hint.starts_with("forebear verify "), "{hint}");
+    // As after `cargo install`: the binary's folder first on PATH, the hint run by a shell.
+    let binary = std::path::PathBuf::from(env!("CARGO_BIN_EXE_forebear"));
+    let path = format!(
+        "{}:{}",
+        binary.parent().unwrap().display(),
+        std::env::var("PATH").unwrap_or_default()
+    );
+    let ran = std::process::Command::new("sh")
+        .arg("-c")
+        .arg(hint)
+        .current_dir(scratch.path(""))
+        .env("PATH", path)
+        .output()
+        .unwrap();
+    assert_success(&ran);
+    assert!(lossy_stdout(&ran).contains("VERIFIED"));
+}
