@@ -270,13 +270,12 @@ fn collect_and_compare(dir: &Path, shards: &[PathBuf]) {
     args.extend(["--out".into(), "together".into()]);
     assert_success(&run_in(dir, &args));
     assert_success(&run_in(dir, ["batch", "plan.toml", "--out", "single"]));
-    for name in ["summary.json"] {
-        assert_eq!(
-            std::fs::read(dir.join("together").join(name)).unwrap(),
-            std::fs::read(dir.join("single").join(name)).unwrap(),
-            "{name}"
-        );
-    }
+    // summary.json is the same bytes; the index is dated differently (run started / collected).
+    assert_eq!(
+        std::fs::read(dir.join("together/summary.json")).unwrap(),
+        std::fs::read(dir.join("single/summary.json")).unwrap(),
+        "summary.json"
+    );
 }
 
 #[test]
