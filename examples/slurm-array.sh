@@ -6,23 +6,15 @@
 #   sbatch --dependency=afterok:<array job id> --wrap \
 #     "forebear merge parts/shard-* --out dossier"          # the merge, once all shards succeed
 #
-# Every shard computes the same full-data search and its own replicates; replicate k is drawn from
-# (seed, k) alone, so the merged digest equals that of one single run with the same settings.
+# Slurm numbers the array tasks from 0 (SLURM_ARRAY_TASK_ID) and runs the script in the folder it
+# was submitted from. Every shard computes the same full-data search and its own replicates
+# (examples/replicate-shard.sh); replicate k is drawn from (seed, k) alone, so the merged digest
+# equals that of one single run with the same settings.
 #SBATCH --job-name=forebear-shard
 #SBATCH --cpus-per-task=4
 #SBATCH --time=02:00:00
 set -euo pipefail
 
-DATA=${DATA:-study.csv}
-TARGET=${TARGET:-assay_potency}   # the outcome column of your study
-REPLICATES=${REPLICATES:-400}    # 2B for complementary pairs: even
-SHARDS=${SHARDS:-8}
-SEED=${SEED:-20261201}
-
-per=$(( (REPLICATES + SHARDS - 1) / SHARDS ))
-start=$(( SLURM_ARRAY_TASK_ID * per ))
-end=$(( start + per )); (( end > REPLICATES )) && end=$REPLICATES
-
-forebear --threads "${SLURM_CPUS_PER_TASK}" analyze "$DATA" --target "$TARGET" \
-  --replicates "$REPLICATES" --seed "$SEED" \
-  --replicate-range "${start}..${end}" --out "parts/shard-${SLURM_ARRAY_TASK_ID}"
+SHARDS=${SHARDS:-8}   # keep equal to the --array size
+THREADS=${SLURM_CPUS_PER_TASK:-1} exec sh "${EXAMPLES:-examples}/replicate-shard.sh" \
+  "$SLURM_ARRAY_TASK_ID" "$SHARDS"

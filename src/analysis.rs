@@ -415,13 +415,7 @@ pub fn analyze_part(
 ) -> Result<Partial> {
     let prepared = prepare(path, settings, target, progress)?;
     let count = prepared.study.resampling.count;
-    if range.start >= range.end || range.end > count {
-        return Err(Error::input(format!(
-            "--replicate-range {}..{} is outside the plan: replicates are numbered 0..{count} \
-             (a half-open range, start below end)",
-            range.start, range.end
-        )));
-    }
+    check_range(&range, count)?;
     let full = prepared.full_search(progress);
     let records = prepared.replicates(range.clone(), &full, progress);
     let content = prepared.content.clone();
@@ -433,6 +427,21 @@ pub fn analyze_part(
         range: [range.start, range.end],
         records,
     })
+}
+
+/// Checks a `--replicate-range` against the plan of `count` replicates: a half-open range within
+/// 0..count whose start is not past its end. An empty range (`A..A`, as a scheduler's spare
+/// shard computes when there are more shards than replicates) is allowed: its part holds no
+/// replicates, and [`merge_parts`] accepts it.
+pub fn check_range(range: &Range<u32>, count: u32) -> Result<()> {
+    if range.start > range.end || range.end > count {
+        return Err(Error::input(format!(
+            "--replicate-range {}..{} is outside the plan: replicates are numbered 0..{count} \
+             (a half-open range A..B with A ≤ B ≤ {count}; A..A is an empty shard)",
+            range.start, range.end
+        )));
+    }
+    Ok(())
 }
 
 /// Reads the partial results at `paths` (each a `partial.json` file or the folder that holds one),

@@ -11,7 +11,7 @@ pub fn reproduce_command(finding: &Finding) -> String {
     let flag = |key: Key, value: String| format!("{} {value}", key.flag());
     let mut parts = vec![
         "forebear analyze".to_string(),
-        shell_quote(&finding.run.data_path),
+        data_word(finding),
         flag(Key::Targets, shell_quote(&s.target)),
         flag(Key::Seed, s.seed.to_string()),
         flag(Key::Scaling, s.scaling.name().to_string()),
@@ -85,8 +85,33 @@ pub fn reproduce_command(finding: &Finding) -> String {
 pub fn verify_command(finding: &Finding) -> String {
     one_line(&format!(
         "forebear verify DOSSIER_FOLDER --data {}",
-        shell_quote(&finding.run.data_path)
+        data_word(finding)
     ))
+}
+
+/// The word a command should name the data by when the data were read from standard input: no
+/// path was given, and `-` would not name the same bytes again.
+pub const DATA_PLACEHOLDER: &str = "DATA_FILE";
+
+/// Whether the analysis read its data from standard input (`-`).
+pub fn data_from_stdin(finding: &Finding) -> bool {
+    crate::data::source::is_stdin(std::path::Path::new(&finding.run.data_path))
+}
+
+/// How the dossier names the data file: its name, or "standard input" for data read from it.
+pub fn data_shown(finding: &Finding) -> String {
+    match data_from_stdin(finding) {
+        true => crate::data::source::STDIN_NAME.to_string(),
+        false => finding.data.file.clone(),
+    }
+}
+
+/// The data path as one shell word, or [`DATA_PLACEHOLDER`] for data read from standard input.
+fn data_word(finding: &Finding) -> String {
+    match data_from_stdin(finding) {
+        true => DATA_PLACEHOLDER.to_string(),
+        false => shell_quote(&finding.run.data_path),
+    }
 }
 
 /// Keeps a command on one line inside a code block (names with line breaks are rare but legal).

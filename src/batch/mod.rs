@@ -2,7 +2,7 @@
 //! machine-readable summary and drift against a previous run.
 //!
 //! - [`plan`] reads and validates the TOML plan (with the rules of `rules.rs`), and assigns pairs
-//!   to shards;
+//!   to shards; [`list`] lists the pairs and their shards (`--list`);
 //! - [`execute`] runs one whole batch into its output folder, and [`outcome`] turns the finished
 //!   summary into the closing line and the command's result;
 //! - [`run`] analyses pairs into dossiers and builds the [`Summary`];
@@ -18,6 +18,7 @@ mod check;
 pub mod drift;
 pub mod execute;
 pub mod index;
+pub mod list;
 pub mod outcome;
 pub mod output;
 pub mod plan;

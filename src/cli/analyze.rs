@@ -148,10 +148,10 @@ impl AnalyzeArgs {
     }
 }
 
-/// Parses the value of `--replicate-range`: `A..B`, whole numbers (whether A < B and B is within
+/// Parses the value of `--replicate-range`: `A..B`, whole numbers (whether A ≤ B and B is within
 /// the replicates is checked against the study).
 pub fn parse_range(text: &str) -> std::result::Result<std::ops::Range<u32>, String> {
-    let bad = || "not a range; write A..B with whole numbers A < B, e.g. 0..25".to_string();
+    let bad = || "not a range; write A..B with whole numbers A ≤ B, e.g. 0..25".to_string();
     let (a, b) = text.split_once("..").ok_or_else(bad)?;
     let a: u32 = a.trim().parse().map_err(|_| bad())?;
     let b: u32 = b.trim().parse().map_err(|_| bad())?;

@@ -38,6 +38,18 @@ pub struct BatchArgs {
     /// Validate the plan (and that every data file exists) and stop; nothing runs.
     #[arg(long)]
     pub check: bool,
+    /// List the plan's (study, target) pairs and the shard of each (see --shards), and stop;
+    /// nothing runs. One line per pair, `SHARD/SHARDS<TAB>STUDY<TAB>TARGET`, or JSON with --json.
+    #[arg(long, conflicts_with_all = ["shard", "collect", "check", "previous"])]
+    pub list: bool,
+    /// With --list: the number of shards to assign the pairs to (as `--shard i/N`).
+    #[arg(long, value_name = "N", default_value_t = 1, requires = "list",
+          value_parser = clap::value_parser!(u32).range(1..))]
+    pub shards: u32,
+    /// With --list: print JSON (layout `forebear.batch-list/1`: plan, plan_sha256, shards, and
+    /// pairs of index, study, target, shard).
+    #[arg(long, requires = "list")]
+    pub json: bool,
     /// Replace an existing output folder that holds a former batch output (kept beside it as
     /// NAME.replaced-<UTC time>).
     #[arg(long)]
@@ -56,6 +68,9 @@ pub fn run(
     check_drift_threshold(args.drift_threshold)?;
     if args.check {
         return check(&args);
+    }
+    if args.list {
+        return list(&args);
     }
     let plan = load_plan(&args)?;
     let request = BatchRequest {
@@ -87,6 +102,18 @@ fn check(args: &BatchArgs) -> Result<()> {
         ));
     }
     Err(plan_problems(&name, &problems))
+}
+
+/// `--list`: the pairs and their shards, as text or JSON.
+fn list(args: &BatchArgs) -> Result<()> {
+    let plan = load_plan(args)?;
+    let listed = crate::batch::list::list(&plan, args.shards);
+    if args.json {
+        let text = serde_json::to_string_pretty(&listed)
+            .map_err(|e| Error::internal(format!("batch --list: {e}")))?;
+        return super::out::json(&text);
+    }
+    super::out::print(&crate::batch::list::to_text(&listed))
 }
 
 /// Each problem as `PLAN:LINE:COLUMN: message`, then the count.

@@ -39,7 +39,10 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
         super::out::json(&text)?;
     } else {
-        super::out::line(&format!("file            {}", args.data.display()))?;
+        super::out::line(&format!(
+            "file            {}",
+            crate::data::source::display_name(&args.data)
+        ))?;
         super::out::line(&format!("bytes sha256    {bytes}"))?;
         super::out::line(&format!("content sha256  {}", content.sha256))?;
         super::out::line(&format!(

@@ -144,7 +144,7 @@ pub struct DataReader {
 impl DataReader {
     /// Opens `path` and reads its header.
     pub fn open(path: &Path, options: &LoadOptions) -> Result<DataReader> {
-        let file = path.display().to_string();
+        let file = super::source::display_name(path);
         DataReader::start(Source::open(path, &file)?, file, options)
     }
 

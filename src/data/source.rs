@@ -8,6 +8,8 @@
 //! [`MAX_RECORD_BYTES`](super::limits::MAX_RECORD_BYTES), so that a file without line breaks
 //! (`/dev/zero`, a binary file) costs bounded memory.
 
+mod once;
+
 use super::checks::FileFacts;
 use super::fingerprint::hex;
 use super::limits::MAX_RECORD_BYTES;
@@ -16,6 +18,39 @@ use sha2::{Digest, Sha256};
 use std::fs::File;
 use std::io::{self, ErrorKind, Read};
 use std::path::Path;
+
+/// The DATA argument that means standard input.
+pub const STDIN: &str = "-";
+
+/// How standard input is named in messages and in the dossier.
+pub const STDIN_NAME: &str = "standard input";
+
+/// Whether `path` is [`STDIN`].
+pub fn is_stdin(path: &Path) -> bool {
+    path.as_os_str() == STDIN
+}
+
+/// The name of a data path in messages: the path, or [`STDIN_NAME`].
+pub fn display_name(path: &Path) -> String {
+    match is_stdin(path) {
+        true => STDIN_NAME.to_string(),
+        false => path.display().to_string(),
+    }
+}
+
+#[cfg(unix)]
+fn stdin_file() -> io::Result<File> {
+    use std::os::fd::AsFd;
+    Ok(File::from(io::stdin().as_fd().try_clone_to_owned()?))
+}
+
+#[cfg(not(unix))]
+fn stdin_file() -> io::Result<File> {
+    Err(io::Error::new(
+        ErrorKind::Unsupported,
+        "reading data from standard input needs a Unix system; give the file's path",
+    ))
+}
 
 /// The marker inside the `io::Error` a [`Source`] returns when a record grows past the limit.
 #[derive(Debug)]
@@ -60,7 +95,15 @@ const HEAD_BYTES: usize = 16;
 impl Source {
     /// Opens `path` (shown as `file` in messages) once. Every problem is one sentence chosen from
     /// the error's kind: absent, a folder, a symbolic link loop, permission denied.
+    /// The path [`STDIN`] (`-`) opens standard input instead. A file that is not a regular file
+    /// (standard input, a pipe, a FIFO, a device) is opened at most once per process: its bytes
+    /// can be read only once, so a second reading is refused rather than fingerprinting what
+    /// happens to be left.
     pub fn open(path: &Path, file: &str) -> Result<Source> {
+        if is_stdin(path) {
+            return Source::stdin();
+        }
+        once::refuse_second_read(path, file)?;
         let opened = File::open(path).map_err(|e| open_error(file, &e))?;
         let metadata = opened.metadata().map_err(|e| open_error(file, &e))?;
         if metadata.is_dir() {
@@ -68,6 +111,25 @@ impl Source {
                 "data file '{file}' is a folder, not a CSV file"
             )));
         }
+        once::claim(&metadata, file)?;
+        Ok(Source::from_reader(Box::new(opened)))
+    }
+
+    /// Standard input, read through a duplicate of its descriptor. A terminal is refused: the
+    /// data must be piped or redirected, not typed.
+    fn stdin() -> Result<Source> {
+        use std::io::IsTerminal;
+        let file = STDIN_NAME;
+        let opened = stdin_file().map_err(|e| open_error(file, &e))?;
+        if opened.is_terminal() {
+            return Err(Error::input(
+                "no data on standard input: DATA '-' reads standard input, which is a terminal \
+                 here; pipe or redirect a CSV file into it (… | forebear COMMAND - or \
+                 forebear COMMAND - < data.csv), or give the file's path instead of '-'",
+            ));
+        }
+        let metadata = opened.metadata().map_err(|e| open_error(file, &e))?;
+        once::claim(&metadata, file)?;
         Ok(Source::from_reader(Box::new(opened)))
     }
 

@@ -42,7 +42,7 @@ pub fn html_document(finding: &Finding, markdown: &str) -> String {
     let study = format!(
         "{} in {}",
         finding.target,
-        crate::text::escaped(&finding.data.file)
+        crate::text::escaped(&crate::reproduce::data_shown(finding))
     );
     let header = running_header(finding, &study);
     let digest = format!("digest {}", &finding.digest[..finding.digest.len().min(16)]);

@@ -52,6 +52,8 @@ fn render_text(finding: &Finding, html: bool) -> Result<String> {
             // are; the fence outgrows any backtick run and the commands have no line breaks.
             reproduce_fence => Value::from_safe_string(fence_for(&format!("{reproduce}{verify}"))),
             reproduce => Value::from_safe_string(reproduce),
+            data_file => crate::reproduce::data_shown(finding),
+            from_stdin => crate::reproduce::data_from_stdin(finding),
             verify => Value::from_safe_string(verify),
             settings_sha256 => settings_sha256(finding),
             knowledge_claims => knowledge_claims(finding),

@@ -150,7 +150,7 @@ pub(super) type Received = std::result::Result<(RawTable, FileFacts), String>;
 /// denied) is bad usage (exit code 2); one that cannot be read with the recorded reader options is
 /// a failed data check.
 pub(super) fn read_received(request: &Request, manifest: &Manifest) -> Result<Received> {
-    let file = request.data.display().to_string();
+    let file = crate::data::source::display_name(&request.data);
     let source = Source::open(&request.data, &file)?;
     let options = match recorded_reader(manifest) {
         Ok(options) => options,
