@@ -13,6 +13,9 @@ use super::{parquet_file, workbook, xpt};
 use crate::error::{Error, Result};
 use std::collections::BTreeMap;
 
+/// The column names and the cells by column (`None`: missing) a binary format's reader returns.
+pub type NamedCells = (Vec<String>, Vec<Vec<Option<f64>>>);
+
 /// A data file format other than CSV.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Format {
@@ -96,10 +99,7 @@ pub fn read(
 }
 
 /// Rows numbered 2, 3, ... as if the names were line 1.
-#[allow(clippy::type_complexity)]
-fn numbered(
-    (names, cells): (Vec<String>, Vec<Vec<Option<f64>>>),
-) -> (Vec<String>, Vec<Vec<Option<f64>>>, Vec<u64>) {
+fn numbered((names, cells): NamedCells) -> (Vec<String>, Vec<Vec<Option<f64>>>, Vec<u64>) {
     let rows = cells.first().map_or(0, Vec::len) as u64;
     (names, cells, (2..2 + rows).collect())
 }

@@ -150,7 +150,7 @@ pub struct DataReader {
 /// What is left to read after the header.
 enum Body {
     /// The records of a CSV file after its header.
-    Csv(Records),
+    Csv(Box<Records>),
     /// Nothing: a binary format is read whole at once; the header is the whole table.
     Read(FileFacts),
 }
@@ -200,7 +200,7 @@ impl DataReader {
             header_line,
         };
         Ok(DataReader {
-            body: Body::Csv(records),
+            body: Body::Csv(Box::new(records)),
             header,
             options: options.clone(),
         })
@@ -221,7 +221,7 @@ impl DataReader {
             options,
         } = self;
         let mut records = match body {
-            Body::Csv(records) => records,
+            Body::Csv(records) => *records,
             Body::Read(facts) => return Ok((header, facts)),
         };
         let RawTable {

@@ -3,6 +3,7 @@
 //! as 0 and 1, decimals stored as 32- or 64-bit integers), nulls as missing values, row groups in
 //! order. A column of any other type is refused, naming it and its type.
 
+use super::format::NamedCells;
 use crate::error::{Error, Result};
 use bytes::Bytes;
 use parquet::basic::{ConvertedType, LogicalType, Type as PhysicalType};
@@ -15,7 +16,7 @@ use parquet::schema::types::ColumnDescriptor;
 pub const MAGIC: &[u8] = b"PAR1";
 
 /// The names and the cells by column (`None`: a null) of a Parquet file held in `bytes`.
-pub fn read(bytes: Vec<u8>, file: &str) -> Result<(Vec<String>, Vec<Vec<Option<f64>>>)> {
+pub fn read(bytes: Vec<u8>, file: &str) -> Result<NamedCells> {
     let damaged = |e: parquet::errors::ParquetError| {
         Error::input(format!(
             "{file}: the Parquet file cannot be read ({}); write it again, or export the table \

@@ -5,6 +5,7 @@
 //!
 //! Numeric variables only: a character variable is refused, naming it. One member per file.
 
+use super::format::NamedCells;
 use crate::error::{Error, Result};
 
 /// The start of the first record of a version 5 transport file.
@@ -32,7 +33,7 @@ pub struct Variable {
 }
 
 /// The names and the cells by column (`None`: a missing value) of the one member of `bytes`.
-pub fn read(bytes: &[u8], file: &str) -> Result<(Vec<String>, Vec<Vec<Option<f64>>>)> {
+pub fn read(bytes: &[u8], file: &str) -> Result<NamedCells> {
     let bad = |what: &str| {
         Error::input(format!(
             "{file}: the SAS transport file is damaged or not version 5 ({what}); export the data \
