@@ -41,6 +41,23 @@ impl Format {
 /// How many first bytes tell the format.
 pub const SIGNATURE_BYTES: usize = 48;
 
+/// Whether `head`, the first bytes read so far, could still be the start of a signature (too
+/// short to tell): the reading of the start stops as soon as they tell.
+pub fn undecided(head: &[u8]) -> bool {
+    SIGNATURES
+        .iter()
+        .any(|magic| head.len() < magic.len() && magic.starts_with(head))
+}
+
+/// Every first-bytes signature read here (or refused with advice by [`refuse_unread`]).
+const SIGNATURES: [&[u8]; 5] = [
+    parquet_file::MAGIC,
+    xpt::MAGIC,
+    xpt::MAGIC_V8,
+    b"PK\x03\x04",
+    b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1",
+];
+
 /// The format the first bytes of a file name, if it is one forebear reads besides CSV.
 pub fn recognise(head: &[u8]) -> Option<Format> {
     if head.starts_with(parquet_file::MAGIC) {
@@ -172,6 +189,12 @@ mod tests {
         );
         assert_eq!(recognise(b"a,b\n1,2\n"), None);
         assert_eq!(recognise(b"PAR"), None);
+        // A CSV header tells at its first byte; the start of a signature needs more.
+        assert!(!undecided(b"k"));
+        assert!(undecided(b""));
+        assert!(undecided(b"PA"));
+        assert!(undecided(b"HEADER RECORD***"));
+        assert!(!undecided(b"PAR1"));
     }
 
     #[test]

@@ -164,7 +164,9 @@ impl DataReader {
 
     /// Reads the header of `source`, shown as `file` in messages.
     pub fn start(mut source: Source, file: String, options: &LoadOptions) -> Result<DataReader> {
-        let head = source.peek(format::SIGNATURE_BYTES, &file)?.to_vec();
+        let head = source
+            .peek(format::SIGNATURE_BYTES, &file, format::undecided)?
+            .to_vec();
         format::refuse_unread(&head, &file)?;
         if let Some(kind) = format::recognise(&head) {
             let (table, facts) = format::read(kind, source, file, options)?;

@@ -89,8 +89,15 @@ impl Source {
 
     /// Up to `n` bytes of the start of the input, without consuming them: the next reads return
     /// them first (and hash them then), so that the format can be told before a reader is chosen.
-    pub fn peek(&mut self, n: usize, file: &str) -> Result<&[u8]> {
-        while self.peeked.len() < n {
+    /// Reads only while `undecided` says the bytes so far do not yet tell (so that a pipe whose
+    /// writer sent a short header and waits is not waited for).
+    pub fn peek(
+        &mut self,
+        n: usize,
+        file: &str,
+        undecided: impl Fn(&[u8]) -> bool,
+    ) -> Result<&[u8]> {
+        while self.peeked.len() < n && undecided(&self.peeked) {
             let mut block = vec![0u8; n - self.peeked.len()];
             match self.input.read(&mut block) {
                 Ok(0) => break,
@@ -289,7 +296,7 @@ mod tests {
     #[test]
     fn peeked_bytes_are_read_and_hashed_once() {
         let mut source = Source::from_reader(Box::new(&b"abc"[..]));
-        assert_eq!(source.peek(2, "t").unwrap(), b"ab");
+        assert_eq!(source.peek(2, "t", |_| true).unwrap(), b"ab");
         let mut first = [0u8; 1];
         assert_eq!(source.read(&mut first).unwrap(), 1);
         assert_eq!(&first, b"a");
@@ -300,7 +307,9 @@ mod tests {
             "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
         );
         let mut whole = Source::from_reader(Box::new(&b"abc"[..]));
-        assert_eq!(whole.peek(8, "t").unwrap(), b"abc");
+        assert_eq!(whole.peek(8, "t", |_| true).unwrap(), b"abc");
+        let mut decided = Source::from_reader(Box::new(&b"abc"[..]));
+        assert_eq!(decided.peek(8, "t", |_| false).unwrap(), b"");
         let (bytes, facts) = whole.read_all("t", 100).unwrap();
         assert_eq!((bytes.as_slice(), facts.size_bytes), (&b"abc"[..], 3));
         assert!(facts.sha256.starts_with("ba7816bf"));
