@@ -10,7 +10,8 @@
 //!
 //! The result digest covers everything in `result.json` except run metadata: the `run` object, the
 //! `digest` itself; the data file's name, byte hash and size (`data.file`, `data.sha256`,
-//! `data.size_bytes`), so that the same content analysed under another name or path, or re-saved
+//! `data.size_bytes`), and its format and sheet when it is not CSV (`data.format`, `data.sheet`),
+//! so that a Parquet, SAS transport or workbook file gives the digest of its CSV twin, and so that the same content analysed under another name or path, or re-saved
 //! with other line endings or quoting, gives the same digest (the content hash
 //! `data.content_sha256` is part of it, and the manifest binds the exact bytes); and the crate version and build commit
 //! (`tool.version`, `tool.build`), so that every build of one method version gives one digest; the
@@ -20,12 +21,14 @@ use serde::Serialize;
 use sha2::{Digest, Sha256};
 
 /// JSON pointers excluded from the result digest.
-pub const DIGEST_EXCLUSIONS: [&str; 7] = [
+pub const DIGEST_EXCLUSIONS: [&str; 9] = [
     "/run",
     "/digest",
     "/data/file",
     "/data/sha256",
     "/data/size_bytes",
+    "/data/format",
+    "/data/sheet",
     "/tool/version",
     "/tool/build",
 ];

@@ -169,6 +169,7 @@ impl Study {
             decimal_comma: Some(reader.decimal_comma),
             missing_tokens: Some(reader.missing_tokens.clone()),
             missing: Some(reader.missing_policy),
+            sheet: reader.sheet.clone(),
             knowledge: self.knowledge.clone(),
             // Document control is a run fact, recorded outside the study (`run.document`).
             document: None,

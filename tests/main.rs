@@ -21,6 +21,7 @@ mod determinism;
 mod document_control;
 mod dossier;
 mod error_control;
+mod formats;
 mod knowledge;
 mod method_version;
 mod names;

@@ -9,7 +9,8 @@ use std::path::PathBuf;
 /// Arguments of `fingerprint`.
 #[derive(Debug, Args)]
 pub struct FingerprintArgs {
-    /// The CSV file.
+    /// The data file: CSV, Parquet, SAS transport (XPT version 5) or a workbook, told by its
+    /// first bytes.
     pub data: PathBuf,
     /// How the file is read, as for `analyze` (it decides the parsed content).
     #[command(flatten)]
@@ -23,11 +24,13 @@ pub struct FingerprintArgs {
 pub fn run(args: FingerprintArgs) -> Result<()> {
     let options = args.reader.load_options()?;
     let (table, facts) = read_data(&args.data, &options)?;
-    let (bytes, size) = (facts.sha256, facts.size_bytes);
+    let format = facts.format.as_deref().unwrap_or("csv");
+    let (bytes, size) = (facts.sha256.as_str(), facts.size_bytes);
     let content = content_index(&table);
     if args.json {
-        let value = serde_json::json!({
+        let mut value = serde_json::json!({
             "file": args.data.display().to_string(),
+            "format": format,
             "size_bytes": size,
             "sha256": bytes,
             "content_sha256": content.sha256,
@@ -35,6 +38,9 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
             "columns": content.columns.len(),
             "reader": options,
         });
+        if let Some(sheet) = &facts.sheet {
+            value["sheet"] = serde_json::json!(sheet);
+        }
         let text = serde_json::to_string_pretty(&value)
             .map_err(|e| Error::internal(format!("fingerprint: {e}")))?;
         super::out::json(&text)?;
@@ -43,6 +49,10 @@ pub fn run(args: FingerprintArgs) -> Result<()> {
             "file            {}",
             crate::data::source::display_name(&args.data)
         ))?;
+        match &facts.sheet {
+            Some(sheet) => super::out::line(&format!("format          {format}, sheet {sheet}"))?,
+            None => super::out::line(&format!("format          {format}"))?,
+        }
         super::out::line(&format!("bytes sha256    {bytes}"))?;
         super::out::line(&format!("content sha256  {}", content.sha256))?;
         super::out::line(&format!(

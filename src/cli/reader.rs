@@ -27,6 +27,10 @@ pub struct ReaderArgs {
     /// Rows missing a value in a used column: drop-rows (drop and count them) or error.
     #[arg(long, value_name = "POLICY", value_enum, default_value_t = MissingPolicy::DropRows)]
     pub missing: MissingPolicy,
+    /// The sheet to read when the data file is a workbook (xlsx, xls): its name as the tabs show
+    /// it. The first sheet when not given.
+    #[arg(long, value_name = "NAME")]
+    pub sheet: Option<String>,
 }
 
 impl ReaderArgs {
@@ -36,6 +40,9 @@ impl ReaderArgs {
         input.delimiter = given(Key::Delimiter).then_some(self.delimiter);
         input.decimal_comma = given(Key::DecimalComma).then_some(self.decimal_comma);
         input.missing = given(Key::Missing).then_some(self.missing);
+        if self.sheet.is_some() {
+            input.sheet = self.sheet.clone();
+        }
         input.missing_tokens = given(Key::MissingTokens).then(|| {
             // Empty entries are kept: "" stands for empty cells.
             self.missing_tokens.split(',').map(str::to_string).collect()

@@ -33,6 +33,10 @@ pub struct FileFacts {
     pub size_bytes: u64,
     /// SHA-256, lower-case hex.
     pub sha256: String,
+    /// The format, when it is not CSV (`parquet`, `xpt`, `workbook`).
+    pub format: Option<String>,
+    /// The sheet read, for a workbook.
+    pub sheet: Option<String>,
 }
 
 impl RawTable {
@@ -72,6 +76,8 @@ impl RawTable {
             file: self.file.clone(),
             size_bytes: facts.size_bytes,
             sha256: facts.sha256,
+            format: facts.format,
+            sheet: facts.sheet,
             content_sha256: String::new(),
             rows_read,
             rows_used,

@@ -16,6 +16,10 @@ pub const MAX_NAME_BYTES: usize = 1024;
 /// Most columns: the dossier lists every column, and rendering was measured linear up to this.
 pub const MAX_COLUMNS: usize = 100_000;
 
+/// The largest binary data file (Parquet, SAS transport, workbook) read: these are read whole into
+/// memory.
+pub const MAX_BINARY_BYTES: u64 = 4 << 30;
+
 /// A size in bytes for a message: `16 MiB`, `64 KiB`, `1024 bytes`.
 pub fn size_text(bytes: usize) -> String {
     const MIB: usize = 1024 * 1024;

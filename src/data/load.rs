@@ -6,6 +6,7 @@ use super::cells::{quoted, CellReader, ColumnIssues};
 use super::checks::FileFacts;
 use super::csv_read::Records;
 use super::delimiter::Delimiter;
+use super::format;
 use super::limits::{size_text, MAX_COLUMNS, MAX_NAME_BYTES};
 use super::source::Source;
 use super::spelling::Spellings;
@@ -64,6 +65,9 @@ pub struct LoadOptions {
     /// What to do with rows missing a used value.
     #[serde(default)]
     pub missing_policy: MissingPolicy,
+    /// The sheet of a workbook to read (the first when absent).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sheet: Option<String>,
 }
 
 impl Default for LoadOptions {
@@ -76,6 +80,7 @@ impl Default for LoadOptions {
                 .map(|s| s.to_string())
                 .collect(),
             missing_policy: MissingPolicy::DropRows,
+            sheet: None,
         }
     }
 }
@@ -88,6 +93,7 @@ impl LoadOptions {
             decimal_comma: report.decimal_comma,
             missing_tokens: report.missing_tokens.clone(),
             missing_policy: report.missing_policy,
+            sheet: report.sheet.clone(),
         }
     }
 
@@ -136,9 +142,17 @@ pub struct RawTable {
 /// [`DataReader::header`] before the rows are read ([`DataReader::read_rows`]), so that a misspelt
 /// column in a large file is reported at once, without opening the file a second time.
 pub struct DataReader {
-    records: Records,
+    body: Body,
     header: RawTable,
     options: LoadOptions,
+}
+
+/// What is left to read after the header.
+enum Body {
+    /// The records of a CSV file after its header.
+    Csv(Box<Records>),
+    /// Nothing: a binary format is read whole at once; the header is the whole table.
+    Read(FileFacts),
 }
 
 impl DataReader {
@@ -149,7 +163,26 @@ impl DataReader {
     }
 
     /// Reads the header of `source`, shown as `file` in messages.
-    pub fn start(source: Source, file: String, options: &LoadOptions) -> Result<DataReader> {
+    pub fn start(mut source: Source, file: String, options: &LoadOptions) -> Result<DataReader> {
+        let head = source
+            .peek(format::SIGNATURE_BYTES, &file, format::undecided)?
+            .to_vec();
+        format::refuse_unread(&head, &file)?;
+        if let Some(kind) = format::recognise(&head) {
+            let (table, facts) = format::read(kind, source, file, options)?;
+            return Ok(DataReader {
+                body: Body::Read(facts),
+                header: table,
+                options: options.clone(),
+            });
+        }
+        if let Some(sheet) = &options.sheet {
+            return Err(Error::input(format!(
+                "data file '{file}' is a CSV file, which has no sheets; leave out the sheet \
+                 ({}) or give the workbook",
+                super::cells::quoted(sheet)
+            )));
+        }
         let mut records = Records::new(source, &file, options.delimiter);
         if !records.advance()? {
             return Err(Error::input(format!(
@@ -169,7 +202,7 @@ impl DataReader {
             header_line,
         };
         Ok(DataReader {
-            records,
+            body: Body::Csv(Box::new(records)),
             header,
             options: options.clone(),
         })
@@ -185,10 +218,14 @@ impl DataReader {
     /// CRLF line endings are accepted; blank lines are skipped.
     pub fn read_rows(self) -> Result<(RawTable, FileFacts)> {
         let DataReader {
-            mut records,
+            body,
             header,
             options,
         } = self;
+        let mut records = match body {
+            Body::Csv(records) => *records,
+            Body::Read(facts) => return Ok((header, facts)),
+        };
         let RawTable {
             file,
             names,

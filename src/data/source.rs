@@ -84,6 +84,8 @@ pub struct Source {
     record_start: u64,
     /// The first [`HEAD_BYTES`] bytes of the file, for what its signature says.
     head: Vec<u8>,
+    /// Bytes taken from the input by [`Source::peek`] and not yet read (nor hashed).
+    peeked: Vec<u8>,
 }
 
 /// Bytes of finished records kept before the window is compacted.
@@ -143,7 +145,63 @@ impl Source {
             window_start: 0,
             record_start: 0,
             head: Vec::new(),
+            peeked: Vec::new(),
         }
+    }
+
+    /// Up to `n` bytes of the start of the input, without consuming them: the next reads return
+    /// them first (and hash them then), so that the format can be told before a reader is chosen.
+    /// Reads only while `undecided` says the bytes so far do not yet tell (so that a pipe whose
+    /// writer sent a short header and waits is not waited for).
+    pub fn peek(
+        &mut self,
+        n: usize,
+        file: &str,
+        undecided: impl Fn(&[u8]) -> bool,
+    ) -> Result<&[u8]> {
+        while self.peeked.len() < n && undecided(&self.peeked) {
+            let mut block = vec![0u8; n - self.peeked.len()];
+            match self.input.read(&mut block) {
+                Ok(0) => break,
+                Ok(got) => self.peeked.extend_from_slice(&block[..got]),
+                Err(e) if e.kind() == ErrorKind::Interrupted => {}
+                Err(e) => return Err(read_error(file, &e)),
+            }
+        }
+        Ok(&self.peeked[..n.min(self.peeked.len())])
+    }
+
+    /// Reads the whole input (for the binary formats, which are parsed from memory): its bytes,
+    /// and the fingerprint of exactly those bytes. Stops with an error past `limit` bytes.
+    pub fn read_all(mut self, file: &str, limit: u64) -> Result<(Vec<u8>, FileFacts)> {
+        let mut bytes = std::mem::take(&mut self.peeked);
+        self.hasher.update(&bytes);
+        let mut block = vec![0u8; 1 << 16];
+        loop {
+            match self.input.read(&mut block) {
+                Ok(0) => break,
+                Ok(n) => {
+                    self.hasher.update(&block[..n]);
+                    bytes.extend_from_slice(&block[..n]);
+                    if bytes.len() as u64 > limit {
+                        return Err(Error::input(format!(
+                            "data file '{file}' is larger than {}, the most forebear reads of a \
+                             binary data file; leave out the rows or columns the study does not \
+                             need",
+                            super::limits::size_text(limit as usize)
+                        )));
+                    }
+                }
+                Err(e) if e.kind() == ErrorKind::Interrupted => {}
+                Err(e) => return Err(read_error(file, &e)),
+            }
+        }
+        let facts = FileFacts {
+            size_bytes: bytes.len() as u64,
+            sha256: hex(&self.hasher.finalize()),
+            ..FileFacts::default()
+        };
+        Ok((bytes, facts))
     }
 
     /// Marks the start of the next record at file offset `offset` (as the CSV reader counts):
@@ -177,6 +235,9 @@ impl Source {
     /// Reads what the CSV reader left (nothing, normally: it reads to the end of the input) so
     /// that the fingerprint covers every byte of the file, and returns it.
     pub fn finish(mut self, file: &str) -> Result<FileFacts> {
+        let left = std::mem::take(&mut self.peeked);
+        self.hasher.update(&left);
+        self.size += left.len() as u64;
         let mut block = vec![0u8; 1 << 16];
         loop {
             match self.input.read(&mut block) {
@@ -186,17 +247,13 @@ impl Source {
                     self.size += n as u64;
                 }
                 Err(e) if e.kind() == ErrorKind::Interrupted => {}
-                Err(e) => {
-                    return Err(Error::input(format!(
-                        "data file '{file}' cannot be read: {}",
-                        super::cells::one_line(&e.to_string())
-                    )))
-                }
+                Err(e) => return Err(read_error(file, &e)),
             }
         }
         Ok(FileFacts {
             size_bytes: self.size,
             sha256: hex(&self.hasher.finalize()),
+            ..FileFacts::default()
         })
     }
 }
@@ -208,7 +265,14 @@ impl Read for Source {
         if self.size - self.record_start > MAX_RECORD_BYTES as u64 {
             return Err(io::Error::other(RecordTooLong));
         }
-        let n = self.input.read(buf)?;
+        let n = if self.peeked.is_empty() {
+            self.input.read(buf)?
+        } else {
+            let n = buf.len().min(self.peeked.len());
+            buf[..n].copy_from_slice(&self.peeked[..n]);
+            self.peeked.drain(..n);
+            n
+        };
         self.hasher.update(&buf[..n]);
         self.window.extend_from_slice(&buf[..n]);
         if self.head.len() < HEAD_BYTES {
@@ -218,6 +282,14 @@ impl Read for Source {
         self.size += n as u64;
         Ok(n)
     }
+}
+
+/// The sentence for a data file that cannot be read.
+fn read_error(file: &str, error: &io::Error) -> Error {
+    Error::input(format!(
+        "data file '{file}' cannot be read: {}",
+        super::cells::one_line(&error.to_string())
+    ))
 }
 
 /// The sentence for a data file that cannot be opened, from the error's kind (never its text).
@@ -281,6 +353,28 @@ mod tests {
         long.begin_record((2 << 20) + 5);
         assert_eq!(long.kept(0, u64::MAX).1, (2 << 20) + 5);
         assert_eq!(long.window.len(), (1 << 20) - 5);
+    }
+
+    #[test]
+    fn peeked_bytes_are_read_and_hashed_once() {
+        let mut source = Source::from_reader(Box::new(&b"abc"[..]));
+        assert_eq!(source.peek(2, "t", |_| true).unwrap(), b"ab");
+        let mut first = [0u8; 1];
+        assert_eq!(source.read(&mut first).unwrap(), 1);
+        assert_eq!(&first, b"a");
+        let facts = source.finish("t").unwrap();
+        // FIPS 180-2, Appendix B.1: SHA-256("abc").
+        assert_eq!(
+            facts.sha256,
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+        let mut whole = Source::from_reader(Box::new(&b"abc"[..]));
+        assert_eq!(whole.peek(8, "t", |_| true).unwrap(), b"abc");
+        let mut decided = Source::from_reader(Box::new(&b"abc"[..]));
+        assert_eq!(decided.peek(8, "t", |_| false).unwrap(), b"");
+        let (bytes, facts) = whole.read_all("t", 100).unwrap();
+        assert_eq!((bytes.as_slice(), facts.size_bytes), (&b"abc"[..], 3));
+        assert!(facts.sha256.starts_with("ba7816bf"));
     }
 
     #[test]

@@ -73,6 +73,13 @@ pub struct DataReport {
     /// re-saved with other line endings, quoting or number formatting.
     #[serde(default)]
     pub content_sha256: String,
+    /// The file's format when it is not CSV: `parquet`, `xpt` (SAS transport, version 5) or
+    /// `workbook`. Absent for CSV.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub format: Option<String>,
+    /// The sheet read, for a workbook.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sheet: Option<String>,
     /// Data rows read (header excluded).
     pub rows_read: usize,
     /// Rows used by the analysis.

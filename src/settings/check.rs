@@ -243,6 +243,7 @@ impl SettingsInput {
             decimal_comma: self.decimal_comma.unwrap_or(false),
             missing_tokens: tokens,
             missing_policy: self.missing.unwrap_or_default(),
+            sheet: self.sheet.clone(),
         }
     }
 }

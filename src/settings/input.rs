@@ -53,6 +53,8 @@ pub struct SettingsInput {
     pub missing_tokens: Option<Vec<String>>,
     /// What to do with rows that miss a used value.
     pub missing: Option<MissingPolicy>,
+    /// The sheet of a workbook to read (the first when absent).
+    pub sheet: Option<String>,
     /// What the analyst knows: tiers, forbidden and required edges (table `[knowledge]`).
     pub knowledge: Option<Knowledge>,
     /// Document control (table `[document]`): metadata printed on the dossier, not a setting of
@@ -93,6 +95,7 @@ impl SettingsInput {
             decimal_comma: self.decimal_comma.or(b.decimal_comma),
             missing_tokens: self.missing_tokens.or(b.missing_tokens),
             missing: self.missing.or(b.missing),
+            sheet: self.sheet.or(b.sheet),
             knowledge: self.knowledge.or(b.knowledge),
             document: match (self.document, b.document) {
                 (Some(given), Some(base)) => Some(given.over(&base)),

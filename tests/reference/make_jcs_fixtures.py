@@ -20,7 +20,8 @@ import rfc8785
 
 HERE = pathlib.Path(__file__).resolve().parent
 # The members of result.json outside the result digest (docs/digest.md), as JSON pointers.
-EXCLUSIONS = ["/run", "/digest", "/data/file", "/data/sha256", "/data/size_bytes", "/tool/version", "/tool/build"]
+EXCLUSIONS = ["/run", "/digest", "/data/file", "/data/sha256", "/data/size_bytes", "/data/format",
+              "/data/sheet", "/tool/version", "/tool/build"]
 
 
 def remove(tree, pointer):
