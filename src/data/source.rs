@@ -174,33 +174,18 @@ impl Source {
     /// Reads the whole input (for the binary formats, which are parsed from memory): its bytes,
     /// and the fingerprint of exactly those bytes. Stops with an error past `limit` bytes.
     pub fn read_all(mut self, file: &str, limit: u64) -> Result<(Vec<u8>, FileFacts)> {
-        let mut bytes = std::mem::take(&mut self.peeked);
-        self.hasher.update(&bytes);
-        let mut block = vec![0u8; 1 << 16];
-        loop {
-            match self.input.read(&mut block) {
-                Ok(0) => break,
-                Ok(n) => {
-                    self.hasher.update(&block[..n]);
-                    bytes.extend_from_slice(&block[..n]);
-                    if bytes.len() as u64 > limit {
-                        return Err(Error::input(format!(
-                            "data file '{file}' is larger than {}, the most forebear reads of a \
-                             binary data file; leave out the rows or columns the study does not \
-                             need",
-                            super::limits::size_text(limit as usize)
-                        )));
-                    }
-                }
-                Err(e) if e.kind() == ErrorKind::Interrupted => {}
-                Err(e) => return Err(read_error(file, &e)),
+        let mut bytes = Vec::new();
+        let facts = self.read_rest(file, |block| {
+            bytes.extend_from_slice(block);
+            if bytes.len() as u64 > limit {
+                return Err(Error::input(format!(
+                    "data file '{file}' is larger than {}, the most forebear reads of a binary \
+                     data file; leave out the rows or columns the study does not need",
+                    super::limits::size_text(limit as usize)
+                )));
             }
-        }
-        let facts = FileFacts {
-            size_bytes: bytes.len() as u64,
-            sha256: hex(&self.hasher.finalize()),
-            ..FileFacts::default()
-        };
+            Ok(())
+        })?;
         Ok((bytes, facts))
     }
 
@@ -235,9 +220,20 @@ impl Source {
     /// Reads what the CSV reader left (nothing, normally: it reads to the end of the input) so
     /// that the fingerprint covers every byte of the file, and returns it.
     pub fn finish(mut self, file: &str) -> Result<FileFacts> {
+        self.read_rest(file, |_| Ok(()))
+    }
+
+    /// Reads the bytes peeked at and everything after them to the end of the input, hashing and
+    /// counting each and handing it to `keep`; returns the fingerprint of the whole input.
+    fn read_rest(
+        &mut self,
+        file: &str,
+        mut keep: impl FnMut(&[u8]) -> Result<()>,
+    ) -> Result<FileFacts> {
         let left = std::mem::take(&mut self.peeked);
         self.hasher.update(&left);
         self.size += left.len() as u64;
+        keep(&left)?;
         let mut block = vec![0u8; 1 << 16];
         loop {
             match self.input.read(&mut block) {
@@ -245,6 +241,7 @@ impl Source {
                 Ok(n) => {
                     self.hasher.update(&block[..n]);
                     self.size += n as u64;
+                    keep(&block[..n])?;
                 }
                 Err(e) if e.kind() == ErrorKind::Interrupted => {}
                 Err(e) => return Err(read_error(file, &e)),
@@ -252,7 +249,7 @@ impl Source {
         }
         Ok(FileFacts {
             size_bytes: self.size,
-            sha256: hex(&self.hasher.finalize()),
+            sha256: hex(&self.hasher.clone().finalize()),
             ..FileFacts::default()
         })
     }
