@@ -149,30 +149,22 @@ fn a_dossier_from_standard_input_says_so_and_its_commands_ask_for_the_data_file(
     assert!(manifest.contains("forebear analyze DATA_FILE --target"));
     // The saved file verifies, and so does the same file sent again on standard input.
     assert_success(&verify(&dossier, &file, &[]));
-    let again = piped(
-        &scratch.dir,
-        &[
-            "--quiet",
-            "verify",
-            dossier.to_str().unwrap(),
-            "--data",
-            "-",
-        ],
-        &bytes,
-    );
-    assert_success(&again);
+    let verify_piped = |bytes: &[u8]| {
+        piped(
+            &scratch.dir,
+            &[
+                "--quiet",
+                "verify",
+                dossier.to_str().unwrap(),
+                "--data",
+                "-",
+            ],
+            bytes,
+        )
+    };
+    assert_success(&verify_piped(&bytes));
     let other = forebear::demo::generate_demo_csv_seeded(5);
-    let mismatch = piped(
-        &scratch.dir,
-        &[
-            "--quiet",
-            "verify",
-            dossier.to_str().unwrap(),
-            "--data",
-            "-",
-        ],
-        other.as_bytes(),
-    );
+    let mismatch = verify_piped(other.as_bytes());
     assert_eq!(exit_code(&mismatch), 1);
 }
 
