@@ -5,6 +5,8 @@
 //! - (b) T_n(Y, Z | X) with |X| = 3 at n = 10^5;
 //! - (c) the floor for (b): kiddo kd-trees over X (3-D) and (X, Z) (4-D) and a query for the
 //!   nearest other point of every row, nothing else (queries spread over the same rayon pool);
+//! - (b1), (c1), (b6), (c6): the same with |X| = 1 and |X| = 6;
+//! - (peer) T_n and ξ_n on a two-column file that `benches/peers/xi_scipy.py` also gives to SciPy;
 //! - (d) a full `analyze` without resampling on 10^4 rows × 20 columns (continuous data on the
 //!   CHILD network structure, created by `benches/make_bench_data.sh`; another file can be given
 //!   in `FOREBEAR_BENCH_DATA`, another target in `FOREBEAR_BENCH_TARGET`).
@@ -14,6 +16,7 @@
 //! (docs/benchmarks.md): (d) under 2 s; (b) within 1.5× of (c).
 
 use forebear::analysis::{analyze_file, Silent};
+use forebear::measure::xi::xi_test;
 use forebear::measure::{conditional_dependence, Scaling};
 use forebear::rng::{standard_normal, unit_interval, Key};
 use forebear::settings::SettingsInput;
@@ -69,40 +72,65 @@ fn main() {
     }
 
     let n = 100_000;
-    let (y, z, x) = conditional_case(n, 2);
-    let xs: Vec<&[f64]> = x.iter().map(Vec::as_slice).collect();
+    let (y, z, x) = conditional_case(n, 2, 3);
     let key_x = Key::new("bench-b-x", 0).finish();
     let key_xz = Key::new("bench-b-xz", 0).finish();
-    let mut b = None;
-    let mut c = None;
-    if wanted("b") {
-        b = Some(report(
-            "b",
-            "T_n(Y, Z | X), |X| = 3, |Z| = 1, n = 10^5, raw normals",
-            runs,
-            || {
-                black_box(conditional_dependence(&y, &[&z], &xs, &key_x, &key_xz));
-            },
-        ));
-    }
-    if wanted("c") {
-        c = Some(report(
-            "c",
-            "floor of (b): kiddo trees in 3-D and 4-D, nearest other point per row",
-            runs,
-            || {
-                black_box(tree_floor::<3>(&xs));
-                let xz: Vec<&[f64]> = xs.iter().copied().chain([z.as_slice()]).collect();
-                black_box(tree_floor::<4>(&xz));
-            },
-        ));
-    }
-    if let (Some(b), Some(c)) = (b, c) {
-        let ratio = b.as_secs_f64() / c.as_secs_f64();
-        println!(
-            "    (b)/(c) = {ratio:.2} (target ≤ 1.5: {})",
-            if ratio <= 1.5 { "met" } else { "NOT met" }
-        );
+    for (dim, b_name, c_name) in [(1, "b1", "c1"), (3, "b", "c"), (6, "b6", "c6")] {
+        if !(wanted(b_name) || wanted(c_name)) {
+            continue;
+        }
+        let (y, z, x) = if dim == 3 {
+            (y.clone(), z.clone(), x.clone())
+        } else {
+            conditional_case(n, 2, dim)
+        };
+        let xs: Vec<&[f64]> = x.iter().map(Vec::as_slice).collect();
+        let mut b = None;
+        let mut c = None;
+        if wanted(b_name) {
+            b = Some(report(
+                b_name,
+                &format!("T_n(Y, Z | X), |X| = {dim}, |Z| = 1, n = 10^5, raw normals"),
+                runs,
+                || {
+                    black_box(conditional_dependence(&y, &[&z], &xs, &key_x, &key_xz));
+                },
+            ));
+        }
+        if wanted(c_name) {
+            c = Some(report(
+                c_name,
+                &format!(
+                    "floor of ({b_name}): kiddo trees in {dim}-D and {}-D, nearest other point per row",
+                    dim + 1
+                ),
+                runs,
+                || {
+                    let xz: Vec<&[f64]> = xs.iter().copied().chain([z.as_slice()]).collect();
+                    match dim {
+                        1 => {
+                            black_box(tree_floor::<1>(&xs));
+                            black_box(tree_floor::<2>(&xz));
+                        }
+                        3 => {
+                            black_box(tree_floor::<3>(&xs));
+                            black_box(tree_floor::<4>(&xz));
+                        }
+                        _ => {
+                            black_box(tree_floor::<6>(&xs));
+                            black_box(tree_floor::<7>(&xz));
+                        }
+                    }
+                },
+            ));
+        }
+        if let (Some(b), Some(c)) = (b, c) {
+            let ratio = b.as_secs_f64() / c.as_secs_f64();
+            println!(
+                "    ({b_name})/({c_name}) = {ratio:.2} (target ≤ 1.0: {})",
+                if ratio <= 1.0 { "met" } else { "NOT met" }
+            );
+        }
     }
     if wanted("b-rank") {
         let yr = Scaling::Rank.apply(&y);
@@ -112,6 +140,10 @@ fn main() {
         report("b-rank", "same as (b), rank-scaled", runs, || {
             black_box(conditional_dependence(&yr, &[&zr], &xrs, &key_x, &key_xz));
         });
+    }
+
+    if wanted("peer") {
+        peer_cases(runs);
     }
 
     if wanted("d") {
@@ -207,17 +239,66 @@ fn dependent_pair(n: usize, seed: u64) -> (Vec<f64>, Vec<f64>) {
     (y, z)
 }
 
-/// Y depends on three X columns and on Z, which is itself related to X.
-fn conditional_case(n: usize, seed: u64) -> (Vec<f64>, Vec<f64>, Vec<Vec<f64>>) {
+/// Y depends on `dim` X columns and on Z, which is itself related to X.
+fn conditional_case(n: usize, seed: u64, dim: usize) -> (Vec<f64>, Vec<f64>, Vec<Vec<f64>>) {
     let key = Key::new("bench-data", seed).finish();
-    let x: Vec<Vec<f64>> = (0..3).map(|d| normals(n, &key, d)).collect();
+    let x: Vec<Vec<f64>> = (0..dim as u64).map(|d| normals(n, &key, d)).collect();
     let e1 = normals(n, &key, 10);
     let e2 = normals(n, &key, 11);
     let z: Vec<f64> = (0..n).map(|i| x[0][i].tanh() + 0.5 * e1[i]).collect();
     let y = (0..n)
-        .map(|i| x[1][i] * x[2][i] + z[i].sin() + 0.3 * e2[i])
+        .map(|i| {
+            let interaction = if dim >= 3 { x[1][i] * x[2][i] } else { 0.0 };
+            let rest: f64 = x.iter().skip(3).map(|c| 0.3 * c[i]).sum();
+            interaction + rest + z[i].sin() + 0.3 * e2[i]
+        })
         .collect();
     (y, z, x)
+}
+
+/// The cases that `benches/peers/xi_scipy.py` runs beside SciPy's `chatterjeexi` on the same file:
+/// `FOREBEAR_BENCH_PAIR` names a CSV file with a header and two numeric columns (y, z).
+fn peer_cases(runs: usize) {
+    let Some(path) = std::env::var_os("FOREBEAR_BENCH_PAIR") else {
+        println!(
+            "peer: skipped, FOREBEAR_BENCH_PAIR names no file (run benches/peers/xi_scipy.py)"
+        );
+        return;
+    };
+    let text = std::fs::read_to_string(&path).expect("the pair file is readable");
+    let (mut y, mut z) = (Vec::new(), Vec::new());
+    for line in text.lines().skip(1) {
+        let (a, b) = line.split_once(',').expect("two columns");
+        y.push(a.trim().parse::<f64>().expect("a number"));
+        z.push(b.trim().parse::<f64>().expect("a number"));
+    }
+    let key = Key::new("bench-peer", 0).finish();
+    report(
+        "peer-tn",
+        "T_n(y, z), X empty, raw values of the file",
+        runs,
+        || {
+            black_box(conditional_dependence(&y, &[&z], &[], &key, &key));
+        },
+    );
+    let yr = Scaling::Rank.apply(&y);
+    let zr = Scaling::Rank.apply(&z);
+    report(
+        "peer-tn-rank",
+        "T_n(y, z), X empty, rank-scaled (the default; every row has two tied neighbours)",
+        runs,
+        || {
+            black_box(conditional_dependence(&yr, &[&zr], &[], &key, &key));
+        },
+    );
+    report(
+        "peer-xi",
+        "xi_n(z, y) and its asymptotic p-value, raw values of the file",
+        runs,
+        || {
+            black_box(xi_test(&z, &y, &key));
+        },
+    );
 }
 
 /// Builds a kd-tree over the rows of `columns` and finds the nearest other point of every row.

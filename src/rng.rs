@@ -29,9 +29,123 @@ impl Key {
         rng
     }
 
+    /// The same random stream as [`Key::stream`], computed one ChaCha20 block at a time: for the
+    /// few draws of a tie-break, where [`Key::stream`] would compute four blocks (256 bytes) and
+    /// set up a generator to use the first eight bytes. Every value equals that of
+    /// [`Key::stream`] at the same position (`tests::short_streams_equal_full_streams`).
+    pub fn short_stream(&self, index: u64) -> ShortStream {
+        let mut key = [0u32; 8];
+        for (word, bytes) in key.iter_mut().zip(self.0.chunks_exact(4)) {
+            *word = u32::from_le_bytes(bytes.try_into().expect("four bytes"));
+        }
+        ShortStream {
+            key,
+            nonce: index,
+            block: 0,
+            words: [0; 16],
+            used: 16,
+        }
+    }
+
     /// Raw key bytes.
     pub fn bytes(&self) -> &[u8; 32] {
         &self.0
+    }
+}
+
+/// The ChaCha20 block function (Bernstein, "ChaCha, a variant of Salsa20", 2008; the quarter
+/// round and word layout as in RFC 8439, section 2.3): 20 rounds over the constants, the 256-bit
+/// key, a 64-bit block counter (words 12–13) and a 64-bit nonce (words 14–15), which is the layout
+/// `rand_chacha` uses for its block position and stream number.
+fn chacha20_block(key: &[u32; 8], block: u64, nonce: u64) -> [u32; 16] {
+    #[inline(always)]
+    fn quarter(s: &mut [u32; 16], a: usize, b: usize, c: usize, d: usize) {
+        s[a] = s[a].wrapping_add(s[b]);
+        s[d] = (s[d] ^ s[a]).rotate_left(16);
+        s[c] = s[c].wrapping_add(s[d]);
+        s[b] = (s[b] ^ s[c]).rotate_left(12);
+        s[a] = s[a].wrapping_add(s[b]);
+        s[d] = (s[d] ^ s[a]).rotate_left(8);
+        s[c] = s[c].wrapping_add(s[d]);
+        s[b] = (s[b] ^ s[c]).rotate_left(7);
+    }
+    let input: [u32; 16] = [
+        0x6170_7865,
+        0x3320_646e,
+        0x7962_2d32,
+        0x6b20_6574,
+        key[0],
+        key[1],
+        key[2],
+        key[3],
+        key[4],
+        key[5],
+        key[6],
+        key[7],
+        block as u32,
+        (block >> 32) as u32,
+        nonce as u32,
+        (nonce >> 32) as u32,
+    ];
+    let mut s = input;
+    for _ in 0..10 {
+        quarter(&mut s, 0, 4, 8, 12);
+        quarter(&mut s, 1, 5, 9, 13);
+        quarter(&mut s, 2, 6, 10, 14);
+        quarter(&mut s, 3, 7, 11, 15);
+        quarter(&mut s, 0, 5, 10, 15);
+        quarter(&mut s, 1, 6, 11, 12);
+        quarter(&mut s, 2, 7, 8, 13);
+        quarter(&mut s, 3, 4, 9, 14);
+    }
+    for (word, start) in s.iter_mut().zip(input) {
+        *word = word.wrapping_add(start);
+    }
+    s
+}
+
+/// The keyed stream of one index, one ChaCha20 block at a time (see [`Key::short_stream`]).
+pub struct ShortStream {
+    key: [u32; 8],
+    nonce: u64,
+    block: u64,
+    words: [u32; 16],
+    /// Words of `words` already returned (16: none left).
+    used: usize,
+}
+
+impl ShortStream {
+    fn next_word(&mut self) -> u32 {
+        if self.used == 16 {
+            self.words = chacha20_block(&self.key, self.block, self.nonce);
+            self.block = self.block.wrapping_add(1);
+            self.used = 0;
+        }
+        self.used += 1;
+        self.words[self.used - 1]
+    }
+}
+
+impl rand_core::TryRng for ShortStream {
+    type Error = std::convert::Infallible;
+
+    fn try_next_u32(&mut self) -> Result<u32, Self::Error> {
+        Ok(self.next_word())
+    }
+
+    /// Two words, the first the low half (as `rand_core`'s block generators combine them).
+    fn try_next_u64(&mut self) -> Result<u64, Self::Error> {
+        let low = self.next_word();
+        let high = self.next_word();
+        Ok((u64::from(high) << 32) | u64::from(low))
+    }
+
+    fn try_fill_bytes(&mut self, dst: &mut [u8]) -> Result<(), Self::Error> {
+        for chunk in dst.chunks_mut(4) {
+            let word = self.next_word().to_le_bytes();
+            chunk.copy_from_slice(&word[..chunk.len()]);
+        }
+        Ok(())
     }
 }
 
@@ -133,6 +247,45 @@ mod tests {
         let first: Vec<u64> = (0..4).map(|_| key.stream(5).next_u64()).collect();
         assert!(first.windows(2).all(|w| w[0] == w[1]));
         assert_ne!(key.stream(5).next_u64(), key.stream(6).next_u64());
+    }
+
+    /// RFC 8439, appendix A.1, test vector #1: the all-zero key, block counter and nonce (where
+    /// the 64/64 and 32/96 splits of counter and nonce agree).
+    #[test]
+    fn chacha20_block_matches_rfc_8439_test_vector_1() {
+        let block = chacha20_block(&[0; 8], 0, 0);
+        let bytes: Vec<u8> = block.iter().flat_map(|w| w.to_le_bytes()).collect();
+        let expected = "76b8e0ada0f13d90405d6ae55386bd28bdd219b8a08ded1aa836efcc8b770dc7\
+                        da41597c5157488d7724e03fb8d84a376a43b8f41518a11cc387b669b2ee6586";
+        let hex: String = bytes.iter().map(|b| format!("{b:02x}")).collect();
+        assert_eq!(hex, expected);
+    }
+
+    /// Keyed short streams give `rand_chacha`'s values at every position, across block ends.
+    #[test]
+    fn short_streams_equal_full_streams() {
+        for seed in 0..8u64 {
+            let key = Key::new("short-stream", seed).number(seed * 7).finish();
+            for index in [0u64, 1, 2, 15, 16, 1 << 20, u64::MAX - 1, u64::MAX] {
+                let mut full = key.stream(index);
+                let mut short = key.short_stream(index);
+                for _ in 0..40 {
+                    assert_eq!(
+                        short.next_u64(),
+                        full.next_u64(),
+                        "seed {seed}, index {index}"
+                    );
+                }
+                assert_eq!(short.next_u32(), full.next_u32());
+                assert_eq!(short.next_u64(), full.next_u64());
+                for bound in [2u64, 3, 7, 1000, u64::MAX] {
+                    assert_eq!(
+                        uniform_below(&mut short, bound),
+                        uniform_below(&mut full, bound)
+                    );
+                }
+            }
+        }
     }
 
     #[test]

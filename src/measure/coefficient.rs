@@ -106,6 +106,16 @@ impl TargetRanks {
             .sum()
     }
 
+    /// R_i = #{j : Y_j ≤ Y_i} of every row.
+    pub fn at_most(&self) -> &[u32] {
+        &self.at_most
+    }
+
+    /// L_i = #{j : Y_j ≥ Y_i} of every row.
+    pub fn at_least(&self) -> &[u32] {
+        &self.at_least
+    }
+
     /// Number of rows.
     pub fn n(&self) -> usize {
         self.at_most.len()

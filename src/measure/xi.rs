@@ -6,8 +6,11 @@
 //! Under independence √n·ξ_n → N(0, τ²) with τ² estimated as in Theorem 2.2:
 //! τ̂² = (a_n − 2b_n + c_n²) / d_n² from the sorted ranks u_i and their partial sums v_i.
 
-use super::ranks::{at_least_counts, at_most_counts};
+use super::coefficient::TargetRanks;
+use super::neighbors::total_order_key;
 use crate::rng::Key;
+use rand_core::Rng;
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 /// One direction of the test: how far y is a function of x.
@@ -23,18 +26,10 @@ pub struct XiTest {
 /// Returns `None` when y is constant (the statistic is undefined).
 pub fn xi_test(x: &[f64], y: &[f64], key: &Key) -> Option<XiTest> {
     let n = x.len();
-    let tie_break: Vec<u64> = (0..n)
-        .map(|i| rand_core::Rng::next_u64(&mut key.stream(i as u64)))
-        .collect();
-    let mut order: Vec<usize> = (0..n).collect();
-    order.sort_by(|&a, &b| {
-        x[a].total_cmp(&x[b])
-            .then(tie_break[a].cmp(&tie_break[b]))
-            .then(a.cmp(&b))
-    });
-    let r_all = at_most_counts(y);
-    let l_all = at_least_counts(y);
-    let r: Vec<u32> = order.iter().map(|&i| r_all[i]).collect();
+    let order = tie_broken_order(x, key);
+    let ranks = TargetRanks::new(y);
+    let (r_all, l_all) = (ranks.at_most(), ranks.at_least());
+    let r: Vec<u32> = order.iter().map(|&i| r_all[i as usize]).collect();
     let jumps: i128 = r
         .windows(2)
         .map(|w| (w[1] as i128 - w[0] as i128).abs())
@@ -50,11 +45,50 @@ pub fn xi_test(x: &[f64], y: &[f64], key: &Key) -> Option<XiTest> {
     Some(XiTest { statistic, p_value })
 }
 
+/// Rows in increasing order of `x` (IEEE total order); rows with equal `x` in increasing order of
+/// the first draw of their keyed stream, then by row. One parallel sort of (value, row) pairs, then
+/// draws only for the rows that tie: the order of sorting every row by (x, draw, row).
+fn tie_broken_order(x: &[f64], key: &Key) -> Vec<u32> {
+    let n = x.len();
+    assert!(n < u32::MAX as usize, "fewer than u32::MAX rows");
+    let mut keyed: Vec<(u64, u32)> = x
+        .iter()
+        .enumerate()
+        .map(|(i, &v)| (total_order_key(v), i as u32))
+        .collect();
+    keyed.par_sort_unstable();
+    let mut start = 0;
+    let mut drawn: Vec<(u64, u32)> = Vec::new();
+    while start < n {
+        let end = start
+            + keyed[start..]
+                .iter()
+                .take_while(|k| k.0 == keyed[start].0)
+                .count();
+        if end - start > 1 {
+            drawn.clear();
+            drawn.extend(
+                keyed[start..end]
+                    .iter()
+                    .map(|&(_, i)| (key.short_stream(u64::from(i)).next_u64(), i)),
+            );
+            drawn.sort_unstable();
+            for (slot, &(_, i)) in keyed[start..end].iter_mut().zip(&drawn) {
+                slot.1 = i;
+            }
+        }
+        start = end;
+    }
+    keyed.into_iter().map(|(_, i)| i).collect()
+}
+
 /// Standard deviation of ξ_n under independence: √(τ̂²/n), Chatterjee (2021) Theorem 2.2.
 fn null_std(r: &[u32], l: &[u32]) -> Option<f64> {
     let n = r.len() as f64;
-    let mut u: Vec<f64> = r.iter().map(|&v| v as f64).collect();
-    u.sort_by(f64::total_cmp);
+    // Sorted as integers: the same order as the doubles they convert to exactly.
+    let mut sorted = r.to_vec();
+    sorted.par_sort_unstable();
+    let u: Vec<f64> = sorted.iter().map(|&v| f64::from(v)).collect();
     let (mut a, mut b, mut c, mut partial) = (0.0, 0.0, 0.0, 0.0);
     for (k, &ui) in u.iter().enumerate() {
         let i = (k + 1) as f64;
@@ -110,6 +144,42 @@ mod tests {
             .unwrap()
             .statistic;
         assert!((got - expected).abs() < 1e-12, "{got} vs {expected}");
+    }
+
+    /// The order of sorting every row by (x, first keyed draw, row), as the tie-break was first
+    /// written (a full stream per row): `tie_broken_order` must give exactly this.
+    fn order_by_full_sort(x: &[f64], key: &Key) -> Vec<u32> {
+        let draws: Vec<u64> = (0..x.len())
+            .map(|i| key.stream(i as u64).next_u64())
+            .collect();
+        let mut order: Vec<u32> = (0..x.len() as u32).collect();
+        order.sort_by(|&a, &b| {
+            let (a, b) = (a as usize, b as usize);
+            x[a].total_cmp(&x[b])
+                .then(draws[a].cmp(&draws[b]))
+                .then(a.cmp(&b))
+        });
+        order
+    }
+
+    #[test]
+    fn tie_broken_order_equals_sorting_every_row_by_value_draw_and_row() {
+        let key = Key::new("xi-order", 3).finish();
+        let mut rng = Key::new("xi-order-data", 1).finish().stream(0);
+        for levels in [1u64, 2, 3, 10, 1000, u64::MAX] {
+            for n in [2usize, 5, 64, 3000] {
+                let x: Vec<f64> = (0..n)
+                    .map(|_| match levels {
+                        u64::MAX => crate::rng::standard_normal(&mut rng),
+                        l => crate::rng::uniform_below(&mut rng, l) as f64 - 0.5 * l as f64,
+                    })
+                    .collect();
+                assert_eq!(tie_broken_order(&x, &key), order_by_full_sort(&x, &key));
+            }
+        }
+        // signed zeros are different values under total order
+        let x = [0.0, -0.0, 0.0, -0.0, 1.0, 0.0];
+        assert_eq!(tie_broken_order(&x, &key), order_by_full_sort(&x, &key));
     }
 
     #[test]

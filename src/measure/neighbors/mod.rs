@@ -726,10 +726,19 @@ impl Neighbourhood {
     }
 
     fn tied(&self, row: usize) -> Tied<'_> {
-        let u = self.distinct.point_of_row[row] as usize;
+        self.tied_at(self.distinct.point_of_row[row] as usize, row)
+    }
+
+    /// As [`Neighbourhood::tied`] for a row of point `u`.
+    #[inline]
+    fn tied_at(&self, u: usize, row: usize) -> Tied<'_> {
         let rows = self.distinct.rows(u);
         let origin = self.origin(row as u32);
-        if rows.iter().any(|&r| self.origin(r) != origin) {
+        let duplicates = match &self.origins {
+            None => rows.len() > 1,
+            Some(_) => rows.iter().any(|&r| self.origin(r) != origin),
+        };
+        if duplicates {
             Tied::Duplicates { rows, origin }
         } else {
             Tied::Points(self.nearest.of(u))
@@ -756,22 +765,37 @@ impl Neighbourhood {
     /// One nearest neighbour per row, ties broken uniformly at random by the keyed stream of the
     /// row under `key`.
     pub fn choose(&self, key: &Key) -> Vec<u32> {
-        let n = self.distinct.point_of_row.len();
-        (0..n)
+        // Chosen in point order, where the lists a point's rows read lie next to each other and
+        // the tied points are near in sorted order; only the last write goes by row. The choice of
+        // a row depends on the row and the key alone, so the order of work cannot change it.
+        let m = self.distinct.len();
+        let in_point_order: Vec<u32> = (0..m.div_ceil(CHUNK))
             .into_par_iter()
-            .map(|row| self.choose_one(row, key))
-            .collect()
+            .flat_map_iter(|c| {
+                (c * CHUNK..((c + 1) * CHUNK).min(m)).flat_map(move |u| {
+                    self.distinct
+                        .rows(u)
+                        .iter()
+                        .map(move |&row| self.choose_one(u, row as usize, key))
+                })
+            })
+            .collect();
+        let mut chosen = vec![0u32; self.distinct.point_of_row.len()];
+        for (&row, &choice) in self.distinct.sorted_rows.iter().zip(&in_point_order) {
+            chosen[row as usize] = choice;
+        }
+        chosen
     }
 
-    fn choose_one(&self, row: usize, key: &Key) -> u32 {
-        match self.tied(row) {
+    fn choose_one(&self, u: usize, row: usize, key: &Key) -> u32 {
+        match self.tied_at(u, row) {
             Tied::Duplicates { rows, origin } => {
                 let me = row as u32;
                 if self.origins.is_none() && rows.len() == 2 {
                     return if rows[0] == me { rows[1] } else { rows[0] };
                 }
                 let others = rows.iter().filter(|&&r| self.origin(r) != origin).count();
-                let mut rng = key.stream(row as u64);
+                let mut rng = key.short_stream(row as u64);
                 let pick = uniform_below(&mut rng, others as u64) as usize;
                 *rows
                     .iter()
@@ -790,7 +814,7 @@ impl Neighbourhood {
                     .iter()
                     .map(|&v| self.distinct.group_len(v as usize))
                     .sum();
-                let mut rng = key.stream(row as u64);
+                let mut rng = key.short_stream(row as u64);
                 let mut pick = uniform_below(&mut rng, total as u64) as usize;
                 for &v in points {
                     let group = self.distinct.rows(v as usize);
