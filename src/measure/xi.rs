@@ -40,7 +40,7 @@ pub fn xi_test(x: &[f64], y: &[f64], key: &Key) -> Option<XiTest> {
         return None;
     }
     let statistic = 1.0 - (n_i * jumps) as f64 / (2 * spread) as f64;
-    let std = null_std(&r_all, &l_all)?;
+    let std = null_std(r_all, l_all)?;
     let p_value = normal_upper_tail(statistic / std);
     Some(XiTest { statistic, p_value })
 }
