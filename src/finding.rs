@@ -18,7 +18,7 @@ pub const SCHEMA: &str = "forebear.result/1";
 /// Version of the method: every computation that affects results. It changes whenever any such
 /// computation changes (`tests/method_version.rs` holds the digests that pin it), so that `verify`
 /// can tell "another build of the same method" from "another method".
-pub const METHOD_VERSION: &str = "forebear-method/5";
+pub const METHOD_VERSION: &str = "forebear-method/6";
 
 /// Tool identity.
 #[derive(Clone, Debug, Serialize, schemars::JsonSchema, Deserialize, PartialEq)]

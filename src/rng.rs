@@ -205,6 +205,24 @@ pub fn uniform_below(rng: &mut impl Rng, bound: u64) -> u64 {
     }
 }
 
+/// A uniform integer in `0..bound` from 32-bit draws without modulo bias and, almost always,
+/// without a division: Lemire's multiply-and-reject method ("Fast random integer generation in an
+/// interval", ACM Transactions on Modeling and Computer Simulation 29(1), 2019, Algorithm 5). The
+/// 64-bit product x·bound of a draw x splits into the result (high half) and a remainder (low
+/// half); draws whose remainder is below 2^32 mod bound are rejected, which leaves exactly
+/// ⌊2^32 / bound⌋ accepted draws for every result.
+pub fn uniform_below_u32(rng: &mut impl Rng, bound: u32) -> u32 {
+    assert!(bound > 0, "uniform_below_u32 needs a positive bound");
+    let mut product = u64::from(rng.next_u32()) * u64::from(bound);
+    if (product as u32) < bound {
+        let threshold = bound.wrapping_neg() % bound;
+        while (product as u32) < threshold {
+            product = u64::from(rng.next_u32()) * u64::from(bound);
+        }
+    }
+    (product >> 32) as u32
+}
+
 /// A uniform double in [0, 1) with 53 random bits.
 pub fn unit_interval(rng: &mut impl Rng) -> f64 {
     (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
@@ -285,6 +303,67 @@ mod tests {
                     );
                 }
             }
+        }
+    }
+
+    /// A generator that returns the given 32-bit values in turn.
+    struct Replay(Vec<u32>, usize);
+
+    impl rand_core::TryRng for Replay {
+        type Error = std::convert::Infallible;
+        fn try_next_u32(&mut self) -> Result<u32, Self::Error> {
+            self.1 += 1;
+            Ok(self.0[self.1 - 1])
+        }
+        fn try_next_u64(&mut self) -> Result<u64, Self::Error> {
+            unreachable!("uniform_below_u32 draws 32 bits at a time")
+        }
+        fn try_fill_bytes(&mut self, _: &mut [u8]) -> Result<(), Self::Error> {
+            unreachable!()
+        }
+    }
+
+    /// Lemire (2019): an accepted draw x gives ⌊x·bound / 2^32⌋; x is rejected exactly when
+    /// x·bound mod 2^32 < 2^32 mod bound.
+    #[test]
+    fn lemire_draws_map_and_reject_as_the_paper_states() {
+        for bound in [1u32, 2, 3, 7, 10, 1000, (1 << 31) + 1, u32::MAX] {
+            let threshold = ((1u64 << 32) % u64::from(bound)) as u32;
+            for x in [0u32, 1, 2, 12345, 1 << 31, u32::MAX - 1, u32::MAX] {
+                let low = (u64::from(x) * u64::from(bound)) as u32;
+                // u32::MAX is never rejected (its low half is 2^32 − bound ≥ the threshold)
+                let mut replay = Replay(vec![x, u32::MAX], 0);
+                let got = uniform_below_u32(&mut replay, bound);
+                if low < threshold {
+                    // rejected: the next draw, u32::MAX, gives bound − 1
+                    assert_eq!((got, replay.1), (bound - 1, 2), "bound {bound}, x {x}");
+                } else {
+                    let expected = ((u64::from(x) * u64::from(bound)) >> 32) as u32;
+                    assert_eq!((got, replay.1), (expected, 1), "bound {bound}, x {x}");
+                }
+            }
+        }
+    }
+
+    /// Each result has exactly ⌊2^32 / bound⌋ accepted draws: counted here over all 2^32 draws
+    /// scaled down, by counting for every result the draws x with ⌊x·b / 2^32⌋ = k whose low half
+    /// is at or above the threshold, in closed form per k.
+    #[test]
+    fn lemire_accepts_equally_many_draws_for_every_result() {
+        for bound in [3u64, 7, 10, 641, 6700417, (1 << 31) + 1] {
+            let two32 = 1u64 << 32;
+            let threshold = two32 % bound;
+            let mut counts = Vec::new();
+            for k in [0, 1, bound / 2, bound - 1] {
+                // x with x·b in [k·2^32 + threshold, (k + 1)·2^32): accepted and giving k
+                let low = (k * two32 + threshold).div_ceil(bound);
+                let high = ((k + 1) * two32).div_ceil(bound);
+                counts.push(high - low);
+            }
+            assert!(
+                counts.iter().all(|&c| c == two32 / bound),
+                "bound {bound}: {counts:?}"
+            );
         }
     }
 

@@ -757,22 +757,28 @@ fn forged_stability_with_the_digest_recomputed_too_is_a_mismatch() {
 #[test]
 fn a_spot_check_recomputes_the_stability_figures_and_catches_a_forged_frequency() {
     let (_dir, data, out) = analysed("spot-forged");
+    let recorded = common::result_json(&out)["stability"]["full_data_outcome_frequency"]
+        .as_f64()
+        .expect("a frequency");
+    assert_ne!(
+        recorded, 0.4,
+        "the forged value must differ from the recorded one"
+    );
+    let field = |value: f64| format!("\"full_data_outcome_frequency\": {value}");
     forge_texts(
         &out,
         &[
-            (
-                "result.json",
-                "\"full_data_outcome_frequency\": 0.8",
-                "\"full_data_outcome_frequency\": 0.4",
-            ),
+            ("result.json", &field(recorded), &field(0.4)),
             NOT_STABLE[0],
         ],
     );
     let stdout = mismatched(&out, &data, &["--replicates-sample", "2"]);
     assert_says(
         &stdout,
-        "first difference from result.json at /stability/full_data_outcome_frequency: \
-             recorded 0.4, re-run 0.8",
+        &format!(
+            "first difference from result.json at /stability/full_data_outcome_frequency: \
+             recorded 0.4, re-run {recorded}"
+        ),
     );
     assert_says(&stdout, "SPOT CHECK ONLY: 2 of 10");
 }

@@ -52,6 +52,24 @@ impl TargetRanks {
     /// the original response (R_i identifies the value of row i among the values present).
     pub fn permuted(&self, source: &[u32], counts: &mut Vec<u32>) -> TargetRanks {
         let n = self.n();
+        let mut at_most = Vec::with_capacity(n);
+        self.permuted_at_most(source, counts, &mut at_most);
+        let at_least = source
+            .iter()
+            .map(|&s| {
+                // values ≥ this one: all drawn values minus those whose code is below this code
+                let code = self.at_most[s as usize] as usize;
+                n as u32 - counts[code - 1]
+            })
+            .collect();
+        TargetRanks { at_most, at_least }
+    }
+
+    /// R of the permuted response of [`TargetRanks::permuted`] into `at_most`, without L (a test
+    /// given a non-empty X needs R only); `counts[v]` is left holding the number of drawn values
+    /// whose rank code is at most v.
+    pub fn permuted_at_most(&self, source: &[u32], counts: &mut Vec<u32>, at_most: &mut Vec<u32>) {
+        let n = self.n();
         counts.clear();
         counts.resize(n + 1, 0);
         for &s in source {
@@ -63,29 +81,19 @@ impl TargetRanks {
             running += *c;
             *c = running;
         }
-        let mut at_most = Vec::with_capacity(n);
-        let mut at_least = Vec::with_capacity(n);
-        for &s in source {
-            let code = self.at_most[s as usize] as usize;
-            at_most.push(counts[code]);
-            // values ≥ this one: all drawn values minus those whose code is below this code
-            at_least.push(n as u32 - counts[code - 1]);
-        }
-        TargetRanks { at_most, at_least }
+        at_most.clear();
+        at_most.extend(
+            source
+                .iter()
+                .map(|&s| counts[self.at_most[s as usize] as usize]),
+        );
     }
 
     /// Σ min(R_i, R_M(i)) over the rows, for neighbours `joint`: the part of T_n's numerator that
     /// depends on the candidate. The numerator is this sum minus [`TargetRanks::conditioning_sum`]
     /// with X non-empty, and n times it minus Σ L_i² with X empty.
     pub fn joint_sum(&self, joint: &[u32]) -> i128 {
-        let r = &self.at_most;
-        // Each term is at most n < 2^32, so a u64 holds the sum of up to 2^32 terms.
-        let sum: u64 = r
-            .iter()
-            .zip(joint)
-            .map(|(&ri, &m)| u64::from(ri.min(r[m as usize])))
-            .sum();
-        i128::from(sum)
+        min_rank_sum(&self.at_most, joint)
     }
 
     /// Σ min(R_i, R_N(i)) for the neighbours N in X: shared by every candidate of a step.
@@ -180,6 +188,18 @@ impl Ratio {
     pub fn value(&self) -> Option<f64> {
         (self.denominator != 0).then(|| self.numerator as f64 / self.denominator as f64)
     }
+}
+
+/// Σ min(R_i, R_M(i)) over the rows for ranks R (`at_most`) and neighbours M (`joint`).
+pub fn min_rank_sum(at_most: &[u32], joint: &[u32]) -> i128 {
+    let r = at_most;
+    // Each term is at most n < 2^32, so a u64 holds the sum of up to 2^32 terms.
+    let sum: u64 = r
+        .iter()
+        .zip(joint)
+        .map(|(&ri, &m)| u64::from(ri.min(r[m as usize])))
+        .sum();
+    i128::from(sum)
 }
 
 /// T_n(Y, Z | X) for response `y`, columns `z` and conditioning columns `x` (possibly none).

@@ -205,8 +205,16 @@ pub fn run_replicate_shared(
         })
         .collect();
     let boundaries = Boundaries::new(&data, &first.selection);
-    let searches =
-        local_parents_shared(&data, &requests, first.alpha, &first.selection, &boundaries);
+    // A replicate records sets and outcomes only, never the detectable-effect diagnostic, so its
+    // tests stop as soon as their decision is known (the same decisions and sets).
+    let searches = local_parents_shared(
+        &data,
+        &requests,
+        first.alpha,
+        &first.selection,
+        &boundaries,
+        false,
+    );
     studies
         .iter()
         .zip(&requests)

@@ -151,11 +151,12 @@ pub fn local_parents_shared(
     alpha: f64,
     rule: &SelectionRule,
     boundaries: &Boundaries,
+    exhaustive_own: bool,
 ) -> Vec<ParentSearch> {
     use rayon::prelude::*;
     let own: Vec<Arc<Selection>> = requests
         .par_iter()
-        .map(|r| boundaries.selection(data, r.target, &r.candidates, rule, true))
+        .map(|r| boundaries.selection(data, r.target, &r.candidates, rule, exhaustive_own))
         .collect();
     let everything: Vec<usize> = (0..data.names().len()).collect();
     let mut members: Vec<usize> = own
@@ -176,7 +177,17 @@ pub fn local_parents_shared(
     });
     requests
         .par_iter()
-        .map(|r| local_parents_with(data, r.target, &r.candidates, alpha, rule, boundaries))
+        .map(|r| {
+            local_parents_with(
+                data,
+                r.target,
+                &r.candidates,
+                alpha,
+                rule,
+                boundaries,
+                exhaustive_own,
+            )
+        })
         .collect()
 }
 
@@ -245,7 +256,7 @@ mod tests {
             })
             .collect();
         let cache = Boundaries::new(&data, &rule);
-        let shared = local_parents_shared(&data, &requests, 0.05, &rule, &cache);
+        let shared = local_parents_shared(&data, &requests, 0.05, &rule, &cache, true);
         let alone: Vec<ParentSearch> = requests
             .iter()
             .map(|r| crate::search::local_parents(&data, r.target, &r.candidates, 0.05, &rule))

@@ -190,12 +190,17 @@ pub fn local_parents(
         alpha,
         rule,
         &Boundaries::new(data, rule),
+        true,
     )
 }
 
 /// As [`local_parents`], taking every forward selection from `boundaries` (computed there on first
 /// request): several targets searched on the same data share their boundaries, with the same
-/// result as searching each alone.
+/// result as searching each alone. With `exhaustive_own` the target's own selection makes every
+/// draw of its permutation tests, for the critical value of its last step (the detectable-effect
+/// diagnostic); without it the tests stop early and that diagnostic is absent, every decision and
+/// set being the same (`forward::forward_select_both`). Replicates, which record no diagnostics,
+/// pass `false`.
 pub fn local_parents_with(
     data: &SearchData,
     target: usize,
@@ -203,8 +208,10 @@ pub fn local_parents_with(
     alpha: f64,
     rule: &SelectionRule,
     boundaries: &Boundaries,
+    exhaustive_own: bool,
 ) -> ParentSearch {
-    let mb = Selection::clone(&boundaries.selection(data, target, candidates, rule, true));
+    let mb =
+        Selection::clone(&boundaries.selection(data, target, candidates, rule, exhaustive_own));
     let members: Vec<usize> = mb.selected.iter().map(|n| position(data, n)).collect();
     let everything: Vec<usize> = (0..data.names().len()).collect();
     let member_selections: Vec<Selection> = members

@@ -275,8 +275,14 @@ fn full_searches(members: &[&Prepared], progress: &dyn Progress) -> Vec<ParentSe
         data.names().len()
     ));
     let boundaries = Boundaries::new(&data, &first.selection);
-    let searches =
-        local_parents_shared(&data, &requests, first.alpha, &first.selection, &boundaries);
+    let searches = local_parents_shared(
+        &data,
+        &requests,
+        first.alpha,
+        &first.selection,
+        &boundaries,
+        true,
+    );
     for search in &searches {
         progress.say(&crate::analysis::full_data_line(search));
     }

@@ -19,7 +19,7 @@
 //! fixed blocks never repeats and costs O(n).
 
 use super::{check_space, Distinct};
-use crate::rng::uniform_below;
+use crate::rng::uniform_below_u32;
 use rand_core::Rng;
 
 /// A partition of the rows into blocks of nearby rows.
@@ -130,7 +130,7 @@ impl Blocks {
             shuffled.clear();
             shuffled.extend_from_slice(block);
             for i in (1..shuffled.len()).rev() {
-                let j = uniform_below(rng, i as u64 + 1) as usize;
+                let j = uniform_below_u32(rng, i as u32 + 1) as usize;
                 shuffled.swap(i, j);
             }
             for (&row, &from) in block.iter().zip(&shuffled) {
@@ -145,7 +145,7 @@ pub fn random_order(n: usize, rng: &mut impl Rng, order: &mut Vec<u32>) {
     order.clear();
     order.extend(0..n as u32);
     for i in (1..n).rev() {
-        let j = uniform_below(rng, i as u64 + 1) as usize;
+        let j = uniform_below_u32(rng, i as u32 + 1) as usize;
         order.swap(i, j);
     }
 }
@@ -188,7 +188,7 @@ mod tests {
                 (0..n)
                     .map(|_| match levels {
                         0 => crate::rng::standard_normal(&mut rng),
-                        _ => uniform_below(&mut rng, levels) as f64,
+                        _ => crate::rng::uniform_below(&mut rng, levels) as f64,
                     })
                     .collect()
             })
