@@ -245,6 +245,38 @@ impl<T: Copy + Send> Lists<T> {
         &self.items[self.start[u]..self.start[u + 1]]
     }
 
+    /// As [`Lists::build`], filling the lists in the order of `order` (a permutation of `0..m`)
+    /// and joining them in point order: with the leaf order of a kd-tree, consecutive searches
+    /// start from nearby points and walk the same paths of the tree, so they find its nodes in
+    /// cache. Each list is the same whatever the order it is filled in.
+    fn build_in_order(
+        m: usize,
+        order: Option<&[u32]>,
+        fill: impl Fn(usize, &mut Vec<T>) + Sync,
+    ) -> Self
+    where
+        T: Default + Sync,
+    {
+        let Some(order) = order else {
+            return Self::build(m, fill);
+        };
+        debug_assert_eq!(order.len(), m);
+        let filled = Self::build(m, |k, list| fill(order[k] as usize, list));
+        let mut start = vec![0usize; m + 1];
+        for (k, &u) in order.iter().enumerate() {
+            start[u as usize + 1] = filled.start[k + 1] - filled.start[k];
+        }
+        for u in 0..m {
+            start[u + 1] += start[u];
+        }
+        let mut items = vec![T::default(); filled.items.len()];
+        for (k, &u) in order.iter().enumerate() {
+            let list = filled.of(k);
+            items[start[u as usize]..start[u as usize] + list.len()].copy_from_slice(list);
+        }
+        Lists { start, items }
+    }
+
     /// The lists of points `0..m`, each filled by `fill(u, list)` (empty on entry), computed in
     /// parallel chunks and joined in point order.
     fn build(m: usize, fill: impl Fn(usize, &mut Vec<T>) + Sync) -> Self {
@@ -353,6 +385,11 @@ trait PointSearch: Send + Sync {
     /// Appends to `tied` (empty on entry) every other point at the smallest distance from `u`, in
     /// any order.
     fn nearest_points(&self, distinct: &Distinct, u: usize, tied: &mut Vec<u32>);
+
+    /// The order in which to search the points, if another than point order pays.
+    fn search_order(&self) -> Option<Vec<u32>> {
+        None
+    }
 }
 
 /// One dimension: the points are sorted, so the nearest lie next to `u`, and distances grow away
@@ -439,6 +476,14 @@ impl<const K: usize> Tree<K> {
         };
         tree.build(distinct, &mut order);
         tree
+    }
+
+    /// The points leaf by leaf, in the order the tree lays its leaves out.
+    fn leaf_order(&self) -> Vec<u32> {
+        self.blocks
+            .iter()
+            .flat_map(|block| block.ids.iter().copied().filter(|&u| u != u32::MAX))
+            .collect()
     }
 
     fn query(distinct: &Distinct, u: usize) -> [f64; K] {
@@ -575,6 +620,10 @@ impl<const K: usize> PointSearch for Tree<K> {
         };
         self.search(&Self::query(distinct, u), u as u32, &mut nearest);
     }
+
+    fn search_order(&self) -> Option<Vec<u32>> {
+        Some(self.leaf_order())
+    }
 }
 
 /// Searches of a conditioning space S.
@@ -586,6 +635,9 @@ trait BallSearch: Send + Sync {
     /// Offers to `joint` every point of S other than `u` whose distance from `u` in S is within
     /// the joint bound.
     fn continue_joint(&self, distinct: &Distinct, u: usize, joint: &mut Joint);
+
+    /// The order in which to search the points (see [`PointSearch::search_order`]).
+    fn search_order(&self) -> Option<Vec<u32>>;
 }
 
 impl<const K: usize> BallSearch for Tree<K> {
@@ -602,6 +654,10 @@ impl<const K: usize> BallSearch for Tree<K> {
 
     fn continue_joint(&self, distinct: &Distinct, u: usize, joint: &mut Joint) {
         self.search(&Self::query(distinct, u), u as u32, joint);
+    }
+
+    fn search_order(&self) -> Option<Vec<u32>> {
+        Some(self.leaf_order())
     }
 }
 
@@ -704,7 +760,8 @@ impl Neighbourhood {
     fn search(distinct: Distinct, origins: Option<Vec<u32>>) -> Self {
         let search = (distinct.len() >= 2).then(|| point_search(&distinct));
         let origin = |r: u32| origins.as_ref().map_or(r, |o| o[r as usize]);
-        let nearest = Lists::build(distinct.len(), |u, tied| {
+        let order = search.as_ref().and_then(|search| search.search_order());
+        let nearest = Lists::build_in_order(distinct.len(), order.as_deref(), |u, tied| {
             // A point needs a search when none of its rows has a neighbour of another origin there.
             let rows = distinct.rows(u);
             if let Some(search) = &search {
@@ -872,7 +929,8 @@ impl ConditioningSpace {
             return None;
         }
         let search = ball_search(&distinct)?;
-        let lists = Lists::build(distinct.len(), |u, list| {
+        let order = search.search_order();
+        let lists = Lists::build_in_order(distinct.len(), order.as_deref(), |u, list| {
             search.ball(&distinct, u, BALL_SIZE, list);
             list.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
         });
