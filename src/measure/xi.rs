@@ -7,7 +7,7 @@
 //! τ̂² = (a_n − 2b_n + c_n²) / d_n² from the sorted ranks u_i and their partial sums v_i.
 
 use super::coefficient::TargetRanks;
-use super::neighbors::total_order_key;
+use super::neighbors::{equal_key_runs, keyed_order};
 use crate::rng::Key;
 use rand_core::Rng;
 use rayon::prelude::*;
@@ -49,35 +49,21 @@ pub fn xi_test(x: &[f64], y: &[f64], key: &Key) -> Option<XiTest> {
 /// the first draw of their keyed stream, then by row. One parallel sort of (value, row) pairs, then
 /// draws only for the rows that tie: the order of sorting every row by (x, draw, row).
 fn tie_broken_order(x: &[f64], key: &Key) -> Vec<u32> {
-    let n = x.len();
-    assert!(n < u32::MAX as usize, "fewer than u32::MAX rows");
-    let mut keyed: Vec<(u64, u32)> = x
-        .iter()
-        .enumerate()
-        .map(|(i, &v)| (total_order_key(v), i as u32))
-        .collect();
-    keyed.par_sort_unstable();
-    let mut start = 0;
+    let mut keyed = keyed_order(x);
     let mut drawn: Vec<(u64, u32)> = Vec::new();
-    while start < n {
-        let end = start
-            + keyed[start..]
+    let runs: Vec<std::ops::Range<usize>> =
+        equal_key_runs(&keyed).filter(|run| run.len() > 1).collect();
+    for run in runs {
+        drawn.clear();
+        drawn.extend(
+            keyed[run.clone()]
                 .iter()
-                .take_while(|k| k.0 == keyed[start].0)
-                .count();
-        if end - start > 1 {
-            drawn.clear();
-            drawn.extend(
-                keyed[start..end]
-                    .iter()
-                    .map(|&(_, i)| (key.short_stream(u64::from(i)).next_u64(), i)),
-            );
-            drawn.sort_unstable();
-            for (slot, &(_, i)) in keyed[start..end].iter_mut().zip(&drawn) {
-                slot.1 = i;
-            }
+                .map(|&(_, i)| (key.short_stream(u64::from(i)).next_u64(), i)),
+        );
+        drawn.sort_unstable();
+        for (slot, &(_, i)) in keyed[run].iter_mut().zip(&drawn) {
+            slot.1 = i;
         }
-        start = end;
     }
     keyed.into_iter().map(|(_, i)| i).collect()
 }

@@ -198,12 +198,7 @@ impl Distinct {
 /// on it by the others.
 fn sort_rows(columns: &[&[f64]]) -> (Vec<u32>, Vec<bool>) {
     let n = columns[0].len();
-    let mut keyed: Vec<(u64, u32)> = columns[0]
-        .iter()
-        .enumerate()
-        .map(|(row, &v)| (total_order_key(v), row as u32))
-        .collect();
-    keyed.par_sort_unstable();
+    let keyed = keyed_order(columns[0]);
     let rest = &columns[1..];
     let compare_rest = |a: u32, b: u32| {
         rest.iter()
@@ -213,25 +208,46 @@ fn sort_rows(columns: &[&[f64]]) -> (Vec<u32>, Vec<bool>) {
     };
     let mut rows: Vec<u32> = keyed.iter().map(|&(_, row)| row).collect();
     let mut same = vec![false; n];
-    let mut start = 0;
-    while start < n {
-        let end = start
-            + keyed[start..]
-                .iter()
-                .take_while(|k| k.0 == keyed[start].0)
-                .count();
-        if end - start > 1 {
-            let run = &mut rows[start..end];
-            if !rest.is_empty() {
-                run.sort_unstable_by(|&a, &b| compare_rest(a, b).then(a.cmp(&b)));
-            }
-            for k in start + 1..end {
-                same[k] = compare_rest(rows[k - 1], rows[k]).is_eq();
-            }
+    for run in equal_key_runs(&keyed).filter(|run| run.len() > 1) {
+        if !rest.is_empty() {
+            rows[run.clone()].sort_unstable_by(|&a, &b| compare_rest(a, b).then(a.cmp(&b)));
         }
-        start = end;
+        for k in run.start + 1..run.end {
+            same[k] = compare_rest(rows[k - 1], rows[k]).is_eq();
+        }
     }
     (rows, same)
+}
+
+/// (total-order key, row) of every value of `column`, sorted (one parallel sort).
+pub(crate) fn keyed_order(column: &[f64]) -> Vec<(u64, u32)> {
+    assert!(column.len() < u32::MAX as usize, "fewer than u32::MAX rows");
+    let mut keyed: Vec<(u64, u32)> = column
+        .iter()
+        .enumerate()
+        .map(|(row, &v)| (total_order_key(v), row as u32))
+        .collect();
+    keyed.par_sort_unstable();
+    keyed
+}
+
+/// The runs of equal keys in sorted `keyed`, as ranges of positions.
+pub(crate) fn equal_key_runs(
+    keyed: &[(u64, u32)],
+) -> impl Iterator<Item = std::ops::Range<usize>> + '_ {
+    let mut start = 0;
+    std::iter::from_fn(move || {
+        (start < keyed.len()).then(|| {
+            let end = start
+                + keyed[start..]
+                    .iter()
+                    .take_while(|k| k.0 == keyed[start].0)
+                    .count();
+            let run = start..end;
+            start = end;
+            run
+        })
+    })
 }
 
 /// Per-point lists in one flat vector: those of point u are `items[start[u]..start[u + 1]]`.
@@ -255,26 +271,20 @@ impl<T: Copy + Send> Lists<T> {
         fill: impl Fn(usize, &mut Vec<T>) + Sync,
     ) -> Self
     where
-        T: Default + Sync,
+        T: Sync,
     {
         let Some(order) = order else {
             return Self::build(m, fill);
         };
         debug_assert_eq!(order.len(), m);
         let filled = Self::build(m, |k, list| fill(order[k] as usize, list));
-        let mut start = vec![0usize; m + 1];
+        let mut position = vec![0u32; m];
         for (k, &u) in order.iter().enumerate() {
-            start[u as usize + 1] = filled.start[k + 1] - filled.start[k];
+            position[u as usize] = k as u32;
         }
-        for u in 0..m {
-            start[u + 1] += start[u];
-        }
-        let mut items = vec![T::default(); filled.items.len()];
-        for (k, &u) in order.iter().enumerate() {
-            let list = filled.of(k);
-            items[start[u as usize]..start[u as usize] + list.len()].copy_from_slice(list);
-        }
-        Lists { start, items }
+        Self::build(m, |u, list| {
+            list.extend_from_slice(filled.of(position[u] as usize))
+        })
     }
 
     /// The lists of points `0..m`, each filled by `fill(u, list)` (empty on entry), computed in
