@@ -6,9 +6,8 @@
 //! - X non-empty: T_n = Σ(min(R_i, R_M(i)) − min(R_i, R_N(i))) / Σ(R_i − min(R_i, R_N(i)));
 //! - X empty:     T_n = Σ(n·min(R_i, R_M(i)) − L_i²) / Σ L_i(n − L_i).
 
-use super::neighbors::{nearest_neighbours, total_order_key};
+use super::neighbors::{keyed_order, nearest_neighbours};
 use crate::rng::Key;
-use rayon::prelude::*;
 use serde::Serialize;
 
 /// The ranks of the response that every T_n of one search shares.
@@ -23,12 +22,7 @@ impl TargetRanks {
     /// `ranks::at_least_counts`, from one parallel sort.
     pub fn new(y: &[f64]) -> Self {
         let n = y.len();
-        let mut order: Vec<(u64, u32)> = y
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| (total_order_key(v), i as u32))
-            .collect();
-        order.par_sort_unstable();
+        let order = keyed_order(y);
         let mut at_most = vec![0u32; n];
         let mut at_least = vec![0u32; n];
         let mut start = 0;
