@@ -9,7 +9,6 @@ use super::limits::{size_text, MAX_FIELD_BYTES, MAX_RECORD_BYTES};
 use super::signature::{encoding_hint, wide_encoding};
 use super::source::{is_record_too_long, Source};
 use crate::error::{Error, Result};
-use std::collections::BTreeMap;
 
 /// A file read record by record, once, hashing its bytes on the way ([`Source`]).
 pub struct Records {
@@ -284,17 +283,14 @@ fn check_names(names: &[String], file: &str, line: u64, delimiter: Delimiter) ->
             j + 1
         )));
     }
-    let mut seen = BTreeMap::new();
-    for (j, name) in names.iter().enumerate() {
-        if let Some(first) = seen.insert(name.as_str(), j) {
-            return Err(Error::input(format!(
-                "{file}, line {line}: the column name {} appears twice (columns {} and {}); give \
-                 every column its own name",
-                quoted(name),
-                first + 1,
-                j + 1
-            )));
-        }
+    if let Some((first, j)) = super::names::repeated(names) {
+        return Err(Error::input(format!(
+            "{file}, line {line}: the column name {} appears twice (columns {} and {}); give \
+             every column its own name",
+            quoted(&names[j]),
+            first + 1,
+            j + 1
+        )));
     }
     super::names::check(names, file, line)
 }

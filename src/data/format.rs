@@ -11,7 +11,6 @@ use super::load::{LoadOptions, RawTable};
 use super::source::Source;
 use super::{parquet_file, workbook, xpt};
 use crate::error::{Error, Result};
-use std::collections::BTreeMap;
 
 /// The column names and the cells by column (`None`: missing) a binary format's reader returns.
 pub type NamedCells = (Vec<String>, Vec<Vec<Option<f64>>>);
@@ -160,16 +159,14 @@ fn check_names(names: &[String], file: &str) -> Result<()> {
             j + 1
         )));
     }
-    let mut seen = BTreeMap::new();
-    for (j, name) in names.iter().enumerate() {
-        if let Some(first) = seen.insert(name.as_str(), j) {
-            return Err(Error::input(format!(
-                "{file}: the column name '{name}' appears twice (columns {} and {}); give every \
-                 column its own name",
-                first + 1,
-                j + 1
-            )));
-        }
+    if let Some((first, j)) = super::names::repeated(names) {
+        return Err(Error::input(format!(
+            "{file}: the column name '{}' appears twice (columns {} and {}); give every column \
+             its own name",
+            names[j],
+            first + 1,
+            j + 1
+        )));
     }
     super::names::check(names, file, 1)
 }

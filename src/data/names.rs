@@ -19,6 +19,16 @@ use crate::text::{code_point, code_points, escaped, hidden_character};
 use std::collections::BTreeMap;
 use unicode_normalization::UnicodeNormalization;
 
+/// The first name that repeats an earlier one, as (position of the earlier, position of the
+/// repeat).
+pub fn repeated(names: &[String]) -> Option<(usize, usize)> {
+    let mut seen = BTreeMap::new();
+    names
+        .iter()
+        .enumerate()
+        .find_map(|(j, name)| seen.insert(name.as_str(), j).map(|first| (first, j)))
+}
+
 /// Refuses the first name that holds a hidden character, then the first pair of names that look
 /// the same. `names` are the header's names (trimmed, non-empty, distinct as bytes); `line` is the
 /// header's line in `file`.

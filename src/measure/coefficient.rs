@@ -97,7 +97,7 @@ impl TargetRanks {
 
     /// Σ R_i.
     pub fn rank_sum(&self) -> i128 {
-        i128::from(self.at_most.iter().map(|&r| u64::from(r)).sum::<u64>())
+        rank_sum(&self.at_most)
     }
 
     /// Σ L_i².
@@ -182,6 +182,11 @@ impl Ratio {
     pub fn value(&self) -> Option<f64> {
         (self.denominator != 0).then(|| self.numerator as f64 / self.denominator as f64)
     }
+}
+
+/// Σ R_i for ranks R (`at_most`).
+pub fn rank_sum(at_most: &[u32]) -> i128 {
+    i128::from(at_most.iter().map(|&r| u64::from(r)).sum::<u64>())
 }
 
 /// Σ min(R_i, R_M(i)) over the rows for ranks R (`at_most`) and neighbours M (`joint`).

@@ -23,7 +23,7 @@
 //! (`rng::uniform_below_u32`; since forebear-method/6, before which each index took 64 bits and
 //! two divisions): a draw costs about half the stream and no division.
 
-use super::coefficient::{min_rank_sum, TargetRanks};
+use super::coefficient::{min_rank_sum, rank_sum, TargetRanks};
 use super::neighbors::blocks::{random_order, Blocks};
 use crate::rng::Key;
 use rayon::prelude::*;
@@ -210,10 +210,9 @@ fn null_statistic(observed: &Observed, blocks: Option<&Blocks>, key: &Key, b: u3
                 .ranks
                 .permuted_at_most(&source, &mut Vec::new(), &mut at_most);
             let shared = min_rank_sum(&at_most, conditioning);
-            let rank_sum = i128::from(at_most.iter().map(|&r| u64::from(r)).sum::<u64>());
             (
                 best_joint_sum(observed, &at_most) - shared,
-                rank_sum - shared,
+                rank_sum(&at_most) - shared,
             )
         }
     }

@@ -74,9 +74,9 @@ fn null_std(r: &[u32], l: &[u32]) -> Option<f64> {
     // Sorted as integers: the same order as the doubles they convert to exactly.
     let mut sorted = r.to_vec();
     sorted.par_sort_unstable();
-    let u: Vec<f64> = sorted.iter().map(|&v| f64::from(v)).collect();
     let (mut a, mut b, mut c, mut partial) = (0.0, 0.0, 0.0, 0.0);
-    for (k, &ui) in u.iter().enumerate() {
+    for (k, &rank) in sorted.iter().enumerate() {
+        let ui = f64::from(rank);
         let i = (k + 1) as f64;
         partial += ui;
         let weight = 2.0 * n - 2.0 * i + 1.0;
