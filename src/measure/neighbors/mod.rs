@@ -48,8 +48,14 @@ const BALL_SIZE: usize = 16;
 /// of the larger space is often farther than the `BALL_SIZE`-th nearest in the smaller one.
 const MIN_BALL_DIMENSION: usize = 3;
 
-/// Memory allowed for the lists of one conditioning space.
-const MAX_BALL_BYTES: usize = 1 << 27;
+/// Memory allowed for the lists of one conditioning space (2^25 bytes: 2^19 points of `BALL_SIZE`
+/// entries; common practice, set to keep the lists well below the data at large n).
+const MAX_BALL_BYTES: usize = 1 << 25;
+
+thread_local! {
+    /// A search's (distance, point) pairs before only the points are kept.
+    static BALL: std::cell::RefCell<Vec<(f64, u32)>> = const { std::cell::RefCell::new(Vec::new()) };
+}
 
 /// The sort key of a value under IEEE total order (`f64::total_cmp`), as an unsigned integer.
 pub(crate) fn total_order_key(v: f64) -> u64 {
@@ -264,14 +270,15 @@ impl<T: Copy + Send> Lists<T> {
     /// As [`Lists::build`], filling the lists in the order of `order` (a permutation of `0..m`)
     /// and joining them in point order: with the leaf order of a kd-tree, consecutive searches
     /// start from nearby points and walk the same paths of the tree, so they find its nodes in
-    /// cache. Each list is the same whatever the order it is filled in.
+    /// cache. Each list is the same whatever the order it is filled in. The lists are gathered
+    /// straight into their final vector, so at most two copies are ever held.
     fn build_in_order(
         m: usize,
         order: Option<&[u32]>,
         fill: impl Fn(usize, &mut Vec<T>) + Sync,
     ) -> Self
     where
-        T: Sync,
+        T: Sync + Default,
     {
         let Some(order) = order else {
             return Self::build(m, fill);
@@ -282,9 +289,30 @@ impl<T: Copy + Send> Lists<T> {
         for (k, &u) in order.iter().enumerate() {
             position[u as usize] = k as u32;
         }
-        Self::build(m, |u, list| {
-            list.extend_from_slice(filled.of(position[u] as usize))
-        })
+        let mut start = Vec::with_capacity(m + 1);
+        start.push(0);
+        for u in 0..m {
+            let k = position[u] as usize;
+            start.push(start[u] + filled.start[k + 1] - filled.start[k]);
+        }
+        let mut items = vec![T::default(); filled.items.len()];
+        let mut pieces = Vec::with_capacity(m.div_ceil(CHUNK));
+        let mut rest = items.as_mut_slice();
+        for c in 0..m.div_ceil(CHUNK) {
+            let points = c * CHUNK..((c + 1) * CHUNK).min(m);
+            let (piece, tail) = rest.split_at_mut(start[points.end] - start[points.start]);
+            pieces.push((points, piece));
+            rest = tail;
+        }
+        pieces.into_par_iter().for_each(|(points, piece)| {
+            let mut at = 0;
+            for u in points {
+                let list = filled.of(position[u] as usize);
+                piece[at..at + list.len()].copy_from_slice(list);
+                at += list.len();
+            }
+        });
+        Lists { start, items }
     }
 
     /// The lists of points `0..m`, each filled by `fill(u, list)` (empty on entry), computed in
@@ -916,7 +944,9 @@ pub struct ConditioningSpace {
     own: Neighbourhood,
     /// For every point u of S: the other points within the distance of the `BALL_SIZE`-th
     /// nearest, ascending by (distance, point); the list holds every point within `radius[u]`.
-    lists: Lists<(f64, u32)>,
+    /// Distances are not kept: `Distinct::distance` gives them again, bit for bit, from the
+    /// coordinates (4 bytes per entry instead of 16).
+    lists: Lists<u32>,
     radius: Vec<f64>,
     /// The search tree of S, for the points whose list does not reach far enough.
     search: Box<dyn BallSearch>,
@@ -930,7 +960,7 @@ impl ConditioningSpace {
         check_space(columns);
         if !(MIN_BALL_DIMENSION..=MAX_TREE_DIMENSION).contains(&columns.len())
             || columns[0].len() <= BALL_SIZE
-            || columns[0].len() * BALL_SIZE * std::mem::size_of::<(f64, u32)>() > MAX_BALL_BYTES
+            || columns[0].len() * BALL_SIZE * std::mem::size_of::<u32>() > MAX_BALL_BYTES
         {
             return None;
         }
@@ -941,20 +971,31 @@ impl ConditioningSpace {
         let search = ball_search(&distinct)?;
         let order = search.search_order();
         let lists = Lists::build_in_order(distinct.len(), order.as_deref(), |u, list| {
-            search.ball(&distinct, u, BALL_SIZE, list);
-            list.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+            BALL.with_borrow_mut(|found| {
+                found.clear();
+                search.ball(&distinct, u, BALL_SIZE, found);
+                found.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+                list.extend(found.iter().map(|&(_, v)| v));
+            });
         });
         let radius = (0..distinct.len())
-            .map(|u| lists.of(u).last().map_or(f64::INFINITY, |&(d, _)| d))
+            .map(|u| {
+                lists
+                    .of(u)
+                    .last()
+                    .map_or(f64::INFINITY, |&v| distinct.distance(u, v as usize))
+            })
             .collect();
         // The nearest points of S are the head of each list, tied at the first distance.
         let nearest = Lists::build(distinct.len(), |u, tied| {
             let list = lists.of(u);
-            tied.extend(
-                list.iter()
-                    .take_while(|&&(d, _)| d == list[0].0)
-                    .map(|&(_, v)| v),
-            );
+            if let Some(&first) = list.first() {
+                let best = distinct.distance(u, first as usize);
+                tied.extend(
+                    list.iter()
+                        .take_while(|&&v| distinct.distance(u, v as usize) == best),
+                );
+            }
         });
         let own = Neighbourhood {
             distinct,
@@ -1019,7 +1060,8 @@ impl ConditioningSpace {
             nearest,
         };
         collect.offer(0.0, s as u32); // the other rows at u's own point of S
-        for &(in_s, v) in self.lists.of(s) {
+        for &v in self.lists.of(s) {
+            let in_s = within.distance(s, v as usize);
             if in_s > collect.bound() {
                 return; // every later point is at least this far in S alone
             }
