@@ -700,16 +700,28 @@ impl<const K: usize> BallSearch for Tree<K> {
 }
 
 /// The nearest points of one point of S extended by one column, offered points of S with their
-/// distance in S. Every row of an offered point is at that distance plus its last term, summed in
-/// the same order as `distance`, so a point of S farther than the best joint distance in S alone
-/// cannot hold a nearer row.
+/// distance in S. S has no duplicate rows, so S and the extended space have the same points in the
+/// same order (`Distinct::extended` splits no point and keeps the order), and an offered point is
+/// read from the coordinates of the extended space alone: its distance in S plus its last term,
+/// summed in the same order as `distance`. A point of S farther than the best joint distance in S
+/// alone cannot be nearer.
 struct Joint<'a, 'b> {
-    within: &'a Distinct,
-    joint: &'a Distinct,
-    extra: &'a [f64],
-    row: usize,
+    /// Coordinates of the extended space, `dim + 1` per point (those of S, then the extra column).
+    coords: &'a [f64],
+    /// The dimension of S.
+    dim: usize,
+    /// The point searched from.
+    me: u32,
+    /// Its extra coordinate.
     z: f64,
     nearest: Nearest<'b>,
+}
+
+impl Joint<'_, '_> {
+    #[inline(always)]
+    fn point(&self, v: usize) -> &[f64] {
+        &self.coords[v * (self.dim + 1)..(v + 1) * (self.dim + 1)]
+    }
 }
 
 impl Collector for Joint<'_, '_> {
@@ -720,14 +732,11 @@ impl Collector for Joint<'_, '_> {
 
     #[inline(always)]
     fn offer(&mut self, in_s: f64, v: u32) {
-        for &other in self.within.rows(v as usize) {
-            if other as usize != self.row {
-                let t = self.z - normalise_zero(self.extra[other as usize]);
-                let d = in_s + t * t;
-                if d <= self.nearest.best {
-                    self.nearest
-                        .offer(d, self.joint.point_of_row[other as usize]);
-                }
+        if v != self.me {
+            let t = self.z - self.point(v as usize)[self.dim];
+            let d = in_s + t * t;
+            if d <= self.nearest.best {
+                self.nearest.offer(d, v);
             }
         }
     }
@@ -1019,12 +1028,11 @@ impl ConditioningSpace {
     pub fn extended(&self, extra: &[f64]) -> Neighbourhood {
         let within = &self.own.distinct;
         let distinct = within.extended(extra);
+        debug_assert_eq!(distinct.len(), within.len(), "S has no duplicate rows");
         let nearest = Lists::build(distinct.len(), |u, tied| {
-            if distinct.group_len(u) == 1 {
-                self.nearest_points(within, &distinct, extra, u, tied);
-                tied.sort_unstable();
-                tied.dedup();
-            }
+            self.nearest_points(within, &distinct, u, tied);
+            tied.sort_unstable();
+            tied.dedup();
         });
         Neighbourhood {
             distinct,
@@ -1034,43 +1042,32 @@ impl ConditioningSpace {
     }
 
     /// Appends to `tied` the nearest other points (possibly repeated) of point u of `joint`, the
-    /// space S (`within`) extended by `extra` (u has no duplicates): from the list of its point in
-    /// S, then, if that list does not reach far enough, by searching the tree of S.
-    fn nearest_points(
-        &self,
-        within: &Distinct,
-        joint: &Distinct,
-        extra: &[f64],
-        u: usize,
-        tied: &mut Vec<u32>,
-    ) {
-        let row = joint.rows(u)[0] as usize;
-        let s = within.point_of_row[row] as usize;
-        let nearest = Nearest {
-            best: f64::INFINITY,
-            tied,
-        };
-        let z = normalise_zero(extra[row]);
+    /// space S (`within`) extended by one column, whose points are those of S (see [`Joint`]): from
+    /// the list of u in S, then, if that list does not reach far enough, by searching the tree of S.
+    fn nearest_points(&self, within: &Distinct, joint: &Distinct, u: usize, tied: &mut Vec<u32>) {
+        let dim = within.dim;
         let mut collect = Joint {
-            within,
-            joint,
-            extra,
-            row,
-            z,
-            nearest,
+            coords: &joint.coords,
+            dim,
+            me: u as u32,
+            z: joint.point(u)[dim],
+            nearest: Nearest {
+                best: f64::INFINITY,
+                tied,
+            },
         };
-        collect.offer(0.0, s as u32); // the other rows at u's own point of S
-        for &v in self.lists.of(s) {
-            let in_s = within.distance(s, v as usize);
+        let here = &joint.point(u)[..dim];
+        for &v in self.lists.of(u) {
+            let in_s = distance(here, &collect.point(v as usize)[..dim]);
             if in_s > collect.bound() {
                 return; // every later point is at least this far in S alone
             }
             collect.offer(in_s, v);
         }
-        if collect.bound() > self.radius[s] {
+        if collect.bound() > self.radius[u] {
             // Points beyond the list may still be near enough: search S (the listed ones come
             // again, at the same distance, and are removed as repeats).
-            self.search.continue_joint(within, s, &mut collect);
+            self.search.continue_joint(within, u, &mut collect);
         }
     }
 }
@@ -1135,6 +1132,35 @@ mod tests {
                     total_order_key(a).cmp(&total_order_key(b)),
                     a.total_cmp(&b),
                     "{a} vs {b}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn prepared_space_and_its_extensions_tie_exactly_as_brute_force() {
+        // A 3-D integer grid (every row its own point, so the space is prepared) and extra columns
+        // with many ties: on a small scale the lists of S suffice, on a large one the search must
+        // go on in the tree of S. Checked against the definition by brute force.
+        let n = 400;
+        let c0: Vec<f64> = (0..n).map(|i| (i % 7) as f64).collect();
+        let c1: Vec<f64> = (0..n).map(|i| ((i / 7) % 8) as f64).collect();
+        let c2: Vec<f64> = (0..n).map(|i| (i / 56) as f64).collect();
+        let space = ConditioningSpace::prepare(&[&c0, &c1, &c2]).expect("worth preparing");
+        for row in 0..n {
+            assert_eq!(
+                space.neighbourhood().tied_rows(row),
+                brute_force_tied_rows(&[&c0, &c1, &c2], row)
+            );
+        }
+        for scale in [1.0, 10.0, 1000.0] {
+            let extra: Vec<f64> = (0..n).map(|i| ((i * 37) % 11) as f64 * scale).collect();
+            let joint = space.extended(&extra);
+            for row in 0..n {
+                assert_eq!(
+                    joint.tied_rows(row),
+                    brute_force_tied_rows(&[&c0, &c1, &c2, &extra], row),
+                    "scale {scale}, row {row}"
                 );
             }
         }
