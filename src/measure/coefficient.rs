@@ -210,10 +210,18 @@ pub fn conditional_dependence(
     key_x: &Key,
     key_xz: &Key,
 ) -> Ratio {
-    let ranks = TargetRanks::new(y);
-    let conditioning = (!x.is_empty()).then(|| nearest_neighbours(x, key_x));
+    // Three independent parts, run side by side so that the serial stretches of each (grouping
+    // rows into points, building a tree) overlap the others' work.
     let joint_columns: Vec<&[f64]> = x.iter().chain(z).copied().collect();
-    let joint = nearest_neighbours(&joint_columns, key_xz);
+    let (ranks, (conditioning, joint)) = rayon::join(
+        || TargetRanks::new(y),
+        || {
+            rayon::join(
+                || (!x.is_empty()).then(|| nearest_neighbours(x, key_x)),
+                || nearest_neighbours(&joint_columns, key_xz),
+            )
+        },
+    );
     Ratio {
         numerator: ranks.numerator(conditioning.as_deref(), &joint),
         denominator: ranks.denominator(conditioning.as_deref()),
