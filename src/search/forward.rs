@@ -125,16 +125,20 @@ pub fn evaluate_step(
     // The selected columns, prepared once, give the conditioning set's neighbours and, extended by
     // one column, every candidate's: the same as `data.neighbours` on each space (the keys are
     // those `data.neighbours` uses). Spaces it does not pay to prepare are searched afresh.
+    // Otherwise the selected columns' own structure, built once, gives each candidate's space
+    // by extension, without sorting the rows again.
     let prepared = match selected.is_empty() {
         true => None,
         false => ConditioningSpace::prepare(&data.space(selected)),
     };
-    let conditioning = (!selected.is_empty()).then(|| match &prepared {
-        Some(prepared) => prepared
-            .neighbourhood()
-            .choose(&data.neighbour_key(response, selected)),
-        None => data.neighbours(response, selected),
-    });
+    let unprepared =
+        (prepared.is_none() && !selected.is_empty()).then(|| data.neighbourhood(selected));
+    let conditioning = match (&prepared, &unprepared) {
+        (Some(prepared), _) => Some(prepared.neighbourhood()),
+        (None, Some(hood)) => Some(hood),
+        (None, None) => None,
+    }
+    .map(|hood| hood.choose(&data.neighbour_key(response, selected)));
     let denominator = ranks.denominator(conditioning.as_deref());
     if denominator == 0 {
         return None;
@@ -144,12 +148,13 @@ pub fn evaluate_step(
         .map(|&j| {
             let mut space = selected.to_vec();
             space.push(j);
-            let joint = match &prepared {
-                Some(prepared) => prepared
-                    .extended(data.space(&[j])[0])
-                    .choose(&data.neighbour_key(response, &space)),
-                None => data.neighbours(response, &space),
-            };
+            let extra = data.space(&[j])[0];
+            let joint = match (&prepared, &unprepared) {
+                (Some(prepared), _) => prepared.extended(extra),
+                (None, Some(hood)) => hood.extended(extra),
+                (None, None) => data.neighbourhood(&space),
+            }
+            .choose(&data.neighbour_key(response, &space));
             let numerator = ranks.numerator(conditioning.as_deref(), &joint);
             (j, numerator, joint)
         })

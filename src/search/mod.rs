@@ -73,11 +73,16 @@ impl<'a> SearchData<'a> {
     /// Nearest neighbours of every row in the space of `columns`, ties broken under the key of
     /// (`response`, `columns`).
     pub fn neighbours(&self, response: usize, columns: &[usize]) -> Vec<u32> {
-        let key = self.neighbour_key(response, columns);
+        self.neighbourhood(columns)
+            .choose(&self.neighbour_key(response, columns))
+    }
+
+    /// The neighbour structure of the space of `columns`, before any tie is broken.
+    pub fn neighbourhood(&self, columns: &[usize]) -> Neighbourhood {
         let space = self.space(columns);
         match &self.origins {
-            None => Neighbourhood::new(&space).choose(&key),
-            Some(origins) => Neighbourhood::with_origins(&space, origins.clone()).choose(&key),
+            None => Neighbourhood::new(&space),
+            Some(origins) => Neighbourhood::with_origins(&space, origins.clone()),
         }
     }
 

@@ -804,6 +804,18 @@ impl Neighbourhood {
         Self::search(Distinct::new(columns), Some(origins))
     }
 
+    /// The neighbourhood of this space with `extra` as one more, last column, rows of one origin
+    /// kept apart as here: the same as [`Neighbourhood::new`] (or [`Neighbourhood::with_origins`])
+    /// on all the columns, without sorting the rows again (`Distinct::extended`).
+    pub fn extended(&self, extra: &[f64]) -> Self {
+        assert_eq!(
+            extra.len(),
+            self.distinct.point_of_row.len(),
+            "one value per row"
+        );
+        Self::search(self.distinct.extended(extra), self.origins.clone())
+    }
+
     fn search(distinct: Distinct, origins: Option<Vec<u32>>) -> Self {
         let search = (distinct.len() >= 2).then(|| point_search(&distinct));
         let origin = |r: u32| origins.as_ref().map_or(r, |o| o[r as usize]);
@@ -1163,6 +1175,31 @@ mod tests {
                     "scale {scale}, row {row}"
                 );
             }
+        }
+    }
+
+    #[test]
+    fn an_extended_neighbourhood_equals_one_built_on_all_its_columns() {
+        // Duplicate rows, signed zeros and ties in both columns; with and without origins.
+        let x: Vec<f64> = (0..300).map(|i| ((i * 7) % 13) as f64 - 6.0).collect();
+        let mut z: Vec<f64> = (0..300).map(|i| ((i * 11) % 5) as f64).collect();
+        z[3] = -0.0;
+        z[4] = 0.0;
+        let origins: Vec<u32> = (0..300).map(|i| i / 2).collect();
+        for hood_origins in [None, Some(origins)] {
+            let (small, whole) = match &hood_origins {
+                None => (Neighbourhood::new(&[&x]), Neighbourhood::new(&[&x, &z])),
+                Some(o) => (
+                    Neighbourhood::with_origins(&[&x], o.clone()),
+                    Neighbourhood::with_origins(&[&x, &z], o.clone()),
+                ),
+            };
+            let extended = small.extended(&z);
+            for row in 0..300 {
+                assert_eq!(extended.tied_rows(row), whole.tied_rows(row), "row {row}");
+            }
+            let key = Key::new("extended", 1).finish();
+            assert_eq!(extended.choose(&key), whole.choose(&key));
         }
     }
 
