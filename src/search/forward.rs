@@ -124,9 +124,9 @@ pub fn evaluate_step(
 ) -> Option<StepEvaluation> {
     // The selected columns, prepared once, give the conditioning set's neighbours and, extended by
     // one column, every candidate's: the same as `data.neighbours` on each space (the keys are
-    // those `data.neighbours` uses). Spaces it does not pay to prepare are searched afresh.
-    // Otherwise the selected columns' own structure, built once, gives each candidate's space
-    // by extension, without sorting the rows again.
+    // those `data.neighbours` uses). Where preparing does not pay, the selected columns' plain
+    // structure is built once and extended by each candidate instead (no second sort of the
+    // rows); only the first step, with nothing selected, searches each candidate's space afresh.
     let prepared = match selected.is_empty() {
         true => None,
         false => ConditioningSpace::prepare(&data.space(selected)),

@@ -24,6 +24,7 @@
 
 use crate::rng::{uniform_below, Key};
 use rayon::prelude::*;
+use std::sync::Arc;
 
 pub mod blocks;
 
@@ -48,8 +49,10 @@ const BALL_SIZE: usize = 16;
 /// of the larger space is often farther than the `BALL_SIZE`-th nearest in the smaller one.
 const MIN_BALL_DIMENSION: usize = 3;
 
-/// Memory allowed for the lists of one conditioning space (2^25 bytes: 2^19 points of `BALL_SIZE`
-/// entries; common practice, set to keep the lists well below the data at large n).
+/// Memory allowed for the lists of one conditioning space: 2^25 bytes, 2^19 points of `BALL_SIZE`
+/// entries, the same cut-off in points as before the lists dropped their distances. A speed
+/// setting, not a statistical one: without the lists every space is searched afresh, with the
+/// same result.
 const MAX_BALL_BYTES: usize = 1 << 25;
 
 thread_local! {
@@ -701,27 +704,17 @@ impl<const K: usize> BallSearch for Tree<K> {
 
 /// The nearest points of one point of S extended by one column, offered points of S with their
 /// distance in S. S has no duplicate rows, so S and the extended space have the same points in the
-/// same order (`Distinct::extended` splits no point and keeps the order), and an offered point is
-/// read from the coordinates of the extended space alone: its distance in S plus its last term,
-/// summed in the same order as `distance`. A point of S farther than the best joint distance in S
-/// alone cannot be nearer.
+/// same order (one row each), and an offered point's distance in the extended space is its
+/// distance in S plus its last term, summed in the same order as `distance`. A point of S farther
+/// than the best joint distance in S alone cannot be nearer.
 struct Joint<'a, 'b> {
-    /// Coordinates of the extended space, `dim + 1` per point (those of S, then the extra column).
-    coords: &'a [f64],
-    /// The dimension of S.
-    dim: usize,
+    /// The extra coordinate of every point of S.
+    extra: &'a [f64],
     /// The point searched from.
     me: u32,
     /// Its extra coordinate.
     z: f64,
     nearest: Nearest<'b>,
-}
-
-impl Joint<'_, '_> {
-    #[inline(always)]
-    fn point(&self, v: usize) -> &[f64] {
-        &self.coords[v * (self.dim + 1)..(v + 1) * (self.dim + 1)]
-    }
 }
 
 impl Collector for Joint<'_, '_> {
@@ -733,7 +726,7 @@ impl Collector for Joint<'_, '_> {
     #[inline(always)]
     fn offer(&mut self, in_s: f64, v: u32) {
         if v != self.me {
-            let t = self.z - self.point(v as usize)[self.dim];
+            let t = self.z - self.extra[v as usize];
             let d = in_s + t * t;
             if d <= self.nearest.best {
                 self.nearest.offer(d, v);
@@ -771,7 +764,9 @@ fn ball_search(distinct: &Distinct) -> Option<Box<dyn BallSearch>> {
 
 /// The neighbour structure of one space: for every row, the set of rows tied for nearest.
 pub struct Neighbourhood {
-    distinct: Distinct,
+    /// The points and their rows (shared by a prepared space and its extensions, whose points are
+    /// the same).
+    distinct: Arc<Distinct>,
     /// The nearest other points of each point that needs a search, ascending (empty for the
     /// others: their neighbours are rows of other origins at the same point).
     nearest: Lists<u32>,
@@ -831,7 +826,7 @@ impl Neighbourhood {
             }
         });
         Neighbourhood {
-            distinct,
+            distinct: Arc::new(distinct),
             nearest,
             origins,
         }
@@ -1019,7 +1014,7 @@ impl ConditioningSpace {
             }
         });
         let own = Neighbourhood {
-            distinct,
+            distinct: Arc::new(distinct),
             nearest,
             origins: None,
         };
@@ -1036,41 +1031,45 @@ impl ConditioningSpace {
         &self.own
     }
 
-    /// The neighbourhood of S with `extra` as its last column.
+    /// The neighbourhood of S with `extra` as its last column. Its points are those of S, so it
+    /// shares S's points and rows and keeps only its own nearest points.
     pub fn extended(&self, extra: &[f64]) -> Neighbourhood {
         let within = &self.own.distinct;
-        let distinct = within.extended(extra);
-        debug_assert_eq!(distinct.len(), within.len(), "S has no duplicate rows");
-        let nearest = Lists::build(distinct.len(), |u, tied| {
-            self.nearest_points(within, &distinct, u, tied);
+        debug_assert_eq!(within.len(), within.point_of_row.len(), "one row a point");
+        // One row a point, so `sorted_rows[u]` is the row of point u.
+        let extra_at: Vec<f64> = within
+            .sorted_rows
+            .iter()
+            .map(|&row| normalise_zero(extra[row as usize]))
+            .collect();
+        let nearest = Lists::build(within.len(), |u, tied| {
+            self.nearest_points(within, &extra_at, u, tied);
             tied.sort_unstable();
             tied.dedup();
         });
         Neighbourhood {
-            distinct,
+            distinct: Arc::clone(within),
             nearest,
             origins: None,
         }
     }
 
-    /// Appends to `tied` the nearest other points (possibly repeated) of point u of `joint`, the
-    /// space S (`within`) extended by one column, whose points are those of S (see [`Joint`]): from
-    /// the list of u in S, then, if that list does not reach far enough, by searching the tree of S.
-    fn nearest_points(&self, within: &Distinct, joint: &Distinct, u: usize, tied: &mut Vec<u32>) {
-        let dim = within.dim;
+    /// Appends to `tied` the nearest other points (possibly repeated) of point u of S (`within`)
+    /// extended by one column (`extra_at`, by point): from the list of u in S, then, if that list
+    /// does not reach far enough, by searching the tree of S.
+    fn nearest_points(&self, within: &Distinct, extra_at: &[f64], u: usize, tied: &mut Vec<u32>) {
         let mut collect = Joint {
-            coords: &joint.coords,
-            dim,
+            extra: extra_at,
             me: u as u32,
-            z: joint.point(u)[dim],
+            z: extra_at[u],
             nearest: Nearest {
                 best: f64::INFINITY,
                 tied,
             },
         };
-        let here = &joint.point(u)[..dim];
+        let here = within.point(u);
         for &v in self.lists.of(u) {
-            let in_s = distance(here, &collect.point(v as usize)[..dim]);
+            let in_s = distance(here, within.point(v as usize));
             if in_s > collect.bound() {
                 return; // every later point is at least this far in S alone
             }
