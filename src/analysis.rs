@@ -218,25 +218,16 @@ impl Prepared {
     /// The local parent search on the full data (replicate 0 of the keyed draws).
     pub fn full_search(&self, progress: &dyn Progress) -> ParentSearch {
         let data = SearchData::new(&self.table, self.study.scaling, self.study.seed, 0);
-        let target = self
-            .table
-            .index_of(&self.study.target)
-            .expect("target survives preparation");
-        let candidates: Vec<usize> = self
-            .study
-            .candidates
-            .iter()
-            .filter_map(|c| self.table.index_of(c))
-            .collect();
+        let request = self.study.request(&data);
         progress.say(&format!(
             "searching the Markov boundary of '{}' over {} candidates, then each member's",
             self.study.target,
-            candidates.len()
+            request.candidates.len()
         ));
         let search = local_parents(
             &data,
-            target,
-            &candidates,
+            request.target,
+            &request.candidates,
             self.study.alpha,
             &self.study.selection,
         );

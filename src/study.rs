@@ -9,7 +9,7 @@ use crate::error::{Error, Result};
 use crate::measure::Scaling;
 use crate::resample::{PlanKind, ResamplePlan};
 use crate::search::knowledge::Knowledge;
-use crate::search::SelectionRule;
+use crate::search::{SearchData, SelectionRule, TargetRequest};
 use crate::settings::{Key, SettingProblem, Settings, SettingsInput};
 use serde::{Deserialize, Serialize};
 
@@ -173,6 +173,16 @@ impl Study {
             knowledge: self.knowledge.clone(),
             // Document control is a run fact, recorded outside the study (`run.document`).
             document: None,
+        }
+    }
+
+    /// What a search of `data` is asked for this study: its target and its candidates, by
+    /// column position in `data` (candidates left out of the data are dropped).
+    pub fn request(&self, data: &SearchData) -> TargetRequest {
+        let index = |name: &str| data.names().iter().position(|n| n == name);
+        TargetRequest {
+            target: index(&self.target).expect("target survives preparation"),
+            candidates: self.candidates.iter().filter_map(|c| index(c)).collect(),
         }
     }
 

@@ -195,14 +195,7 @@ pub fn run_replicate_shared(
     }
     let requests: Vec<TargetRequest> = studies
         .iter()
-        .map(|(study, _)| TargetRequest {
-            target: sub.index_of(&study.target).expect("target is a column"),
-            candidates: study
-                .candidates
-                .iter()
-                .filter_map(|c| sub.index_of(c))
-                .collect(),
-        })
+        .map(|(study, _)| study.request(&data))
         .collect();
     let boundaries = Boundaries::new(&data, &first.selection);
     // A replicate records sets and outcomes only, never the detectable-effect diagnostic, so its

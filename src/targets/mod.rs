@@ -251,23 +251,11 @@ fn groups(prepared: &[Prepared]) -> Vec<Vec<usize>> {
     groups
 }
 
-fn requests(data: &SearchData, studies: &[&Study]) -> Vec<TargetRequest> {
-    let index = |name: &str| data.names().iter().position(|n| n == name);
-    studies
-        .iter()
-        .map(|s| TargetRequest {
-            target: index(&s.target).expect("target survives preparation"),
-            candidates: s.candidates.iter().filter_map(|c| index(c)).collect(),
-        })
-        .collect()
-}
-
 /// The full-data searches of the targets of one table, sharing their boundaries.
 fn full_searches(members: &[&Prepared], progress: &dyn Progress) -> Vec<ParentSearch> {
     let first = &members[0].study;
     let data = SearchData::new(&members[0].table, first.scaling, first.seed, 0);
-    let studies: Vec<&Study> = members.iter().map(|p| &p.study).collect();
-    let requests = requests(&data, &studies);
+    let requests: Vec<TargetRequest> = members.iter().map(|p| p.study.request(&data)).collect();
     progress.say(&format!(
         "searching the Markov boundaries of {} target(s) over {} columns, each boundary computed \
          once and shared, then each member's",
