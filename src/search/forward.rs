@@ -162,6 +162,12 @@ pub fn evaluate_step(
     // Best first; equal numerators keep candidate order (stable sort).
     scored.sort_by_key(|&(_, numerator, _)| std::cmp::Reverse(numerator));
     let best_num = scored[0].1;
+    // The test needs S's points only (for its blocks): the lists and the tree of a prepared S go
+    // before its draws are made.
+    let points = match (prepared, unprepared) {
+        (Some(prepared), _) => Some(prepared.into_neighbourhood()),
+        (None, hood) => hood,
+    };
     let tests = (rule.is_calibrated() && (best_num > 0 || exhaustive)).then(|| {
         let observed = Observed {
             ranks,
@@ -173,7 +179,7 @@ pub fn evaluate_step(
             numerator: best_num,
             denominator,
         };
-        let blocks = (!selected.is_empty()).then(|| data.permutation_blocks(selected));
+        let blocks = points.map(|hood| data.permutation_blocks_of(hood));
         max_statistic_tests(
             &observed,
             blocks.as_ref(),

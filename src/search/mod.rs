@@ -128,6 +128,13 @@ impl<'a> SearchData<'a> {
         Blocks::new(&self.space(columns), self.block_rows)
     }
 
+    /// The blocks of the local permutation in the space of `hood`, a neighbourhood this data
+    /// built (`neighbourhood`, or a prepared space of `space`): the same as `permutation_blocks`
+    /// on its columns, without sorting the rows again.
+    pub fn permutation_blocks_of(&self, hood: Neighbourhood) -> Blocks {
+        hood.into_blocks(self.block_rows)
+    }
+
     /// The key of the null draws of a permutation test of `response` given the set `columns`:
     /// `purpose` names the test (a selection step, a shrink test, a collider test) and `tested`
     /// the column tested where the set alone does not determine it.

@@ -108,7 +108,8 @@ fn test_member(
     round: usize,
 ) -> ShrinkTest {
     let others: Vec<usize> = selected.iter().copied().filter(|&j| j != member).collect();
-    let conditioning = data.neighbours(response, &others);
+    let hood = data.neighbourhood(&others);
+    let conditioning = hood.choose(&data.neighbour_key(response, &others));
     let denominator = ranks.denominator(Some(&conditioning));
     let numerator = match denominator {
         0 => 0,
@@ -125,7 +126,7 @@ fn test_member(
         };
         max_statistic_test(
             &observed,
-            Some(&data.permutation_blocks(&others)),
+            Some(&data.permutation_blocks_of(hood)),
             &data.permutation_key("shrink", response, &others, Some(member)),
             &rule.test_plan(false),
         )

@@ -34,8 +34,12 @@ impl Blocks {
     /// data allow.
     pub fn new(columns: &[&[f64]], k: usize) -> Blocks {
         check_space(columns);
+        Self::of_points(&Distinct::new(columns), k)
+    }
+
+    /// As [`Blocks::new`] on the columns whose distinct points are `distinct`.
+    pub(super) fn of_points(distinct: &Distinct, k: usize) -> Blocks {
         assert!(k >= 1, "a block holds at least one row");
-        let distinct = Distinct::new(columns);
         let mut blocks = Blocks {
             rows: Vec::with_capacity(distinct.point_of_row.len()),
             start: vec![0],
@@ -43,12 +47,12 @@ impl Blocks {
         let mut sparse: Vec<u32> = Vec::new();
         for u in 0..distinct.len() {
             if distinct.group_len(u) >= k {
-                blocks.push(&distinct, &[u as u32]);
+                blocks.push(distinct, &[u as u32]);
             } else {
                 sparse.push(u as u32);
             }
         }
-        blocks.split(&distinct, &mut sparse, k);
+        blocks.split(distinct, &mut sparse, k);
         blocks
     }
 
@@ -224,6 +228,45 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn blocks_from_a_neighbourhood_or_a_prepared_space_equal_blocks_from_the_columns() {
+        // A search hands its conditioning neighbourhood to the test instead of the columns; the
+        // blocks must be those of the columns (continuous, discrete with duplicate rows, bootstrap
+        // origins, and a prepared space).
+        use crate::measure::neighbors::{ConditioningSpace, Neighbourhood};
+        let as_lists =
+            |b: &Blocks| -> Vec<Vec<u32>> { (0..b.len()).map(|i| b.block(i).to_vec()).collect() };
+        let mut prepared_spaces = 0;
+        for (dim, levels) in [(1, 0), (2, 3), (3, 0), (4, 5), (6, 0)] {
+            let cols = columns(dim, 400, levels, 7 + dim as u64);
+            let refs: Vec<&[f64]> = cols.iter().map(Vec::as_slice).collect();
+            let expected = as_lists(&Blocks::new(&refs, 5));
+            assert_eq!(
+                as_lists(&Neighbourhood::new(&refs).into_blocks(5)),
+                expected,
+                "dim {dim}, levels {levels}"
+            );
+            let origins: Vec<u32> = (0..400).map(|r| r / 2).collect();
+            assert_eq!(
+                as_lists(&Neighbourhood::with_origins(&refs, origins).into_blocks(5)),
+                expected,
+                "dim {dim}, levels {levels}, with origins"
+            );
+            if let Some(prepared) = ConditioningSpace::prepare(&refs) {
+                assert_eq!(
+                    as_lists(&prepared.into_neighbourhood().into_blocks(5)),
+                    expected,
+                    "dim {dim}, prepared"
+                );
+                prepared_spaces += 1;
+            }
+        }
+        assert_eq!(
+            prepared_spaces, 2,
+            "the continuous spaces of 3 and 6 columns are prepared"
+        );
     }
 
     #[test]

@@ -832,6 +832,13 @@ impl Neighbourhood {
         }
     }
 
+    /// The blocks of the local permutation in this space (`blocks::Blocks::new` on its columns,
+    /// from the points already sorted here); the neighbour lists are dropped first.
+    pub fn into_blocks(self, k: usize) -> blocks::Blocks {
+        let Neighbourhood { distinct, .. } = self;
+        blocks::Blocks::of_points(&distinct, k)
+    }
+
     fn origin(&self, row: u32) -> u32 {
         self.origins.as_ref().map_or(row, |o| o[row as usize])
     }
@@ -1029,6 +1036,11 @@ impl ConditioningSpace {
     /// The neighbourhood of S itself.
     pub fn neighbourhood(&self) -> &Neighbourhood {
         &self.own
+    }
+
+    /// The neighbourhood of S itself, without the lists and the tree (which only extensions use).
+    pub fn into_neighbourhood(self) -> Neighbourhood {
+        self.own
     }
 
     /// The neighbourhood of S with `extra` as its last column. Its points are those of S, so it
