@@ -161,8 +161,9 @@ impl Distinct {
         push_coords: impl Fn(usize, &mut Vec<f64>),
     ) -> Distinct {
         let n = sorted_rows.len();
-        let mut coords = Vec::new();
-        let mut group_start = Vec::new();
+        // At most one point per row; the unused part is given back below.
+        let mut coords = Vec::with_capacity(n * dim);
+        let mut group_start = Vec::with_capacity(n + 1);
         let mut point_of_row = vec![0u32; n];
         for (k, &row) in sorted_rows.iter().enumerate() {
             if !same_as_previous[k] {
@@ -172,6 +173,8 @@ impl Distinct {
             point_of_row[row as usize] = (group_start.len() - 1) as u32;
         }
         group_start.push(n as u32);
+        coords.shrink_to_fit();
+        group_start.shrink_to_fit();
         Distinct {
             dim,
             coords,
@@ -511,9 +514,12 @@ impl<const K: usize> Tree<K> {
     fn new(distinct: &Distinct) -> Self {
         let m = distinct.len();
         let mut order: Vec<u32> = (0..m as u32).collect();
+        // Every leaf but the last is full (see `build`): ⌈m / LEAF_SIZE⌉ leaves, one node fewer
+        // inner nodes.
+        let leaves = m.div_ceil(LEAF_SIZE).max(1);
         let mut tree = Tree {
-            nodes: Vec::with_capacity(4 * m / LEAF_SIZE + 1),
-            blocks: Vec::with_capacity(2 * m / LEAF_SIZE + 1),
+            nodes: Vec::with_capacity(2 * leaves - 1),
+            blocks: Vec::with_capacity(leaves),
         };
         tree.build(distinct, &mut order);
         tree
@@ -558,7 +564,10 @@ impl<const K: usize> Tree<K> {
         }
         let axis = widest_axis(distinct, order);
         let coordinate = |u: u32| distinct.coords[u as usize * K + axis];
-        let mid = order.len() / 2;
+        // Near the median, at a whole number of leaves: the left part fills its leaves, so every
+        // leaf of the tree but the last holds `LEAF_SIZE` points (a median cut left leaves of 4 to
+        // 8, each block half empty on average).
+        let mid = order.len().div_ceil(LEAF_SIZE) / 2 * LEAF_SIZE;
         order.select_nth_unstable_by(mid, |&a, &b| coordinate(a).total_cmp(&coordinate(b)));
         let split = coordinate(order[mid]);
         self.nodes.push(Node {
