@@ -59,11 +59,22 @@ pub fn at_least_counts(values: &[f64]) -> Vec<u32> {
 /// twelve dimensions and beyond). Twice the mid-rank is an increasing affine map of the empirical CDF
 /// value with ties averaged, so nearest neighbours are the same as under that CDF scaling.
 pub fn doubled_mid_ranks(values: &[f64]) -> Vec<f64> {
+    doubled_mid_ranks_as(values, |doubled| doubled as f64)
+}
+
+/// [`doubled_mid_ranks`] as 32-bit whole numbers (half the memory, the same values), for fewer
+/// than 2^31 values.
+pub fn doubled_mid_ranks_whole(values: &[f64]) -> Vec<u32> {
+    assert!(values.len() < 1 << 31, "twice the rank fits in 32 bits");
+    doubled_mid_ranks_as(values, |doubled| doubled as u32)
+}
+
+fn doubled_mid_ranks_as<T: Copy + Default>(values: &[f64], convert: impl Fn(usize) -> T) -> Vec<T> {
     let order = order(values);
-    let mut ranks = vec![0.0; values.len()];
+    let mut ranks = vec![T::default(); values.len()];
     for (start, end) in tie_runs(values, &order) {
         // average of 1-based positions start+1 ..= end, doubled: (start + 1 + end)
-        let doubled = (start + 1 + end) as f64;
+        let doubled = convert(start + 1 + end);
         for &i in &order[start..end] {
             ranks[i] = doubled;
         }

@@ -20,8 +20,9 @@ pub use rule::{SelectionRule, StoppingRule};
 
 use crate::data::Table;
 use crate::measure::neighbors::blocks::Blocks;
-use crate::measure::neighbors::Neighbourhood;
+use crate::measure::neighbors::{Column, Neighbourhood};
 use crate::measure::permutation::LOCAL_PERMUTATION_ROWS;
+use crate::measure::scaling::Scaled;
 use crate::measure::Scaling;
 use crate::rng::Key;
 
@@ -29,7 +30,7 @@ use crate::rng::Key;
 /// (for nearest neighbours), by column position.
 pub struct SearchData<'a> {
     table: &'a Table,
-    scaled: Vec<Vec<f64>>,
+    scaled: Vec<Scaled>,
     /// Study seed and replicate number: the coordinates of every keyed draw.
     pub seed: u64,
     /// Replicate number; 0 is the full data.
@@ -44,7 +45,7 @@ impl<'a> SearchData<'a> {
     /// Scales every column of `table` once.
     pub fn new(table: &'a Table, scaling: Scaling, seed: u64, replicate: u64) -> Self {
         let scaled = (0..table.n_cols())
-            .map(|j| scaling.apply(table.column(j)))
+            .map(|j| scaling.scale(table.column(j)))
             .collect();
         SearchData {
             table,
@@ -102,8 +103,8 @@ impl<'a> SearchData<'a> {
     }
 
     /// Scaled values of the columns of a space.
-    pub fn space(&self, columns: &[usize]) -> Vec<&[f64]> {
-        columns.iter().map(|&j| self.scaled[j].as_slice()).collect()
+    pub fn space(&self, columns: &[usize]) -> Vec<Column<'_>> {
+        columns.iter().map(|&j| self.scaled[j].column()).collect()
     }
 
     /// Number of rows.

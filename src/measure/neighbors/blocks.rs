@@ -18,7 +18,7 @@
 //! searching ever wider for an unused row made each draw cost up to O(n²). A permutation within
 //! fixed blocks never repeats and costs O(n).
 
-use super::{check_space, Distinct};
+use super::{as_columns, check_space, Column, Distinct};
 use crate::rng::uniform_below_u32;
 use rand_core::Rng;
 
@@ -32,9 +32,10 @@ pub struct Blocks {
 impl Blocks {
     /// Builds the blocks of the space spanned by `columns`, of at least `k` rows each where the
     /// data allow.
-    pub fn new(columns: &[&[f64]], k: usize) -> Blocks {
-        check_space(columns);
-        Self::of_points(&Distinct::new(columns), k)
+    pub fn new<'c, C: Into<Column<'c>> + Copy>(columns: &[C], k: usize) -> Blocks {
+        let columns = as_columns(columns);
+        check_space(&columns);
+        Self::of_points(&Distinct::new(&columns), k)
     }
 
     /// As [`Blocks::new`] on the columns whose distinct points are `distinct`.

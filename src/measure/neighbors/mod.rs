@@ -66,6 +66,64 @@ pub(crate) fn total_order_key(v: f64) -> u64 {
     ((bits ^ (((bits >> 63) as u64) >> 1) as i64) as u64) ^ (1 << 63)
 }
 
+/// One column of a space as the search reads it: values, or whole numbers held in 32 bits (rank
+/// scaling's doubled mid-ranks, half the memory) and read as the same `f64` values, exactly (every
+/// `u32` is an `f64`). Which of the two holds a column never changes a result.
+#[derive(Clone, Copy, Debug)]
+pub enum Column<'a> {
+    /// Values as they are.
+    Values(&'a [f64]),
+    /// Whole numbers, read as `f64`.
+    Whole(&'a [u32]),
+}
+
+impl Column<'_> {
+    /// The value of `row`.
+    #[inline(always)]
+    pub fn at(self, row: usize) -> f64 {
+        match self {
+            Column::Values(values) => values[row],
+            Column::Whole(whole) => f64::from(whole[row]),
+        }
+    }
+
+    /// Number of rows.
+    pub fn len(self) -> usize {
+        match self {
+            Column::Values(values) => values.len(),
+            Column::Whole(whole) => whole.len(),
+        }
+    }
+
+    /// Whether there are no rows.
+    pub fn is_empty(self) -> bool {
+        self.len() == 0
+    }
+}
+
+impl<'a> From<&'a [f64]> for Column<'a> {
+    fn from(values: &'a [f64]) -> Self {
+        Column::Values(values)
+    }
+}
+
+impl<'a> From<&'a Vec<f64>> for Column<'a> {
+    fn from(values: &'a Vec<f64>) -> Self {
+        Column::Values(values)
+    }
+}
+
+impl<'a, const N: usize> From<&'a [f64; N]> for Column<'a> {
+    fn from(values: &'a [f64; N]) -> Self {
+        Column::Values(values)
+    }
+}
+
+/// The columns of a space, each read through [`Column`].
+fn as_columns<'c, C: Into<Column<'c>> + Copy>(columns: &[C]) -> Vec<Column<'c>> {
+    columns.iter().map(|&c| c.into()).collect()
+}
+
 /// The squared Euclidean distance, summed in coordinate order: the one definition every exact
 /// comparison uses.
 #[inline(always)]
@@ -99,7 +157,7 @@ struct Distinct {
 }
 
 impl Distinct {
-    fn new(columns: &[&[f64]]) -> Self {
+    fn new(columns: &[Column]) -> Self {
         let n = columns[0].len();
         assert!(n < u32::MAX as usize, "fewer than u32::MAX rows");
         let (sorted_rows, same_as_previous) = sort_rows(columns);
@@ -108,7 +166,7 @@ impl Distinct {
             sorted_rows,
             &same_as_previous,
             |row, coords| {
-                coords.extend(columns.iter().map(|c| normalise_zero(c[row])));
+                coords.extend(columns.iter().map(|c| normalise_zero(c.at(row))));
             },
         )
     }
@@ -116,7 +174,7 @@ impl Distinct {
     /// The distinct points of this space with `extra` as one more, last column: the same as
     /// `Distinct::new` on all the columns, without sorting again (only the rows sharing a point
     /// here need ordering by the new column).
-    fn extended(&self, extra: &[f64]) -> Distinct {
+    fn extended(&self, extra: Column) -> Distinct {
         let n = self.point_of_row.len();
         let mut sorted_rows = Vec::with_capacity(n);
         let mut same_as_previous = Vec::with_capacity(n);
@@ -131,7 +189,7 @@ impl Distinct {
                     keyed.clear();
                     keyed.extend(
                         rows.iter()
-                            .map(|&row| (total_order_key(extra[row as usize]), row)),
+                            .map(|&row| (total_order_key(extra.at(row as usize)), row)),
                     );
                     keyed.sort_unstable();
                     for (k, &(key, row)) in keyed.iter().enumerate() {
@@ -147,7 +205,7 @@ impl Distinct {
             &same_as_previous,
             |row, coords| {
                 coords.extend_from_slice(self.point(self.point_of_row[row] as usize));
-                coords.push(normalise_zero(extra[row]));
+                coords.push(normalise_zero(extra.at(row)));
             },
         )
     }
@@ -208,13 +266,13 @@ impl Distinct {
 /// Rows in lexicographic order of their coordinates under IEEE total order (ties by row), and
 /// whether each sorted row equals its predecessor. Sorted by the first column, then runs that agree
 /// on it by the others.
-fn sort_rows(columns: &[&[f64]]) -> (Vec<u32>, Vec<bool>) {
+fn sort_rows(columns: &[Column]) -> (Vec<u32>, Vec<bool>) {
     let n = columns[0].len();
-    let keyed = keyed_order(columns[0]);
+    let keyed = keyed_order_of(columns[0]);
     let rest = &columns[1..];
     let compare_rest = |a: u32, b: u32| {
         rest.iter()
-            .map(|c| c[a as usize].total_cmp(&c[b as usize]))
+            .map(|c| c.at(a as usize).total_cmp(&c.at(b as usize)))
             .find(|o| o.is_ne())
             .unwrap_or(std::cmp::Ordering::Equal)
     };
@@ -233,11 +291,14 @@ fn sort_rows(columns: &[&[f64]]) -> (Vec<u32>, Vec<bool>) {
 
 /// (total-order key, row) of every value of `column`, sorted (one parallel sort).
 pub(crate) fn keyed_order(column: &[f64]) -> Vec<(u64, u32)> {
+    keyed_order_of(Column::Values(column))
+}
+
+/// [`keyed_order`] of a column read through [`Column`].
+fn keyed_order_of(column: Column) -> Vec<(u64, u32)> {
     assert!(column.len() < u32::MAX as usize, "fewer than u32::MAX rows");
-    let mut keyed: Vec<(u64, u32)> = column
-        .iter()
-        .enumerate()
-        .map(|(row, &v)| (total_order_key(v), row as u32))
+    let mut keyed: Vec<(u64, u32)> = (0..column.len())
+        .map(|row| (total_order_key(column.at(row)), row as u32))
         .collect();
     keyed.par_sort_unstable();
     keyed
@@ -794,24 +855,27 @@ enum Tied<'a> {
 
 impl Neighbourhood {
     /// Builds the structure for the space spanned by `columns` (equal lengths, at least 2 rows).
-    pub fn new(columns: &[&[f64]]) -> Self {
-        check_space(columns);
-        Self::search(Distinct::new(columns), None)
+    pub fn new<'c, C: Into<Column<'c>> + Copy>(columns: &[C]) -> Self {
+        let columns = as_columns(columns);
+        check_space(&columns);
+        Self::search(Distinct::new(&columns), None)
     }
 
     /// As [`Neighbourhood::new`], but rows sharing an entry of `origins` (copies of one original
     /// row in a bootstrap replicate) are never each other's neighbour: a copy at distance zero would
     /// fake perfect dependence. At least two distinct origins are needed.
-    pub fn with_origins(columns: &[&[f64]], origins: Vec<u32>) -> Self {
-        check_space(columns);
+    pub fn with_origins<'c, C: Into<Column<'c>> + Copy>(columns: &[C], origins: Vec<u32>) -> Self {
+        let columns = as_columns(columns);
+        check_space(&columns);
         assert_eq!(origins.len(), columns[0].len(), "one origin per row");
-        Self::search(Distinct::new(columns), Some(origins))
+        Self::search(Distinct::new(&columns), Some(origins))
     }
 
     /// The neighbourhood of this space with `extra` as one more, last column, rows of one origin
     /// kept apart as here: the same as [`Neighbourhood::new`] (or [`Neighbourhood::with_origins`])
     /// on all the columns, without sorting the rows again (`Distinct::extended`).
-    pub fn extended(&self, extra: &[f64]) -> Self {
+    pub fn extended<'c>(&self, extra: impl Into<Column<'c>>) -> Self {
+        let extra = extra.into();
         assert_eq!(
             extra.len(),
             self.distinct.point_of_row.len(),
@@ -956,7 +1020,7 @@ impl Neighbourhood {
     }
 }
 
-fn check_space(columns: &[&[f64]]) {
+fn check_space(columns: &[Column]) {
     assert!(
         !columns.is_empty(),
         "a neighbour search needs at least one column"
@@ -988,15 +1052,16 @@ impl ConditioningSpace {
     /// Prepares the space spanned by `columns` (equal lengths, at least 2 rows), or `None` when
     /// that does not pay (fewer than `MIN_BALL_DIMENSION` or more than `MAX_TREE_DIMENSION`
     /// columns, few rows, duplicate rows, or lists too large): then search each space afresh.
-    pub fn prepare(columns: &[&[f64]]) -> Option<Self> {
-        check_space(columns);
+    pub fn prepare<'c, C: Into<Column<'c>> + Copy>(columns: &[C]) -> Option<Self> {
+        let columns = as_columns(columns);
+        check_space(&columns);
         if !(MIN_BALL_DIMENSION..=MAX_TREE_DIMENSION).contains(&columns.len())
             || columns[0].len() <= BALL_SIZE
             || columns[0].len() * BALL_SIZE * std::mem::size_of::<u32>() > MAX_BALL_BYTES
         {
             return None;
         }
-        let distinct = Distinct::new(columns);
+        let distinct = Distinct::new(&columns);
         if distinct.len() < columns[0].len() {
             return None;
         }
@@ -1054,14 +1119,15 @@ impl ConditioningSpace {
 
     /// The neighbourhood of S with `extra` as its last column. Its points are those of S, so it
     /// shares S's points and rows and keeps only its own nearest points.
-    pub fn extended(&self, extra: &[f64]) -> Neighbourhood {
+    pub fn extended<'c>(&self, extra: impl Into<Column<'c>>) -> Neighbourhood {
+        let extra = extra.into();
         let within = &self.own.distinct;
         debug_assert_eq!(within.len(), within.point_of_row.len(), "one row a point");
         // One row a point, so `sorted_rows[u]` is the row of point u.
         let extra_at: Vec<f64> = within
             .sorted_rows
             .iter()
-            .map(|&row| normalise_zero(extra[row as usize]))
+            .map(|&row| normalise_zero(extra.at(row as usize)))
             .collect();
         let nearest = Lists::build(within.len(), |u, tied| {
             self.nearest_points(within, &extra_at, u, tied);
@@ -1167,6 +1233,71 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn whole_number_columns_give_what_the_same_values_give() {
+        // Rank scaling keeps doubled mid-ranks as u32 (`Column::Whole`); every structure built
+        // from them must equal the one built from the same numbers as f64: plain spaces with
+        // duplicate rows (with and without origins), a prepared space and its extensions, blocks.
+        use crate::measure::ranks::{doubled_mid_ranks, doubled_mid_ranks_whole};
+        let n = 500;
+        let key = Key::new("whole-columns", 3).finish();
+        let raw: Vec<Vec<f64>> = (0..4)
+            .map(|c| {
+                let mut rng = key.stream(c);
+                (0..n)
+                    .map(|_| match c {
+                        0 => crate::rng::uniform_below(&mut rng, 9) as f64,
+                        _ => crate::rng::standard_normal(&mut rng),
+                    })
+                    .collect()
+            })
+            .collect();
+        let values: Vec<Vec<f64>> = raw.iter().map(|c| doubled_mid_ranks(c)).collect();
+        let whole: Vec<Vec<u32>> = raw.iter().map(|c| doubled_mid_ranks_whole(c)).collect();
+        let as_values: Vec<Column> = values.iter().map(|c| Column::Values(c)).collect();
+        let as_whole: Vec<Column> = whole.iter().map(|c| Column::Whole(c)).collect();
+        let choose = |hood: &Neighbourhood| hood.choose(&key);
+        // Column 0 has 9 levels: duplicate rows in the spaces that hold it.
+        for columns in [&[0][..], &[0, 1], &[1, 2, 3], &[0, 2]] {
+            let v: Vec<Column> = columns.iter().map(|&j| as_values[j]).collect();
+            let w: Vec<Column> = columns.iter().map(|&j| as_whole[j]).collect();
+            assert_eq!(
+                choose(&Neighbourhood::new(&w)),
+                choose(&Neighbourhood::new(&v)),
+                "{columns:?}"
+            );
+            let origins: Vec<u32> = (0..n as u32).map(|r| r / 3).collect();
+            assert_eq!(
+                choose(&Neighbourhood::with_origins(&w, origins.clone())),
+                choose(&Neighbourhood::with_origins(&v, origins)),
+                "{columns:?}, with origins"
+            );
+            let extra = if columns.contains(&3) { 0 } else { 3 };
+            assert_eq!(
+                choose(&Neighbourhood::new(&w).extended(as_whole[extra])),
+                choose(&Neighbourhood::new(&v).extended(as_values[extra])),
+                "{columns:?} extended"
+            );
+            let blocks = |b: &blocks::Blocks| -> Vec<Vec<u32>> {
+                (0..b.len()).map(|i| b.block(i).to_vec()).collect()
+            };
+            assert_eq!(
+                blocks(&blocks::Blocks::new(&w, 5)),
+                blocks(&blocks::Blocks::new(&v, 5))
+            );
+        }
+        let prepared_w = ConditioningSpace::prepare(&as_whole[1..]).expect("worth preparing");
+        let prepared_v = ConditioningSpace::prepare(&as_values[1..]).expect("worth preparing");
+        assert_eq!(
+            choose(prepared_w.neighbourhood()),
+            choose(prepared_v.neighbourhood())
+        );
+        assert_eq!(
+            choose(&prepared_w.extended(as_whole[0])),
+            choose(&prepared_v.extended(as_values[0]))
+        );
     }
 
     #[test]
