@@ -323,15 +323,16 @@ pub(crate) fn equal_key_runs(
     })
 }
 
-/// Per-point lists in one flat vector: those of point u are `items[start[u]..start[u + 1]]`.
+/// Per-point lists in one flat vector: those of point u are `items[start[u]..start[u + 1]]`
+/// (fewer than 2^32 items in all: positions in 4 bytes).
 struct Lists<T> {
-    start: Vec<usize>,
+    start: Vec<u32>,
     items: Vec<T>,
 }
 
 impl<T: Copy + Send> Lists<T> {
     fn of(&self, u: usize) -> &[T] {
-        &self.items[self.start[u]..self.start[u + 1]]
+        &self.items[self.start[u] as usize..self.start[u + 1] as usize]
     }
 
     /// As [`Lists::build`], filling the lists in the order of `order` (a permutation of `0..m`)
@@ -367,7 +368,8 @@ impl<T: Copy + Send> Lists<T> {
         let mut rest = items.as_mut_slice();
         for c in 0..m.div_ceil(CHUNK) {
             let points = c * CHUNK..((c + 1) * CHUNK).min(m);
-            let (piece, tail) = rest.split_at_mut(start[points.end] - start[points.start]);
+            let (piece, tail) =
+                rest.split_at_mut((start[points.end] - start[points.start]) as usize);
             pieces.push((points, piece));
             rest = tail;
         }
@@ -401,12 +403,14 @@ impl<T: Copy + Send> Lists<T> {
                 (lengths, items)
             })
             .collect();
+        let total: usize = chunks.iter().map(|c| c.1.len()).sum();
+        assert!(total < u32::MAX as usize, "fewer than 2^32 list entries");
         let mut start = Vec::with_capacity(m + 1);
-        let mut items = Vec::with_capacity(chunks.iter().map(|c| c.1.len()).sum());
-        start.push(0);
+        let mut items = Vec::with_capacity(total);
+        start.push(0u32);
         for (lengths, chunk_items) in chunks {
             for length in lengths {
-                start.push(start[start.len() - 1] + length as usize);
+                start.push(start[start.len() - 1] + length);
             }
             items.extend_from_slice(&chunk_items);
         }
@@ -1039,11 +1043,10 @@ fn check_space(columns: &[Column]) {
 pub struct ConditioningSpace {
     own: Neighbourhood,
     /// For every point u of S: the other points within the distance of the `BALL_SIZE`-th
-    /// nearest, ascending by (distance, point); the list holds every point within `radius[u]`.
-    /// Distances are not kept: `Distinct::distance` gives them again, bit for bit, from the
-    /// coordinates (4 bytes per entry instead of 16).
+    /// nearest, ascending by (distance, point); the list holds every point within the distance of
+    /// its last entry. Distances are not kept: `Distinct::distance` gives them again, bit for bit,
+    /// from the coordinates (4 bytes per entry instead of 16).
     lists: Lists<u32>,
-    radius: Vec<f64>,
     /// The search tree of S, for the points whose list does not reach far enough.
     search: Box<dyn BallSearch>,
 }
@@ -1075,14 +1078,6 @@ impl ConditioningSpace {
                 list.extend(found.iter().map(|&(_, v)| v));
             });
         });
-        let radius = (0..distinct.len())
-            .map(|u| {
-                lists
-                    .of(u)
-                    .last()
-                    .map_or(f64::INFINITY, |&v| distinct.distance(u, v as usize))
-            })
-            .collect();
         // The nearest points of S are the head of each list, tied at the first distance.
         let nearest = Lists::build(distinct.len(), |u, tied| {
             let list = lists.of(u);
@@ -1099,12 +1094,7 @@ impl ConditioningSpace {
             nearest,
             origins: None,
         };
-        Some(ConditioningSpace {
-            own,
-            lists,
-            radius,
-            search,
-        })
+        Some(ConditioningSpace { own, lists, search })
     }
 
     /// The neighbourhood of S itself.
@@ -1155,14 +1145,17 @@ impl ConditioningSpace {
             },
         };
         let here = within.point(u);
+        // The list holds every point within the distance of its last entry (none: no other point).
+        let mut radius = f64::INFINITY;
         for &v in self.lists.of(u) {
             let in_s = distance(here, within.point(v as usize));
             if in_s > collect.bound() {
                 return; // every later point is at least this far in S alone
             }
             collect.offer(in_s, v);
+            radius = in_s;
         }
-        if collect.bound() > self.radius[u] {
+        if collect.bound() > radius {
             // Points beyond the list may still be near enough: search S (the listed ones come
             // again, at the same distance, and are removed as repeats).
             self.search.continue_joint(within, u, &mut collect);
