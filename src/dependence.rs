@@ -186,7 +186,10 @@ fn statistic_and_test(
     let xz: Vec<usize> = x.iter().chain(z).copied().collect();
     // The neighbours and keys of `conditional_dependence`, kept for the permutation test.
     let ranks = TargetRanks::new(data.raw(y));
-    let conditioning = (!x.is_empty()).then(|| data.neighbours(y, x));
+    let of_x = (!x.is_empty()).then(|| data.neighbourhood(x));
+    let conditioning = of_x
+        .as_ref()
+        .map(|hood| hood.choose(&data.neighbour_key(y, x)));
     let joint = data.neighbours(y, &xz);
     let ratio = Ratio {
         numerator: ranks.numerator(conditioning.as_deref(), &joint),
@@ -202,7 +205,7 @@ fn statistic_and_test(
             numerator: ratio.numerator,
             denominator: ratio.denominator,
         };
-        let blocks = (!x.is_empty()).then(|| data.permutation_blocks(x));
+        let blocks = of_x.map(|hood| data.permutation_blocks_of(hood));
         let plan = TestPlan {
             max_permutations: permutations,
             alpha: DEFAULT_SELECTION_ALPHA,

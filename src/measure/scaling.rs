@@ -56,6 +56,17 @@ impl Scaling {
             Scaling::None => values.to_vec(),
         }
     }
+
+    /// Applies the scaling to one column and keeps the result compactly: read through
+    /// [`Scaled::column`], the values of [`Scaling::apply`].
+    pub fn scale(self, values: &[f64]) -> Scaled {
+        match self {
+            Scaling::Rank if values.len() < 1 << 31 => {
+                Scaled::Whole(doubled_mid_ranks_whole(values))
+            }
+            _ => Scaled::Values(self.apply(values)),
+        }
+    }
 }
 
 /// A scaled column as a search keeps it for the whole run: rank scaling's doubled mid-ranks as
@@ -74,19 +85,6 @@ impl Scaled {
         match self {
             Scaled::Values(values) => Column::Values(values),
             Scaled::Whole(whole) => Column::Whole(whole),
-        }
-    }
-}
-
-impl Scaling {
-    /// Applies the scaling to one column and keeps the result compactly: read through
-    /// [`Scaled::column`], the values of [`Scaling::apply`].
-    pub fn scale(self, values: &[f64]) -> Scaled {
-        match self {
-            Scaling::Rank if values.len() < 1 << 31 => {
-                Scaled::Whole(doubled_mid_ranks_whole(values))
-            }
-            _ => Scaled::Values(self.apply(values)),
         }
     }
 }

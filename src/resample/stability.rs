@@ -260,8 +260,17 @@ fn trace_values_on(data: &SearchData, target: usize, full_trace: &[Step]) -> Vec
             let x: Vec<usize> = step.conditioning.iter().map(|c| index(c)).collect();
             let mut xz = x.clone();
             xz.push(index(chosen));
-            let conditioning = (!x.is_empty()).then(|| data.neighbours(target, &x));
-            let joint = data.neighbours(target, &xz);
+            // X's structure, built once, gives its neighbours and, extended by the chosen column,
+            // those of (X, chosen) without sorting the rows again.
+            let of_x = (!x.is_empty()).then(|| data.neighbourhood(&x));
+            let conditioning = of_x
+                .as_ref()
+                .map(|hood| hood.choose(&data.neighbour_key(target, &x)));
+            let joint = match &of_x {
+                Some(hood) => hood.extended(data.space(&[index(chosen)])[0]),
+                None => data.neighbourhood(&xz),
+            }
+            .choose(&data.neighbour_key(target, &xz));
             Ratio {
                 numerator: ranks.numerator(conditioning.as_deref(), &joint),
                 denominator: ranks.denominator(conditioning.as_deref()),

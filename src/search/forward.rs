@@ -8,7 +8,7 @@
 use super::rule::SelectionRule;
 use super::shrink::{shrink, ShrinkTest};
 use super::SearchData;
-use crate::measure::neighbors::ConditioningSpace;
+use crate::measure::neighbors::{Column, ConditioningSpace, Neighbourhood};
 use crate::measure::permutation::{max_statistic_tests, Observed, PermutationTest};
 use crate::measure::TargetRanks;
 use rayon::prelude::*;
@@ -127,18 +127,11 @@ pub fn evaluate_step(
     // those `data.neighbours` uses). Where preparing does not pay, the selected columns' plain
     // structure is built once and extended by each candidate instead (no second sort of the
     // rows); only the first step, with nothing selected, searches each candidate's space afresh.
-    let prepared = match selected.is_empty() {
-        true => None,
-        false => ConditioningSpace::prepare(&data.space(selected)),
-    };
-    let unprepared =
-        (prepared.is_none() && !selected.is_empty()).then(|| data.neighbourhood(selected));
-    let conditioning = match (&prepared, &unprepared) {
-        (Some(prepared), _) => Some(prepared.neighbourhood()),
-        (None, Some(hood)) => Some(hood),
-        (None, None) => None,
-    }
-    .map(|hood| hood.choose(&data.neighbour_key(response, selected)));
+    let of_selected = Selected::of(data, selected);
+    let conditioning = of_selected.as_ref().map(|s| {
+        s.neighbourhood()
+            .choose(&data.neighbour_key(response, selected))
+    });
     let denominator = ranks.denominator(conditioning.as_deref());
     if denominator == 0 {
         return None;
@@ -149,10 +142,9 @@ pub fn evaluate_step(
             let mut space = selected.to_vec();
             space.push(j);
             let extra = data.space(&[j])[0];
-            let joint = match (&prepared, &unprepared) {
-                (Some(prepared), _) => prepared.extended(extra),
-                (None, Some(hood)) => hood.extended(extra),
-                (None, None) => data.neighbourhood(&space),
+            let joint = match &of_selected {
+                Some(s) => s.extended(extra),
+                None => data.neighbourhood(&space),
             }
             .choose(&data.neighbour_key(response, &space));
             let numerator = ranks.numerator(conditioning.as_deref(), &joint);
@@ -164,10 +156,7 @@ pub fn evaluate_step(
     let best_num = scored[0].1;
     // The test needs S's points only (for its blocks): the lists and the tree of a prepared S go
     // before its draws are made.
-    let points = match (prepared, unprepared) {
-        (Some(prepared), _) => Some(prepared.into_neighbourhood()),
-        (None, hood) => hood,
-    };
+    let points = of_selected.map(Selected::into_neighbourhood);
     let tests = (rule.is_calibrated() && (best_num > 0 || exhaustive)).then(|| {
         let observed = Observed {
             ranks,
@@ -198,6 +187,51 @@ pub fn evaluate_step(
         test,
         early_test,
     })
+}
+
+/// The structure of the selected columns S that a step builds once and extends by each candidate.
+enum Selected {
+    /// Prepared: lists of nearby points and a tree (`ConditioningSpace`).
+    Prepared(ConditioningSpace),
+    /// Plain, where preparing does not pay (one or two columns, duplicate rows, many columns).
+    Plain(Neighbourhood),
+}
+
+impl Selected {
+    /// The structure of `selected`; `None` when nothing is selected.
+    fn of(data: &SearchData, selected: &[usize]) -> Option<Selected> {
+        if selected.is_empty() {
+            return None;
+        }
+        Some(match ConditioningSpace::prepare(&data.space(selected)) {
+            Some(prepared) => Selected::Prepared(prepared),
+            None => Selected::Plain(data.neighbourhood(selected)),
+        })
+    }
+
+    /// The neighbourhood of S itself.
+    fn neighbourhood(&self) -> &Neighbourhood {
+        match self {
+            Selected::Prepared(prepared) => prepared.neighbourhood(),
+            Selected::Plain(hood) => hood,
+        }
+    }
+
+    /// The neighbourhood of S with `extra` as its last column.
+    fn extended(&self, extra: Column) -> Neighbourhood {
+        match self {
+            Selected::Prepared(prepared) => prepared.extended(extra),
+            Selected::Plain(hood) => hood.extended(extra),
+        }
+    }
+
+    /// S's points and rows alone (a prepared S's lists and tree are dropped).
+    fn into_neighbourhood(self) -> Neighbourhood {
+        match self {
+            Selected::Prepared(prepared) => prepared.into_neighbourhood(),
+            Selected::Plain(hood) => hood,
+        }
+    }
 }
 
 /// Runs forward selection for `response` over `candidates` (column positions) under `rule`. With

@@ -124,14 +124,9 @@ impl<'a> SearchData<'a> {
             .finish()
     }
 
-    /// The blocks of the local permutation in the space of `columns` (non-empty).
-    pub fn permutation_blocks(&self, columns: &[usize]) -> Blocks {
-        Blocks::new(&self.space(columns), self.block_rows)
-    }
-
     /// The blocks of the local permutation in the space of `hood`, a neighbourhood this data
-    /// built (`neighbourhood`, or a prepared space of `space`): the same as `permutation_blocks`
-    /// on its columns, without sorting the rows again.
+    /// built (`neighbourhood`, or a prepared space of `space`): `Blocks::new` on its columns with
+    /// this data's rows per block, without sorting the rows again.
     pub fn permutation_blocks_of(&self, hood: Neighbourhood) -> Blocks {
         hood.into_blocks(self.block_rows)
     }
